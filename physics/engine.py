@@ -1,0 +1,689 @@
+"""The step loop: one compiled kernel that runs every variant of a batch.
+
+State per variant is explicit scalars inside the kernel; the shared, state-
+independent parts of the beat come from physics.beat. Fixed step dt. Modes:
+
+- PLANTED: feet (or knees, or body) stuck to the roof; the whole-body lean is
+  an inverted pendulum about the pivot, balanced by a delayed, bounded centre
+  of pressure (the ankle strategy) around an anticipatory lean.
+- SLIDING: the contact slides on the roof under kinetic friction.
+- FLIGHT: a rigid posture under gravity and quadratic drag (RK4).
+- DOWN: after a topple the body falls over without control and then lies.
+- GONE: fallen off the consist or struck; nothing more is simulated.
+
+Forces: gravity, aerodynamic (cross-flow principle per segment, plus end-on
+terms for blunt segments), the pseudo-force -m dV/dt of the car frame, and the
+ground reaction. Apparent wind on a part = ambient wind - the part's ground
+velocity. References: see DESIGN.md section 3 and the docstrings below.
+"""
+
+from __future__ import annotations
+
+import math
+
+import numpy as np
+from numba import njit, prange
+
+from physics import G
+
+PLANTED, SLIDING, FLIGHT, DOWN, GONE = 0, 1, 2, 3, 4
+EVENT_KINDS = ("slip", "topple", "lift", "fall", "strike", "line", "hard landing", "recovery step")
+EV_SLIP, EV_TOPPLE, EV_LIFT, EV_FALL, EV_STRIKE, EV_LINE, EV_HARD, EV_STEP = range(8)
+MARGIN_KEYS = ("grip_ratio_min", "balance_margin_min_m", "lift_ratio_min", "lean_max_deg",
+               "apparent_wind_max_ms", "drag_max_n", "landing_margin_min_m", "clearance_min_m", "steps",
+               "grip_demand_max")
+M_GRIP, M_BAL, M_LIFT, M_LEAN, M_WIND, M_DRAG, M_LAND, M_CLEAR, M_STEPS, M_DEMAND = range(10)
+EVENT_FIELDS = 6  # time, x car frame, car index, demand, available, x ground frame
+REC_FIELDS = ("t", "mode", "pivot_x", "roof_z", "lean", "com_x", "com_z", "speed", "distance", "wind_x",
+              "wind_y", "app_x", "app_y", "app_z", "aero_x", "aero_y", "aero_z", "normal", "friction_x",
+              "friction_y", "pseudo_x", "weight", "grip_demand", "grip_available", "balance_margin", "xcom",
+              "support_lo", "support_hi", "lift_ratio", "lean_required", "action")
+R = {name: i for i, name in enumerate(REC_FIELDS)}
+
+# Balance controller gains, as multiples of the pivot-to-com height: centre of
+# pressure shift per radian of lean error and per rad/s. Chosen so that a
+# standing performer is stable with up to 0.2 s reaction latency (checked in
+# tests); human ankle-strategy models use gains of this size (from memory).
+KP_FACTOR = 1.6
+KD_FACTOR = 0.45
+ANTICIPATION_TIME = 0.8   # s, the performer braces for the load felt over about this long (from memory)
+TOPPLE_HOLD = 0.1         # s the extrapolated com must stay outside the reach before it is a topple
+LIE_ANGLE = 1.4           # rad: a toppled body is lying on the roof past this lean
+
+
+@njit(cache=True, inline="always")
+def _rng_next(state):
+    state = (state + np.uint64(0x9E3779B97F4A7C15)) & np.uint64(0xFFFFFFFFFFFFFFFF)
+    z = state
+    z = ((z ^ (z >> np.uint64(30))) * np.uint64(0xBF58476D1CE4E5B9)) & np.uint64(0xFFFFFFFFFFFFFFFF)
+    z = ((z ^ (z >> np.uint64(27))) * np.uint64(0x94D049BB133111EB)) & np.uint64(0xFFFFFFFFFFFFFFFF)
+    z = z ^ (z >> np.uint64(31))
+    return state, (float(z >> np.uint64(11)) + 0.5) * (1.0 / 9007199254740992.0)
+
+
+@njit(cache=True)
+def _normal(state):
+    """Standard normal deviate (Box-Muller) from the splitmix64 stream."""
+    state, u1 = _rng_next(state)
+    state, u2 = _rng_next(state)
+    return state, math.sqrt(-2.0 * math.log(u1)) * math.cos(2.0 * math.pi * u2)
+
+
+@njit(cache=True)
+def _aero(ends, rows, c, s, px, pz, wx, wy, wz, q_cross, q_axial, lumped, lumped_q, com_x, com_z, out_seg):
+    """Aerodynamic force on a posture rotated by the lean (cos c, sin s) about (px, pz).
+
+    w = apparent wind (m/s) taken uniform over the body. Returns total force,
+    torque about the pivot, and the torque coefficients (a, b) of the
+    unrotated points such that torque(theta) = a cos(theta) + b sin(theta).
+    """
+    fx_t = 0.0
+    fy_t = 0.0
+    fz_t = 0.0
+    a = 0.0
+    b = 0.0
+    if lumped:
+        speed = math.sqrt(wx * wx + wy * wy + wz * wz)
+        fx_t = lumped_q * speed * wx
+        fy_t = lumped_q * speed * wy
+        fz_t = lumped_q * speed * wz
+        a = com_z * fx_t - com_x * fz_t
+        b = -com_x * fx_t - com_z * fz_t
+        for i in range(out_seg.shape[0]):
+            out_seg[i, 0] = 0.0
+            out_seg[i, 1] = 0.0
+        return fx_t, fy_t, fz_t, a, b
+    for i in range(ends.shape[1]):
+        x0 = ends[rows, i, 0, 0]
+        z0 = ends[rows, i, 0, 1]
+        x1 = ends[rows, i, 1, 0]
+        z1 = ends[rows, i, 1, 1]
+        mx = 0.5 * (x0 + x1)
+        mz = 0.5 * (z0 + z1)
+        dx = x1 - x0
+        dz = z1 - z0
+        length = math.sqrt(dx * dx + dz * dz)
+        if length < 1e-9:
+            out_seg[i, 0] = 0.0
+            out_seg[i, 1] = 0.0
+            continue
+        ex0 = dx / length
+        ez0 = dz / length
+        ex = ex0 * c + ez0 * s
+        ez = -ex0 * s + ez0 * c
+        along = wx * ex + wz * ez
+        nx = wx - along * ex
+        nz = wz - along * ez
+        nmag = math.sqrt(nx * nx + wy * wy + nz * nz)
+        fx = q_cross[i] * nmag * nx + q_axial[i] * abs(along) * along * ex
+        fy = q_cross[i] * nmag * wy
+        fz = q_cross[i] * nmag * nz + q_axial[i] * abs(along) * along * ez
+        out_seg[i, 0] = fx
+        out_seg[i, 1] = fz
+        fx_t += fx
+        fy_t += fy
+        fz_t += fz
+        a += mz * fx - mx * fz
+        b += -mx * fx - mz * fz
+    return fx_t, fy_t, fz_t, a, b
+
+
+@njit(cache=True)
+def _solve_lean(alpha, beta, target):
+    """Lean theta (rad) with alpha cos(theta) + beta sin(theta) = target, nearest upright.
+
+    Returns (theta, solvable). Unsolvable loads give the angle of best effort.
+    """
+    r = math.sqrt(alpha * alpha + beta * beta)
+    phi = math.atan2(beta, alpha)
+    if r < 1e-12:
+        return 0.0, False
+    ratio = target / r
+    if abs(ratio) > 1.0:
+        return phi if ratio > 0 else phi + math.pi, False
+    d = math.acos(ratio)
+    t1 = math.atan2(math.sin(phi + d), math.cos(phi + d))
+    t2 = math.atan2(math.sin(phi - d), math.cos(phi - d))
+    return (t1 if abs(t1) < abs(t2) else t2), True
+
+
+@njit(cache=True)
+def _car_at(x, car_front, car_rear):
+    for i in range(car_front.shape[0]):
+        if car_rear[i] - 1e-9 <= x <= car_front[i] + 1e-9:
+            return i
+    return -1
+
+
+@njit(cache=True)
+def _overhead(ends, rows, c, s, px, pz, rotates, s_dist, t, structures, lines, margins, act, events, b,
+              car_front, car_rear, lean_about_pivot):
+    """Strike and line checks for every body point; updates clearance margins.
+
+    structures: (n, 3) x_start, span, soffit (ground frame, above rail).
+    lines: (n, 4) x_start, x_end, wire height, exclusion. Returns True on a strike.
+    """
+    struck = False
+    for i in range(ends.shape[1]):
+        for j in range(2):
+            x0 = ends[rows, i, j, 0]
+            z0 = ends[rows, i, j, 1]
+            if lean_about_pivot and rotates[rows, i]:
+                x = px + x0 * c + z0 * s
+                z = pz - x0 * s + z0 * c
+            else:
+                x = px + x0
+                z = pz + z0
+            xg = x + s_dist
+            for k in range(structures.shape[0]):
+                if structures[k, 0] <= xg <= structures[k, 0] + structures[k, 1]:
+                    gap = structures[k, 2] - z
+                    if gap < margins[b, act, M_CLEAR]:
+                        margins[b, act, M_CLEAR] = gap
+                    if gap < 0.0:
+                        _event(events, b, EV_STRIKE, t, x, car_front, car_rear, z, structures[k, 2], xg)
+                        struck = True
+            for k in range(lines.shape[0]):
+                if lines[k, 0] <= xg <= lines[k, 1]:
+                    gap = lines[k, 2] - z - lines[k, 3]
+                    if gap < margins[b, act, M_CLEAR]:
+                        margins[b, act, M_CLEAR] = gap
+                    if gap < 0.0:
+                        _event(events, b, EV_LINE, t, x, car_front, car_rear, lines[k, 2] - z, lines[k, 3], xg)
+    return struck
+
+
+@njit(cache=True)
+def _event(events, b, kind, t, x, car_front, car_rear, demand, available, xg):
+    if math.isnan(events[b, kind, 0]):
+        events[b, kind, 0] = t
+        events[b, kind, 1] = x
+        events[b, kind, 2] = _car_at(x, car_front, car_rear)
+        events[b, kind, 3] = demand
+        events[b, kind, 4] = available
+        events[b, kind, 5] = xg
+
+
+# Per-variant parameter columns.
+VARIANT_FIELDS = ("speed_scale", "wind_x", "wind_y", "density", "mass", "drag_scale", "friction_scale",
+                  "reaction_time", "turbulence_sigma", "turbulence_seed", "gust_scale", "max_lean",
+                  "recovery_step", "start_x", "turbulence_length")
+V_ = {name: i for i, name in enumerate(VARIANT_FIELDS)}
+
+
+@njit(cache=True)
+def _flight_accel(ends, row, fc, fs, vx, vz, V, A, ux, uy, q_cross, q_axial, lumped, lumped_q, mass, seg):
+    """Acceleration (car frame) of a rigid posture in flight: gravity, drag, pseudo-force."""
+    fx, fy, fz, a, b = _aero(ends, row, fc, fs, 0.0, 0.0, ux - (V + vx), uy, -vz, q_cross, q_axial, lumped,
+                             lumped_q, 0.0, 0.0, seg)
+    return fx / mass - A, fz / mass - G
+
+
+@njit(cache=True)
+def _lowest_point(ends, row, fc, fs, com_x, com_z):
+    """Lowest body point of a rotated posture, relative to its centre of mass."""
+    best_z = 1e9
+    best_x = 0.0
+    for i in range(ends.shape[1]):
+        for j in range(2):
+            x0 = ends[row, i, j, 0] - com_x
+            z0 = ends[row, i, j, 1] - com_z
+            x = x0 * fc + z0 * fs
+            z = -x0 * fs + z0 * fc
+            if z < best_z:
+                best_z = z
+                best_x = x
+    return best_x, best_z
+
+
+@njit(cache=True)
+def _run_variant(b, p, times, speed, accel, dist, gust_x, gust_y, ends, com, inertia, support, contact,
+                 rotates, drag_ratio, hip, reset, action, gait_speed, gait_friction, gait_rate, act_code,
+                 act_start, act_takeoff, act_rows, cars, q_cross_base, q_axial_base, lumped, lumped_cda, structures, lines,
+                 events, margins, final, record, rec, rec_ends, rec_force):
+    dt = times[1] - times[0]
+    n = times.shape[0]
+    sp = p[0]
+    mass = p[4]
+    weight = mass * G
+    q_cross = 0.5 * p[3] * p[5] * q_cross_base
+    q_axial = 0.5 * p[3] * p[5] * q_axial_base
+    lumped_q0 = 0.5 * p[3] * p[5] * lumped_cda
+    car_front = cars[:, 0]
+    car_rear = cars[:, 1]
+    roof_h = cars[:, 2]
+    delay = int(round(p[7] / dt))
+    buf_err = np.zeros(delay + 1)
+    buf_w = np.zeros(delay + 1)
+    seg = np.zeros((ends.shape[1], 2))
+    state = np.uint64(int(p[9]) * 2654435761 + 12345 + b * 97)
+    turb = 0.0
+    if p[8] > 0:
+        state, z = _normal(state)
+        turb = p[8] * z
+    mode = PLANTED
+    x = p[13]
+    u = 0.0
+    udot = 0.0
+    th = 0.0
+    om = 0.0
+    thdd = 0.0
+    ext_lo = 0.0
+    ext_hi = 0.0
+    step_used = p[12] <= 0.0
+    outside = 0.0
+    lying = False
+    first = True
+    fa = 0.0
+    fb = 0.0
+    ffz = 0.0
+    gphase = 0.0
+    # flight state
+    cx_f = 0.0
+    cz_f = 0.0
+    vx_f = 0.0
+    vz_f = 0.0
+    frow = 0
+    fc = 1.0
+    fs = 0.0
+    low_dx = 0.0
+    low_dz = 0.0
+    fallen = False
+    jumped_action = -1
+    landed_action = -1
+    for k in range(n):
+        t = times[k]
+        V = speed[k] * sp
+        A = accel[k] * sp
+        s_d = dist[k] * sp
+        act = action[k]
+        if p[8] > 0:
+            rel = abs(V - p[1])
+            tau = p[14] / max(rel, 1.0)
+            e = math.exp(-dt / tau)
+            state, z = _normal(state)
+            turb = turb * e + p[8] * math.sqrt(1.0 - e * e) * z
+        ux = p[1] + gust_x[k] * p[10] + turb
+        uy = p[2] + gust_y[k] * p[10]
+        row = k
+        if landed_action == act and act_code[act] == 2:
+            row = act_rows[act, 1]
+        elif reset[k] and (mode == PLANTED or mode == SLIDING):
+            # The pivot moves within the body (feet to knees) or the performer
+            # turns: keep the hip where it was and restart the balance.
+            x += hip[k - 1] - hip[k]
+            first = True
+        if mode == GONE:
+            if record:
+                _record_gone(rec, rec_ends, rec_force, k, t, V, s_d, ux, uy, act)
+            continue
+        if mode == FLIGHT:
+            mode, x, u, th, om, cx_f, cz_f, vx_f, vz_f, fallen, landed = _flight_step(
+                b, k, t, dt, V, speed[min(k + 1, n - 1)] * sp, A, ux, uy, cx_f, cz_f, vx_f, vz_f, ends, frow, fc,
+                fs, low_dx, low_dz, com, act_rows, act, q_cross, q_axial, lumped, lumped_q0 * drag_ratio[frow],
+                mass, seg, cars, events, margins, p[12], fallen, s_d)
+            if landed:
+                landed_action = act
+                first = True
+                ext_lo = 0.0
+                ext_hi = 0.0
+                udot = 0.0
+                thdd = 0.0
+            if mode == FLIGHT or mode == GONE:
+                _overhead(ends, frow, fc, fs, cx_f - (com[frow, 0] * fc + com[frow, 1] * fs),
+                          cz_f - (-com[frow, 0] * fs + com[frow, 1] * fc), rotates, s_d, t, structures, lines,
+                          margins, act, events, b, car_front, car_rear, False)
+                if record:
+                    _record_flight(rec, rec_ends, rec_force, k, t, V, s_d, ux, uy, act, ends, frow, fc, fs,
+                                   cx_f, cz_f, vx_f, vz_f, com, seg, mode)
+                margins[b, act, M_STEPS] += 1.0
+                continue
+            row = act_rows[act, 1] if landed_action == act else k
+        ci = _car_at(x, car_front, car_rear)
+        pz = roof_h[ci] if ci >= 0 else roof_h[0]
+        c = math.cos(th)
+        s = math.sin(th)
+        gait_v = gait_speed[k] if mode == PLANTED and not lying else 0.0
+        wx = ux - (V + u + gait_v)
+        c0x = com[row, 0]
+        c0z = com[row, 1]
+        kind = 2 if lying else contact[row]
+        lq = lumped_q0 * drag_ratio[row]
+        fx, fy, fz, a_aero, b_aero = _aero(ends, row, c, s, x, pz, wx, uy, 0.0, q_cross, q_axial, lumped, lq,
+                                           c0x, c0z, seg)
+        cx = c0x * c + c0z * s
+        cz = -c0x * s + c0z * c
+        pseudo = -mass * (A + udot)
+        normal = weight - fz - mass * (thdd * cx + om * om * cz)
+        if ci >= 0:
+            mu_s = (cars[ci, 3] if kind == 0 else cars[ci, 5]) * p[6]
+            mu_k = (cars[ci, 4] if kind == 0 else cars[ci, 6]) * p[6]
+        else:
+            mu_s = 0.0
+            mu_k = 0.0
+        alpha = weight * c0x + a_aero + pseudo * c0z
+        beta = weight * c0z + b_aero - pseudo * c0x
+        if first:
+            fa, fb, ffz = alpha, beta, fz
+        else:
+            w_f = dt / ANTICIPATION_TIME
+            fa += (alpha - fa) * w_f
+            fb += (beta - fb) * w_f
+            ffz += (fz - ffz) * w_f
+        nf = max(weight - ffz, 1e-6)
+        quarter = 0.25 * (support[row, 1] - support[row, 0])
+        pmid = min(max(c0x, support[row, 0] + quarter), support[row, 1] - quarter)
+        th_raw, solvable = _solve_lean(fa, fb, pmid * nf)
+        lean_required = abs(th_raw) if solvable else 0.5 * math.pi
+        th_ref = min(max(th_raw, -p[11]), p[11])
+        if first:
+            if kind != 2 and mode != DOWN:
+                th = th_ref
+                c = math.cos(th)
+                s = math.sin(th)
+            for i in range(delay + 1):
+                buf_err[i] = 0.0
+                buf_w[i] = 0.0
+            first = False
+        lo = support[row, 0] - ext_lo
+        hi = support[row, 1] + ext_hi
+        mos = math.nan
+        xcom = math.nan
+        if normal <= 0.0 and mode != DOWN:
+            _event(events, b, EV_LIFT, t, x, car_front, car_rear, -normal, weight, x + s_d)
+            mode, cx_f, cz_f, vx_f, vz_f, frow, fc, fs, low_dx, low_dz = _enter_flight(
+                ends, row, th, x, pz, cx, cz, u + gait_v + om * cz, -om * cx, com)
+            if record:
+                _record_flight(rec, rec_ends, rec_force, k, t, V, s_d, ux, uy, act, ends, frow, fc, fs, cx_f,
+                               cz_f, vx_f, vz_f, com, seg, mode)
+            continue
+        if kind == 2:
+            om = 0.0
+            thdd = 0.0
+        else:
+            # Delayed feedback on lean error and rate; the centre of pressure
+            # cannot leave the support, which bounds the ankle torque.
+            slot = k % (delay + 1)
+            buf_err[slot] = th - th_ref
+            buf_w[slot] = om
+            old = (k + 1) % (delay + 1)
+            height = max(c0z, 0.05)
+            if mode == DOWN:
+                cop = hi if th > 0 else lo
+            else:
+                cop = pmid + KP_FACTOR * height * buf_err[old] + KD_FACTOR * height * buf_w[old]
+                cop = min(max(cop, lo), hi)
+            torque = weight * cx + a_aero * c + b_aero * s + pseudo * cz - cop * normal
+            thdd = torque / (mass * inertia[row])
+            om += thdd * dt
+            th += om * dt
+            omega0 = math.sqrt(G / height)
+            xcom = (fa * c + fb * s) / nf + om * cz / omega0
+            mos = min(hi - xcom, xcom - lo)
+            if mode == PLANTED:
+                if mos < 0.0:
+                    if not step_used and kind == 0:
+                        step_used = True
+                        if xcom > hi:
+                            ext_hi = p[12]
+                        else:
+                            ext_lo = p[12]
+                        bound = hi if xcom > hi else lo
+                        _event(events, b, EV_STEP, t, x, car_front, car_rear, xcom, bound, x + s_d)
+                    else:
+                        outside += dt
+                        if outside >= TOPPLE_HOLD:
+                            bound = hi if xcom > hi else lo
+                            _event(events, b, EV_TOPPLE, t, x, car_front, car_rear, xcom, bound, x + s_d)
+                            mode = DOWN
+                else:
+                    outside = 0.0
+            if mode == DOWN and abs(th) > LIE_ANGLE:
+                th = LIE_ANGLE if th > 0 else -LIE_ANGLE
+                om = 0.0
+                thdd = 0.0
+                lying = True
+        gphase += 2.0 * math.pi * gait_rate[k] * dt
+        f_gait = gait_friction[k] * weight * math.sin(gphase) if mode == PLANTED and not lying else 0.0
+        a_cx = thdd * cz - om * om * cx
+        need_x = mass * a_cx - (fx + pseudo + f_gait)
+        need_y = -fy
+        demand = math.sqrt(need_x * need_x + need_y * need_y) / max(normal, 1e-6)
+        if mode == PLANTED or (mode == DOWN and lying and u == 0.0):
+            if demand > mu_s:
+                _event(events, b, EV_SLIP, t, x, car_front, car_rear, demand, mu_s, x + s_d)
+                if mode == PLANTED:
+                    mode = SLIDING
+                u = 1e-9 * (-1.0 if need_x > 0 else 1.0)
+            else:
+                x += gait_v * dt
+                udot = 0.0
+        if mode == SLIDING or (mode == DOWN and u != 0.0):
+            direction = 1.0 if u > 0 else -1.0
+            udot = (fx - mass * A - mu_k * normal * direction) / mass - a_cx
+            u_new = u + udot * dt
+            if u_new * u <= 0.0:
+                u = 0.0
+                udot = 0.0
+                if mode == SLIDING:
+                    mode = PLANTED
+            else:
+                u = u_new
+            x += u * dt
+        if _car_at(x, car_front, car_rear) < 0:
+            mode, cx_f, cz_f, vx_f, vz_f, frow, fc, fs, low_dx, low_dz = _enter_flight(
+                ends, row, th, x, pz, cx, cz, u + gait_v + om * cz, -om * cx, com)
+        elif act_code[act] == 2 and jumped_action != act and mode == PLANTED:
+            tx = act_takeoff[act, 0]
+            direction = 1.0 if act_takeoff[act, 1] >= 0 else -1.0
+            ready = (x - tx) * direction >= 0.0 if gait_speed[k] != 0.0 else t >= act_start[act] + 0.3
+            if ready:
+                jumped_action = act
+                arow = act_rows[act, 0]
+                mode, cx_f, cz_f, vx_f, vz_f, frow, fc, fs, low_dx, low_dz = _enter_flight(
+                    ends, arow, 0.0, x, pz, com[arow, 0], com[arow, 1], act_takeoff[act, 1], act_takeoff[act, 2],
+                    com)
+        if not (mode == DOWN) and not lying:
+            _margins(margins, b, act, mu_s, demand, mos, normal / weight, lean_required,
+                     math.sqrt(wx * wx + uy * uy), math.sqrt(fx * fx + fy * fy + fz * fz), kind)
+        margins[b, act, M_STEPS] += 1.0
+        if mode != FLIGHT:
+            if _overhead(ends, row, c, s, x, pz, rotates, s_d, t, structures, lines, margins, act, events, b,
+                         car_front, car_rear, True):
+                mode = GONE
+        if record:
+            _record_planted(rec, rec_ends, rec_force, k, t, mode, x, pz, th, cx, cz, V, s_d, ux, uy, wx, fx, fy, fz,
+                            normal, need_x, need_y, pseudo, weight, demand, mu_s, mos, xcom, lo, hi,
+                            lean_required, act, ends, row, rotates, c, s, seg)
+    final[b, 0] = mode
+    final[b, 1] = x
+    final[b, 2] = th
+
+
+@njit(cache=True)
+def _enter_flight(ends, row, th, x, pz, cx, cz, vx, vz, com):
+    """Freeze the posture of `row`, leaned by th, as a rigid body in flight."""
+    fc = math.cos(th)
+    fs = math.sin(th)
+    low_dx, low_dz = _lowest_point(ends, row, fc, fs, com[row, 0], com[row, 1])
+    return FLIGHT, x + cx, pz + cz, vx, vz, row, fc, fs, low_dx, low_dz
+
+
+@njit(cache=True)
+def _flight_step(b, k, t, dt, V0, V1, A, ux, uy, cx, cz, vx, vz, ends, frow, fc, fs, low_dx, low_dz, com,
+                 act_rows, act, q_cross, q_axial, lumped, lq, mass, seg, cars, events, margins, step_len,
+                 fallen, s_d):
+    """One RK4 step of flight, then landing or fall detection.
+
+    Returns (mode, pivot x, u, lean, lean rate, com x, com z, vx, vz, fallen, landed).
+    """
+    Vh = 0.5 * (V0 + V1)
+    k1x, k1z = _flight_accel(ends, frow, fc, fs, vx, vz, V0, A, ux, uy, q_cross, q_axial, lumped, lq, mass, seg)
+    k2x, k2z = _flight_accel(ends, frow, fc, fs, vx + 0.5 * dt * k1x, vz + 0.5 * dt * k1z, Vh, A, ux, uy, q_cross,
+                             q_axial, lumped, lq, mass, seg)
+    k3x, k3z = _flight_accel(ends, frow, fc, fs, vx + 0.5 * dt * k2x, vz + 0.5 * dt * k2z, Vh, A, ux, uy, q_cross,
+                             q_axial, lumped, lq, mass, seg)
+    k4x, k4z = _flight_accel(ends, frow, fc, fs, vx + dt * k3x, vz + dt * k3z, V1, A, ux, uy, q_cross, q_axial,
+                             lumped, lq, mass, seg)
+    nx = cx + dt * (vx + dt / 6.0 * (k1x + k2x + k3x))
+    nz = cz + dt * (vz + dt / 6.0 * (k1z + k2z + k3z))
+    nvx = vx + dt / 6.0 * (k1x + 2 * k2x + 2 * k3x + k4x)
+    nvz = vz + dt / 6.0 * (k1z + 2 * k2z + 2 * k3z + k4z)
+    car_front = cars[:, 0]
+    car_rear = cars[:, 1]
+    z_old = cz + low_dz
+    z_new = nz + low_dz
+    x_new = nx + low_dx
+    ci = _car_at(x_new, car_front, car_rear)
+    if ci >= 0 and not fallen and nvz < 0.0 and z_new <= cars[ci, 2] < z_old + 1e-9:
+        frac = (z_old - cars[ci, 2]) / max(z_old - z_new, 1e-12)
+        touch_com_x = cx + frac * (nx - cx)
+        touch_vx = vx + frac * (nvx - vx)
+        land_row = act_rows[act, 1]
+        pivot = touch_com_x - com[land_row, 0]
+        margin = min(pivot - cars[ci, 1], cars[ci, 0] - pivot)
+        if margin < margins[b, act, M_LAND]:
+            margins[b, act, M_LAND] = margin
+        limit = math.sqrt(2.0 * cars[ci, 4] * G * max(step_len, 0.25))
+        if abs(touch_vx) > limit:
+            _event(events, b, EV_HARD, t + frac * dt, pivot, car_front, car_rear, abs(touch_vx), limit, pivot + s_d)
+        if _car_at(pivot, car_front, car_rear) < 0:
+            _event(events, b, EV_FALL, t + frac * dt, pivot, car_front, car_rear, margin, 0.0, pivot + s_d)
+            return GONE, pivot, 0.0, 0.0, 0.0, nx, nz, nvx, nvz, True, False
+        if abs(touch_vx) > 0.02:
+            return SLIDING, pivot, touch_vx, 0.0, 0.0, nx, nz, nvx, nvz, False, True
+        return PLANTED, pivot, 0.0, 0.0, 0.0, nx, nz, nvx, nvz, False, True
+    lowest_roof = cars[0, 2]
+    for i in range(cars.shape[0]):
+        lowest_roof = min(lowest_roof, cars[i, 2])
+    if ci < 0 and not fallen and z_new < lowest_roof:
+        _event(events, b, EV_FALL, t, x_new, car_front, car_rear, lowest_roof - z_new, 0.0, x_new + s_d)
+        fallen = True
+    if z_new <= 0.0:
+        return GONE, x_new, 0.0, 0.0, 0.0, nx, nz, nvx, nvz, fallen, False
+    return FLIGHT, x_new, 0.0, 0.0, 0.0, nx, nz, nvx, nvz, fallen, False
+
+
+@njit(cache=True)
+def _margins(margins, b, act, mu_s, demand, mos, lift, lean, wind, drag, kind):
+    if demand > 1e-12:
+        ratio = mu_s / demand
+        if ratio < margins[b, act, M_GRIP]:
+            margins[b, act, M_GRIP] = ratio
+    if demand > margins[b, act, M_DEMAND]:
+        margins[b, act, M_DEMAND] = demand
+    if kind != 2 and mos == mos and mos < margins[b, act, M_BAL]:
+        margins[b, act, M_BAL] = mos
+    if lift < margins[b, act, M_LIFT]:
+        margins[b, act, M_LIFT] = lift
+    if kind != 2 and lean > margins[b, act, M_LEAN]:
+        margins[b, act, M_LEAN] = lean
+    if wind > margins[b, act, M_WIND]:
+        margins[b, act, M_WIND] = wind
+    if drag > margins[b, act, M_DRAG]:
+        margins[b, act, M_DRAG] = drag
+
+
+@njit(cache=True)
+def _record_common(rec, k, t, mode, V, s_d, ux, uy, act):
+    rec[k, 0] = t
+    rec[k, 1] = mode
+    rec[k, 7] = V
+    rec[k, 8] = s_d
+    rec[k, 9] = ux
+    rec[k, 10] = uy
+    rec[k, 30] = act
+
+
+@njit(cache=True)
+def _record_gone(rec, rec_ends, rec_force, k, t, V, s_d, ux, uy, act):
+    for j in range(rec.shape[1]):
+        rec[k, j] = rec[k - 1, j] if k > 0 else math.nan
+    rec_ends[k] = rec_ends[k - 1]
+    rec_force[k] = 0.0
+    _record_common(rec, k, t, GONE, V, s_d, ux, uy, act)
+
+
+@njit(cache=True)
+def _record_flight(rec, rec_ends, rec_force, k, t, V, s_d, ux, uy, act, ends, frow, fc, fs, cx, cz, vx, vz, com,
+                   seg, mode):
+    for j in range(rec.shape[1]):
+        rec[k, j] = math.nan
+    _record_common(rec, k, t, mode, V, s_d, ux, uy, act)
+    rec[k, 5] = cx
+    rec[k, 6] = cz
+    wx = ux - (V + vx)
+    rec[k, 11] = wx
+    rec[k, 12] = uy
+    rec[k, 13] = -vz
+    fx = 0.0
+    fz = 0.0
+    for i in range(seg.shape[0]):
+        fx += seg[i, 0]
+        fz += seg[i, 1]
+        rec_force[k, i, 0] = seg[i, 0]
+        rec_force[k, i, 1] = seg[i, 1]
+    rec[k, 14] = fx
+    rec[k, 16] = fz
+    rec[k, 17] = 0.0
+    for i in range(ends.shape[1]):
+        for j in range(2):
+            x0 = ends[frow, i, j, 0] - com[frow, 0]
+            z0 = ends[frow, i, j, 1] - com[frow, 1]
+            rec_ends[k, i, j, 0] = cx + x0 * fc + z0 * fs
+            rec_ends[k, i, j, 1] = cz - x0 * fs + z0 * fc
+
+
+@njit(cache=True)
+def _record_planted(rec, rec_ends, rec_force, k, t, mode, x, pz, th, cx, cz, V, s_d, ux, uy, wx, fx, fy, fz,
+                    normal, need_x, need_y, pseudo, weight, demand, mu_s, mos, xcom, lo, hi, lean_req, act, ends,
+                    row, rotates, c, s, seg):
+    _record_common(rec, k, t, mode, V, s_d, ux, uy, act)
+    vals = (x, pz, th, x + cx, pz + cz)
+    for j in range(5):
+        rec[k, 2 + j] = vals[j]
+    rec[k, 11] = wx
+    rec[k, 12] = uy
+    rec[k, 13] = 0.0
+    rec[k, 14] = fx
+    rec[k, 15] = fy
+    rec[k, 16] = fz
+    rec[k, 17] = normal
+    rec[k, 18] = need_x
+    rec[k, 19] = need_y
+    rec[k, 20] = pseudo
+    rec[k, 21] = weight
+    rec[k, 22] = demand
+    rec[k, 23] = mu_s
+    rec[k, 24] = mos
+    rec[k, 25] = x + xcom
+    rec[k, 26] = x + lo
+    rec[k, 27] = x + hi
+    rec[k, 28] = normal / weight
+    rec[k, 29] = lean_req
+    for i in range(ends.shape[1]):
+        rec_force[k, i, 0] = seg[i, 0]
+        rec_force[k, i, 1] = seg[i, 1]
+        for j in range(2):
+            x0 = ends[row, i, j, 0]
+            z0 = ends[row, i, j, 1]
+            if rotates[row, i]:
+                rec_ends[k, i, j, 0] = x + x0 * c + z0 * s
+                rec_ends[k, i, j, 1] = pz - x0 * s + z0 * c
+            else:
+                rec_ends[k, i, j, 0] = x + x0
+                rec_ends[k, i, j, 1] = pz + z0
+
+
+@njit(cache=True, parallel=True)
+def run_batch(params, times, speed, accel, dist, gust_x, gust_y, ends, com, inertia, support, contact, rotates,
+              drag_ratio, hip, reset, action, gait_speed, gait_friction, gait_rate, act_code, act_start, act_takeoff, act_rows,
+              cars, q_cross_base, q_axial_base, lumped, lumped_cda, structures, lines, events, margins, final,
+              record, rec, rec_ends, rec_force):
+    """Run every variant (rows of params) through the whole beat, in parallel."""
+    for b in prange(params.shape[0]):
+        rec_this = record and b == 0
+        _run_variant(b, params[b], times, speed, accel, dist, gust_x, gust_y, ends, com, inertia, support, contact,
+                     rotates, drag_ratio, hip, reset, action, gait_speed, gait_friction, gait_rate, act_code, act_start,
+                     act_takeoff, act_rows, cars, q_cross_base, q_axial_base, lumped, lumped_cda, structures,
+                     lines, events, margins, final, rec_this, rec, rec_ends, rec_force)

@@ -1,0 +1,149 @@
+"""The Scene: everything a beat needs, frozen, in SI floats.
+
+Built once by physics.scene_load from a TOML file; nothing downstream parses
+units again. Positions on the consist are in the car frame: x = 0 at the
+front end of the lead car, x negative toward the rear.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+
+
+@dataclass(frozen=True)
+class Car:
+    name: str
+    length: float
+    roof_height: float
+    gap_behind: float
+    surface: str
+    sole_static: float
+    sole_kinetic: float
+    body_static: float
+    body_kinetic: float
+    front_x: float  # car frame, m
+    rear_x: float
+
+
+@dataclass(frozen=True)
+class Keyframe:
+    time: float
+    speed: float
+
+
+@dataclass(frozen=True)
+class Gust:
+    start: float
+    duration: float
+    peak: float
+    from_direction: float
+
+
+@dataclass(frozen=True)
+class Turbulence:
+    intensity: float     # standard deviation of the along-track component, m/s
+    length_scale: float  # m
+    seed: int
+
+
+@dataclass(frozen=True)
+class Air:
+    density: float
+    altitude: float
+    temperature: float | None
+    wind_speed: float
+    wind_from: float
+    gusts: tuple[Gust, ...] = ()
+    turbulence: Turbulence | None = None
+
+
+@dataclass(frozen=True)
+class Performer:
+    stature: float
+    mass: float
+    drag_area: float | None   # standing Cd*A to calibrate to, m^2
+    body_model: str           # "segmented" | "lumped"
+    facing: int               # +1 toward the front of the consist, -1 toward the rear
+    reaction_time: float
+    max_lean: float           # rad
+    recovery_step: float      # m, 0 for none
+    standing_long_jump: float | None
+
+
+@dataclass(frozen=True)
+class Action:
+    kind: str
+    start: float
+    duration: float
+    transition: float
+    speed: float = 0.0          # gait speed relative to the roof, m/s (>= 0)
+    toward: int = 1             # +1 front, -1 rear
+    gait_friction: float = 0.0  # peak horizontal gait force / body weight
+    # Jumps (kind == "jump"):
+    takeoff_x: float | None = None      # car frame, m
+    takeoff_speed: float = 0.0          # relative to the roof, m/s
+    takeoff_angle: float = 0.0          # rad above horizontal
+    air_posture: str = "tuck"
+    landing_car: int | None = None      # 0-based
+    label: str = ""
+
+    @property
+    def end(self) -> float:
+        return self.start + self.duration
+
+
+@dataclass(frozen=True)
+class Structure:
+    kind: str
+    name: str
+    x_start: float   # ground frame, m
+    span: float
+    soffit: float    # above rail, m
+
+
+@dataclass(frozen=True)
+class Line:
+    x_start: float
+    x_end: float
+    wire_height: float
+    exclusion: float
+
+
+@dataclass(frozen=True)
+class Safety:
+    grip_ratio: float
+    balance_margin: float
+    lift_ratio: float
+    landing_margin: float
+    clearance: float
+
+
+@dataclass(frozen=True)
+class Scene:
+    title: str
+    source: str
+    units: str
+    frame_rate: int
+    cars: tuple[Car, ...]
+    keyframes: tuple[Keyframe, ...]
+    air: Air
+    performer: Performer
+    start_x: float
+    start_car: int
+    actions: tuple[Action, ...]
+    safety: Safety
+    step: float
+    structures: tuple[Structure, ...] = ()
+    lines: tuple[Line, ...] = ()
+    raw: dict = field(default_factory=dict, compare=False, repr=False)
+
+    @property
+    def duration(self) -> float:
+        return self.actions[-1].end
+
+    def car_at(self, x: float) -> int | None:
+        """Index of the car whose roof spans car-frame x, or None (gap or off the ends)."""
+        for i, car in enumerate(self.cars):
+            if car.rear_x <= x <= car.front_x:
+                return i
+        return None

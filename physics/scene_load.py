@@ -1,0 +1,528 @@
+"""Load and validate a scene file (TOML) into a frozen Scene of SI floats.
+
+All problems are collected in one pass. Each names the file, the key path
+(list positions 1-based, as a person counts), what was given, what was
+expected and, where it can be found, the line.
+"""
+
+from __future__ import annotations
+
+import copy
+import math
+import re
+import tomllib
+from dataclasses import dataclass
+from pathlib import Path
+
+from physics import air as air_model
+from physics import body
+from physics.scene import (Action, Air, Car, Gust, Keyframe, Line, Performer, Safety, Scene, Structure,
+                           Turbulence)
+from physics.surfaces import SURFACES
+from physics.units import QuantityError, parse_quantity
+
+ACTION_KINDS = ("stand", "brace", "crouch", "duck", "kneel", "prone", "crawl", "walk", "run", "jump")
+GAIT_KINDS = ("walk", "run", "crawl")
+AIR_POSTURES = ("tuck", "spread", "upright")
+STRUCTURE_KINDS = ("bridge", "footbridge", "gantry", "tunnel")
+
+# Peak horizontal ground reaction / body weight in level gait, used as the
+# friction demand of gait. Walking: required coefficient of friction about
+# 0.17-0.22 (Redfern et al. 2001, Ergonomics 44:1138; from memory). Running:
+# about 0.3-0.4 (from memory). Crawling on knees and forearms: taken as
+# walking (from memory). Each can be set per action.
+GAIT_FRICTION_DEFAULT = {"walk": 0.2, "run": 0.4, "crawl": 0.2}
+
+
+@dataclass(frozen=True)
+class Problem:
+    path: str
+    message: str
+    line: int | None
+
+
+class SceneError(Exception):
+    """A scene that cannot be used; carries every problem found."""
+
+    def __init__(self, source: str, problems: list[Problem]):
+        self.source = source
+        self.problems = problems
+        super().__init__(self.render())
+
+    def render(self) -> str:
+        lines = [f"{self.source}: {len(self.problems)} problem(s) in the scene"]
+        for p in self.problems:
+            where = f"{self.source}:{p.line}" if p.line else self.source
+            lines.append(f"  {where}: {p.path}: {p.message}")
+        return "\n".join(lines)
+
+
+def _key_lines(text: str) -> dict[str, int]:
+    """Map key paths ("actions[2].speed", 1-based lists) to their line numbers."""
+    found: dict[str, int] = {}
+    counts: dict[str, int] = {}
+    table = ""
+    for number, raw in enumerate(text.splitlines(), start=1):
+        line = raw.strip()
+        if m := re.match(r"^\[\[\s*([A-Za-z0-9_.]+)\s*\]\]", line):
+            name = m.group(1)
+            parent = _resolve_parent(name, counts)
+            counts[parent] = counts.get(parent, 0) + 1
+            table = f"{parent}[{counts[parent]}]"
+            found.setdefault(table, number)
+        elif m := re.match(r"^\[\s*([A-Za-z0-9_.]+)\s*\]", line):
+            table = _resolve_parent(m.group(1), counts)
+            found.setdefault(table, number)
+        elif m := re.match(r"^([A-Za-z0-9_]+)\s*=", line):
+            found.setdefault(f"{table}.{m.group(1)}" if table else m.group(1), number)
+    return found
+
+
+def _resolve_parent(name: str, counts: dict[str, int]) -> str:
+    """'consist.cars' -> 'consist.cars'; 'actions.x' inside [[actions]] -> 'actions[n].x'."""
+    parts = name.split(".")
+    path = ""
+    for i, part in enumerate(parts):
+        path = f"{path}.{part}" if path else part
+        if i < len(parts) - 1 and path in counts:
+            path = f"{path}[{counts[path]}]"
+    return path
+
+
+class _Reader:
+    """Walks the raw TOML dict, converting values and collecting problems."""
+
+    def __init__(self, lines: dict[str, int]):
+        self.lines = lines
+        self.problems: list[Problem] = []
+
+    def line_of(self, path: str) -> int | None:
+        probe = path
+        while probe:
+            if probe in self.lines:
+                return self.lines[probe]
+            probe = probe.rsplit(".", 1)[0] if "." in probe else ""
+            probe = re.sub(r"\[\d+\]$", lambda m: m.group(0), probe)
+        return None
+
+    def fail(self, path: str, message: str) -> None:
+        self.problems.append(Problem(path, message, self.line_of(path)))
+
+    def table(self, data: dict, key: str, path: str, required: bool = True) -> dict:
+        value = data.get(key)
+        full = f"{path}.{key}" if path else key
+        if value is None:
+            if required:
+                self.fail(full, "missing; expected a table")
+            return {}
+        if not isinstance(value, dict):
+            self.fail(full, f"expected a table, got {value!r}")
+            return {}
+        return value
+
+    def quantity(self, data: dict, key: str, path: str, dimension: str, default=None, required=True,
+                 minimum: float | None = None, maximum: float | None = None, positive: bool = False):
+        full = f"{path}.{key}" if path else key
+        if key not in data:
+            if required and default is None:
+                self.fail(full, f"missing; expected a {dimension} with units")
+            return default
+        try:
+            value = parse_quantity(data[key], dimension)
+        except QuantityError as exc:
+            self.fail(full, str(exc))
+            return default
+        if positive and value <= 0:
+            self.fail(full, f"must be greater than zero, got {data[key]!r}")
+            return default
+        if minimum is not None and value < minimum:
+            self.fail(full, f"must be at least {minimum:g} (SI), got {data[key]!r}")
+            return default
+        if maximum is not None and value > maximum:
+            self.fail(full, f"must be at most {maximum:g} (SI), got {data[key]!r}")
+            return default
+        return value
+
+    def number(self, data, key, path, default=None, required=True, minimum=None, maximum=None, integer=False):
+        full = f"{path}.{key}" if path else key
+        if key not in data:
+            if required and default is None:
+                self.fail(full, "missing; expected a number")
+            return default
+        value = data[key]
+        ok = isinstance(value, int) if integer else isinstance(value, (int, float))
+        if isinstance(value, bool) or not ok or (not integer and not math.isfinite(value)):
+            self.fail(full, f"expected {'a whole number' if integer else 'a plain number'}, got {value!r}")
+            return default
+        if (minimum is not None and value < minimum) or (maximum is not None and value > maximum):
+            self.fail(full, f"expected a value from {minimum} to {maximum}, got {value!r}")
+            return default
+        return value
+
+    def choice(self, data, key, path, options, default=None):
+        full = f"{path}.{key}" if path else key
+        if key not in data:
+            if default is None:
+                self.fail(full, f"missing; expected one of {', '.join(options)}")
+            return default
+        value = data[key]
+        if value not in options:
+            self.fail(full, f"expected one of {', '.join(repr(o) for o in options)}, got {value!r}")
+            return default
+        return value
+
+    def text(self, data, key, path, default=None):
+        full = f"{path}.{key}" if path else key
+        value = data.get(key, default)
+        if value is None:
+            self.fail(full, "missing; expected a quoted text")
+            return ""
+        if not isinstance(value, str):
+            self.fail(full, f"expected a quoted text, got {value!r}")
+            return ""
+        return value
+
+    def unknown(self, data: dict, path: str, allowed: tuple[str, ...]) -> None:
+        for key in data:
+            if key not in allowed:
+                full = f"{path}.{key}" if path else key
+                self.fail(full, f"unknown key; expected one of {', '.join(allowed)}")
+
+    def items(self, data: dict, key: str, path: str, required: bool = True) -> list[tuple[str, dict]]:
+        full = f"{path}.{key}" if path else key
+        value = data.get(key)
+        if value is None:
+            if required:
+                self.fail(full, "missing; expected a list of tables")
+            return []
+        if not isinstance(value, list) or not value:
+            self.fail(full, "expected a non-empty list of tables")
+            return []
+        out = []
+        for i, item in enumerate(value, start=1):
+            if not isinstance(item, dict):
+                self.fail(f"{full}[{i}]", f"expected a table, got {item!r}")
+            else:
+                out.append((f"{full}[{i}]", item))
+        return out
+
+
+def load_scene(path: str | Path, overrides: list[str] | None = None) -> Scene:
+    """Read, override (--set PATH=VALUE) and validate a scene file."""
+    path = Path(path)
+    source = str(path)
+    try:
+        text = path.read_text(encoding="utf-8")
+    except OSError as exc:
+        raise SceneError(source, [Problem("(file)", f"cannot read the file: {exc.strerror}", None)]) from None
+    return parse_scene(text, source, overrides)
+
+
+def parse_scene(text: str, source: str, overrides: list[str] | None = None) -> Scene:
+    try:
+        raw = tomllib.loads(text)
+    except tomllib.TOMLDecodeError as exc:
+        line = getattr(exc, "lineno", None)
+        raise SceneError(source, [Problem("(file)", f"not valid TOML: {exc}", line)]) from None
+    reader = _Reader(_key_lines(text))
+    raw = apply_overrides(raw, overrides or [], reader)
+    scene = _build(raw, reader, source)
+    if reader.problems:
+        raise SceneError(source, reader.problems)
+    return scene
+
+
+def apply_overrides(raw: dict, overrides: list[str], reader: _Reader) -> dict:
+    """Apply --set PATH=VALUE overrides to a copy of the raw scene dict."""
+    raw = copy.deepcopy(raw)
+    for item in overrides:
+        if "=" not in item:
+            reader.problems.append(Problem(f"--set {item}", "expected PATH=VALUE, e.g. motion.speed=110 km/h", None))
+            continue
+        key_path, value_text = item.split("=", 1)
+        try:
+            value = tomllib.loads(f"v = {value_text}")["v"]
+        except tomllib.TOMLDecodeError:
+            value = value_text.strip()
+        error = _set_path(raw, key_path.strip(), value)
+        if error:
+            reader.problems.append(Problem(f"--set {key_path.strip()}", error, None))
+    return raw
+
+
+def _set_path(raw: dict, key_path: str, value) -> str | None:
+    parts = re.findall(r"([A-Za-z0-9_]+)(?:\[(\d+)\])?", key_path)
+    if not parts or "".join(f"{k}[{i}]" if i else k for k, i in parts).replace("]", "") == "":
+        return "expected a key path such as motion.speed or actions[2].duration"
+    node = raw
+    for n, (key, index) in enumerate(parts):
+        last = n == len(parts) - 1
+        if index:
+            items = node.get(key)
+            if not isinstance(items, list) or not 1 <= int(index) <= len(items):
+                return f"{key} has no item {index} (lists count from 1)"
+            if last:
+                items[int(index) - 1] = value
+                return None
+            node = items[int(index) - 1]
+        elif last:
+            node[key] = value
+        else:
+            node = node.setdefault(key, {})
+            if not isinstance(node, dict):
+                return f"{key} is not a table"
+    return None
+
+
+def _build(raw: dict, r: _Reader, source: str) -> Scene | None:
+    r.unknown(raw, "", ("title", "units", "frame_rate", "consist", "motion", "air", "performer", "start",
+                        "actions", "safety", "simulation", "structures", "lines"))
+    title = r.text(raw, "title", "")
+    units = r.choice(raw, "units", "", ("metric", "imperial"), default="metric")
+    frame_rate = r.number(raw, "frame_rate", "", default=24, integer=True, minimum=1, maximum=120)
+    cars = _cars(r.table(raw, "consist", ""), r)
+    keyframes = _motion(r.table(raw, "motion", ""), r)
+    air = _air(r.table(raw, "air", "", required=False), r)
+    performer = _performer(r.table(raw, "performer", ""), r)
+    start_car, start_x = _start(r.table(raw, "start", ""), r, cars)
+    actions = _actions(raw, r, cars)
+    safety = _safety(r.table(raw, "safety", "", required=False), r)
+    sim = r.table(raw, "simulation", "", required=False)
+    r.unknown(sim, "simulation", ("rate",))
+    rate = r.quantity(sim, "rate", "simulation", "frequency", default=240.0, minimum=60.0, maximum=2000.0)
+    structures = _structures(raw, r, keyframes)
+    lines = _lines(raw, r)
+    if r.problems:
+        return None
+    return Scene(title, source, units, frame_rate, tuple(cars), tuple(keyframes), air, performer, start_x,
+                 start_car, tuple(actions), safety, 1.0 / rate, tuple(structures), tuple(lines), raw)
+
+
+def _cars(consist: dict, r: _Reader) -> list[Car]:
+    r.unknown(consist, "consist", ("roof", "cars"))
+    default_roof = consist.get("roof")
+    cars, front = [], 0.0
+    items = r.items(consist, "cars", "consist")
+    for n, (path, item) in enumerate(items):
+        r.unknown(item, path, ("name", "length", "roof_height", "gap", "roof", "roof_static", "roof_kinetic",
+                               "body_static", "body_kinetic"))
+        length = r.quantity(item, "length", path, "length", positive=True, maximum=100.0)
+        height = r.quantity(item, "roof_height", path, "length", positive=True, maximum=8.0)
+        last = n == len(items) - 1
+        gap = r.quantity(item, "gap", path, "length", default=0.0 if last else None, minimum=0.0, maximum=50.0)
+        surface_name = item.get("roof", default_roof)
+        surface = SURFACES.get(surface_name) if isinstance(surface_name, str) else None
+        explicit = {k: r.number(item, k, path, required=False, minimum=0.0, maximum=2.0)
+                    for k in ("roof_static", "roof_kinetic", "body_static", "body_kinetic")}
+        if surface is None and (surface_name is not None or explicit["roof_static"] is None):
+            r.fail(f"{path}.roof", f"unknown roof surface {surface_name!r}; expected one of "
+                   f"{', '.join(repr(s) for s in SURFACES)} or roof_static and roof_kinetic")
+            continue
+        sole_s = explicit["roof_static"] if explicit["roof_static"] is not None else surface.sole_static
+        sole_k = explicit["roof_kinetic"] if explicit["roof_kinetic"] is not None else (
+            surface.sole_kinetic if surface else sole_s)
+        body_s = explicit["body_static"] if explicit["body_static"] is not None else (
+            surface.body_static if surface else sole_s)
+        body_k = explicit["body_kinetic"] if explicit["body_kinetic"] is not None else (
+            surface.body_kinetic if surface else sole_k)
+        if sole_k > sole_s or body_k > body_s:
+            r.fail(path, "kinetic friction must not exceed static friction")
+        if None in (length, height, gap):
+            continue
+        name = item.get("name", f"car {n + 1}")
+        cars.append(Car(str(name), length, height, gap, surface.name if surface else "explicit", sole_s, sole_k,
+                        body_s, body_k, front, front - length))
+        front -= length + gap
+    return cars
+
+
+def _motion(motion: dict, r: _Reader) -> list[Keyframe]:
+    r.unknown(motion, "motion", ("speed", "keyframes"))
+    if ("speed" in motion) == ("keyframes" in motion):
+        r.fail("motion", "give either speed (constant) or keyframes (a list of time and speed), not both")
+        return []
+    if "speed" in motion:
+        speed = r.quantity(motion, "speed", "motion", "speed", minimum=0.0, maximum=150.0)
+        return [Keyframe(0.0, speed)] if speed is not None else []
+    frames = []
+    for path, item in r.items(motion, "keyframes", "motion"):
+        r.unknown(item, path, ("time", "speed"))
+        t = r.quantity(item, "time", path, "time", minimum=0.0)
+        v = r.quantity(item, "speed", path, "speed", minimum=0.0, maximum=150.0)
+        if t is not None and v is not None:
+            if frames and t <= frames[-1].time:
+                r.fail(f"{path}.time", "keyframe times must increase")
+            frames.append(Keyframe(t, v))
+    return frames
+
+
+def _air(data: dict, r: _Reader) -> Air:
+    r.unknown(data, "air", ("altitude", "temperature", "density", "wind_speed", "wind_from", "gusts",
+                            "turbulence"))
+    altitude = r.quantity(data, "altitude", "air", "length", default=0.0, minimum=-400.0, maximum=5000.0)
+    temperature = r.quantity(data, "temperature", "air", "temperature", required=False,
+                             minimum=223.15, maximum=333.15)
+    rho = r.quantity(data, "density", "air", "density", required=False, minimum=0.5, maximum=1.6)
+    if rho is None:
+        rho = air_model.density(altitude, temperature)
+    wind_speed = r.quantity(data, "wind_speed", "air", "speed", default=0.0, minimum=0.0, maximum=80.0)
+    wind_from = r.quantity(data, "wind_from", "air", "angle", default=0.0)
+    gusts = []
+    for path, item in r.items(data, "gusts", "air", required=False):
+        r.unknown(item, path, ("start", "duration", "peak", "from"))
+        start = r.quantity(item, "start", path, "time", minimum=0.0)
+        duration = r.quantity(item, "duration", path, "time", positive=True)
+        peak = r.quantity(item, "peak", path, "speed", minimum=0.0, maximum=80.0)
+        direction = r.quantity(item, "from", path, "angle", default=wind_from)
+        if None not in (start, duration, peak):
+            gusts.append(Gust(start, duration, peak, direction))
+    turbulence = None
+    if "turbulence" in data:
+        t = r.table(data, "turbulence", "air")
+        r.unknown(t, "air.turbulence", ("intensity", "length_scale", "seed"))
+        sigma = r.quantity(t, "intensity", "air.turbulence", "speed", minimum=0.0, maximum=20.0)
+        scale = r.quantity(t, "length_scale", "air.turbulence", "length", positive=True)
+        seed = r.number(t, "seed", "air.turbulence", default=0, integer=True, minimum=0, maximum=2**62)
+        if None not in (sigma, scale):
+            turbulence = Turbulence(sigma, scale, seed)
+    return Air(rho, altitude, temperature, wind_speed, wind_from, tuple(gusts), turbulence)
+
+
+def _performer(data: dict, r: _Reader) -> Performer:
+    p = "performer"
+    r.unknown(data, p, ("stature", "mass", "drag_area", "body", "facing", "reaction_time", "max_lean",
+                        "recovery_step", "standing_long_jump"))
+    stature = r.quantity(data, "stature", p, "length", minimum=1.2, maximum=2.3)
+    mass = r.quantity(data, "mass", p, "mass", minimum=30.0, maximum=200.0)
+    drag_area = r.quantity(data, "drag_area", p, "area", required=False, minimum=0.2, maximum=2.0)
+    model = r.choice(data, "body", p, ("segmented", "lumped"), default="segmented")
+    if model == "lumped" and drag_area is None:
+        r.fail(f"{p}.drag_area", "the lumped body needs its standing drag area, e.g. \"0.7 m^2\"")
+    facing = r.choice(data, "facing", p, ("front", "rear"), default="front")
+    reaction = r.quantity(data, "reaction_time", p, "time", default=0.12, minimum=0.0, maximum=0.25)
+    max_lean = r.quantity(data, "max_lean", p, "angle", default=math.radians(25), minimum=0.0,
+                          maximum=math.radians(60))
+    step = r.quantity(data, "recovery_step", p, "length", default=0.0, minimum=0.0, maximum=1.5)
+    jump = r.quantity(data, "standing_long_jump", p, "length", required=False, minimum=0.2, maximum=4.0)
+    if None in (stature, mass):
+        return None
+    return Performer(stature, mass, drag_area, model, 1 if facing == "front" else -1, reaction, max_lean,
+                     step, jump)
+
+
+def _start(data: dict, r: _Reader, cars: list[Car]) -> tuple[int, float]:
+    r.unknown(data, "start", ("car", "position", "from"))
+    car = r.number(data, "car", "start", integer=True, minimum=1, maximum=max(1, len(cars)))
+    pos = r.quantity(data, "position", "start", "length", minimum=0.0)
+    end = r.choice(data, "from", "start", ("front", "rear"), default="front")
+    if car is None or pos is None or not cars:
+        return 0, 0.0
+    c = cars[car - 1]
+    if pos > c.length:
+        r.fail("start.position", f"{pos:g} m is past the end of {c.name} ({c.length:g} m long)")
+    return car - 1, (c.front_x - pos) if end == "front" else (c.rear_x + pos)
+
+
+def _actions(raw: dict, r: _Reader, cars: list[Car]) -> list[Action]:
+    actions, t = [], 0.0
+    for path, item in r.items(raw, "actions", ""):
+        r.unknown(item, path, ("do", "duration", "transition", "speed", "toward", "gait_friction", "label",
+                               "takeoff_car", "takeoff_position", "takeoff_from", "takeoff_speed",
+                               "takeoff_angle", "air_posture", "landing_car", "run_up_speed"))
+        kind = r.choice(item, "do", path, ACTION_KINDS)
+        duration = r.quantity(item, "duration", path, "time", positive=True, maximum=600.0)
+        transition = r.quantity(item, "transition", path, "time", default=0.5, minimum=0.0, maximum=10.0)
+        if kind is None or duration is None:
+            continue
+        if transition > duration:
+            r.fail(f"{path}.transition", "must not be longer than the action's duration")
+        toward = 1 if r.choice(item, "toward", path, ("front", "rear"), default="front") == "front" else -1
+        speed, gait_friction = 0.0, 0.0
+        if kind in GAIT_KINDS:
+            speed = r.quantity(item, "speed", path, "speed", minimum=0.0, maximum=12.0)
+            gait_friction = r.number(item, "gait_friction", path, default=GAIT_FRICTION_DEFAULT[kind],
+                                     minimum=0.0, maximum=1.5)
+        label = item.get("label", kind)
+        extra = _jump(item, path, r, cars) if kind == "jump" else {}
+        actions.append(Action(kind, t, duration, transition, speed or 0.0, toward, gait_friction or 0.0,
+                              label=str(label), **extra))
+        t += duration
+    return actions
+
+
+def _jump(item: dict, path: str, r: _Reader, cars: list[Car]) -> dict:
+    """Jump fields: take-off point, take-off velocity (relative to the roof), posture, landing car."""
+    car = r.number(item, "takeoff_car", path, integer=True, minimum=1, maximum=max(1, len(cars)))
+    pos = r.quantity(item, "takeoff_position", path, "length", minimum=0.0)
+    end = r.choice(item, "takeoff_from", path, ("front", "rear"), default="rear")
+    speed = r.quantity(item, "takeoff_speed", path, "speed", minimum=0.0, maximum=12.0)
+    angle = r.quantity(item, "takeoff_angle", path, "angle", minimum=0.0, maximum=math.radians(80))
+    run_up = r.quantity(item, "run_up_speed", path, "speed", default=0.0, minimum=0.0, maximum=10.0)
+    posture = r.choice(item, "air_posture", path, AIR_POSTURES, default="tuck")
+    landing = r.number(item, "landing_car", path, integer=True, minimum=1, maximum=max(1, len(cars)))
+    if None in (car, pos, speed, angle, landing) or not cars:
+        return {}
+    c = cars[car - 1]
+    x = (c.front_x - pos) if end == "front" else (c.rear_x + pos)
+    return {"takeoff_x": x, "takeoff_speed": speed, "takeoff_angle": angle, "air_posture": posture,
+            "landing_car": landing - 1, "speed": run_up}
+
+
+def _safety(data: dict, r: _Reader) -> Safety:
+    p = "safety"
+    r.unknown(data, p, ("grip_ratio", "balance_margin", "lift_ratio", "landing_margin", "clearance"))
+    return Safety(
+        r.number(data, "grip_ratio", p, default=1.3, minimum=1.0, maximum=5.0),
+        r.quantity(data, "balance_margin", p, "length", default=0.03, minimum=0.0, maximum=0.5),
+        r.number(data, "lift_ratio", p, default=0.5, minimum=0.0, maximum=1.0),
+        r.quantity(data, "landing_margin", p, "length", default=0.5, minimum=0.0, maximum=5.0),
+        r.quantity(data, "clearance", p, "length", default=0.5, minimum=0.0, maximum=5.0),
+    )
+
+
+def _structures(raw: dict, r: _Reader, keyframes: list[Keyframe]) -> list[Structure]:
+    out = []
+    for path, item in r.items(raw, "structures", "", required=False):
+        r.unknown(item, path, ("kind", "name", "at", "reached_at", "span", "soffit"))
+        kind = r.choice(item, "kind", path, STRUCTURE_KINDS)
+        if ("at" in item) == ("reached_at" in item):
+            r.fail(path, "give either at (distance along the track) or reached_at (time the lead car reaches it)")
+            continue
+        if "at" in item:
+            x = r.quantity(item, "at", path, "length", minimum=0.0)
+        else:
+            t = r.quantity(item, "reached_at", path, "time", minimum=0.0)
+            x = None if t is None or not keyframes else _distance_at(keyframes, t)
+        span = r.quantity(item, "span", path, "length", positive=True, maximum=2000.0)
+        soffit = r.quantity(item, "soffit", path, "length", positive=True, maximum=20.0)
+        if None not in (kind, x, span, soffit):
+            out.append(Structure(kind, str(item.get("name", kind)), x, span, soffit))
+    return out
+
+
+def _distance_at(keyframes: list[Keyframe], t: float) -> float:
+    from physics.consist import distance_travelled
+    return float(distance_travelled(keyframes, t))
+
+
+def _lines(raw: dict, r: _Reader) -> list[Line]:
+    out = []
+    for path, item in r.items(raw, "lines", "", required=False):
+        r.unknown(item, path, ("start", "end", "wire_height", "exclusion"))
+        start = r.quantity(item, "start", path, "length")
+        end = r.quantity(item, "end", path, "length")
+        height = r.quantity(item, "wire_height", path, "length", positive=True, maximum=12.0)
+        # No default exclusion: a number that pretends to be safe is worse than none.
+        exclusion = r.quantity(item, "exclusion", path, "length", positive=True, maximum=10.0)
+        if None not in (start, end, height, exclusion):
+            if end <= start:
+                r.fail(f"{path}.end", "must be beyond start")
+            out.append(Line(start, end, height, exclusion))
+    return out
+
+
+def validate_posture_names() -> None:
+    """Every action posture must exist in the body model (checked in tests)."""
+    for kind in ACTION_KINDS:
+        if kind not in ("walk", "run", "jump"):
+            assert kind in body.POSTURES, kind

@@ -1,0 +1,5 @@
+"""roofbeat preview: everything a person sees (CLI, window, exports, reports).
+
+pygame and matplotlib are imported inside the functions that need them, so
+`roofbeat --help` and `roofbeat check` start fast.
+"""

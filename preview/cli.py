@@ -1,0 +1,108 @@
+"""The `roofbeat` command line.
+
+Exit codes: 0 the job ran (a failing beat is a result, not an error);
+2 usage error (argparse); 3 the scene has problems; 4 an output could not be
+written or another run-time problem.
+"""
+
+from __future__ import annotations
+
+import argparse
+import sys
+from pathlib import Path
+
+EXIT_SCENE = 3
+EXIT_RUNTIME = 4
+DEFAULT_SCENE = "heritage_excursion.toml"
+
+
+def scenes_folder() -> Path:
+    return Path(__file__).resolve().parent.parent / "scenes"
+
+
+def default_scene() -> Path:
+    return scenes_folder() / DEFAULT_SCENE
+
+
+def _add_scene_args(p: argparse.ArgumentParser) -> None:
+    p.add_argument("scene", nargs="?", help=f"scene file (TOML); default: the bundled {DEFAULT_SCENE}")
+    p.add_argument("--set", dest="overrides", action="append", default=[], metavar="PATH=VALUE",
+                   help='override a scene value, e.g. --set motion.speed="110 km/h" (repeatable)')
+
+
+def build_parser() -> argparse.ArgumentParser:
+    parser = argparse.ArgumentParser(
+        prog="roofbeat",
+        description="Simulate and previsualise a performer's beat on the roof of a moving train car or truck. "
+                    "A planning aid on simplified physics, not a safety certificate.")
+    sub = parser.add_subparsers(dest="command", required=True)
+    check = sub.add_parser("check", help="simulate a scene and print verdicts with margins")
+    _add_scene_args(check)
+    check.add_argument("--json", action="store_true", help="print one JSON object instead of the table")
+    play = sub.add_parser("play", help="play the beat in a preview window")
+    _add_scene_args(play)
+    render = sub.add_parser("render", help="export the preview headless to MP4, GIF or PNG frames")
+    _add_scene_args(render)
+    render.add_argument("-o", "--output", required=True, help="OUT.mp4, OUT.gif or a folder for PNG frames")
+    render.add_argument("--frame", choices=("ground", "car", "split"), default="car")
+    render.add_argument("--from", dest="t_from", type=float, default=None, metavar="SECONDS")
+    render.add_argument("--to", dest="t_to", type=float, default=None, metavar="SECONDS")
+    render.add_argument("--fps", type=int, default=None)
+    render.add_argument("--size", default="1280x720", help="WIDTHxHEIGHT, default 1280x720")
+    return parser
+
+
+def load(args) -> "object":
+    from physics.scene_load import load_scene
+    path = Path(args.scene) if args.scene else default_scene()
+    return load_scene(path, args.overrides)
+
+
+def cmd_check(args) -> int:
+    from physics.simulation import simulate
+    from physics.verdict import summarise
+    from preview.report import json_report, text_report
+    scene = load(args)
+    trajectory = simulate(scene)
+    summary = summarise(scene, trajectory.events, trajectory.margins)
+    print(json_report(scene, summary) if args.json else text_report(scene, summary))
+    return 0
+
+
+def cmd_play(args) -> int:
+    from preview.window import play
+    return play(load(args), args)
+
+
+def cmd_render(args) -> int:
+    from preview.export import render
+    return render(load(args), args)
+
+
+COMMANDS = {"check": cmd_check, "play": cmd_play, "render": cmd_render}
+
+
+def main(argv: list[str] | None = None) -> int:
+    args = build_parser().parse_args(argv)
+    from physics.scene_load import SceneError
+    try:
+        return COMMANDS[args.command](args)
+    except SceneError as exc:
+        print(exc.render(), file=sys.stderr)
+        return EXIT_SCENE
+    except OutputError as exc:
+        print(f"roofbeat: {exc}", file=sys.stderr)
+        return EXIT_RUNTIME
+    except BrokenPipeError:
+        return 0
+    except KeyboardInterrupt:
+        print("roofbeat: interrupted; nothing was left half-written", file=sys.stderr)
+        return 130
+
+
+class OutputError(Exception):
+    """An output that could not be written; the message says which and why."""
+
+
+if __name__ == "__main__":
+    sys.exit(main())

@@ -1,0 +1,83 @@
+"""The text table and JSON of `roofbeat check`."""
+
+from __future__ import annotations
+
+import json
+
+from physics.units import to_display
+from physics.wind_scales import BEAUFORT_NAMES, beaufort, pedestrian_threshold, saffir_simpson
+from preview.caution import CAUTION
+from preview.timecode import timecode
+
+
+def _fmt(value, spec: str, unit: str = "") -> str:
+    if value is None:
+        return "n/a"
+    return f"{value:{spec}}{(' ' + unit) if unit else ''}"
+
+
+def wind_words(speed: float, system: str) -> str:
+    """'14.5 m/s, Beaufort 7 (near gale), Lawson: ...' for a wind speed in m/s."""
+    value, unit = to_display(speed, "wind", system)
+    force = beaufort(speed)
+    words = f"{value:.1f} {unit}, Beaufort {force} ({BEAUFORT_NAMES[force]})"
+    category = saffir_simpson(speed)
+    if category:
+        words += f", Saffir-Simpson category {category} strength"
+    threshold = pedestrian_threshold(speed)
+    if threshold:
+        words += f"; pedestrian threshold crossed: {threshold}"
+    return words
+
+
+def text_report(scene, summary: dict) -> str:
+    system = scene.units
+    lines = [f"roofbeat check: {scene.title}", f"scene file: {scene.source}", ""]
+    header = (f"{'action':<16}{'time (s)':>12}  {'verdict':<9}{'grip':>6}{'balance':>10}{'lift':>6}"
+              f"{'lean':>7}{'wind':>13}{'Bft':>4}{'drag':>9}")
+    lines += [header, "-" * len(header)]
+    for row in summary["actions"]:
+        if not row["reached"]:
+            lines.append(f"{row['name'][:15]:<16}{row['start_s']:5.1f}-{row['end_s']:<6.1f} {'fails':<9}"
+                         "not reached: the beat failed before this action")
+            continue
+        wind, wind_unit = to_display(row["apparent_wind_max_ms"], "wind", system)
+        drag, drag_unit = to_display(row["drag_max_n"], "force", system)
+        bal = row["balance_margin_min_m"]
+        bal_text = "n/a" if bal is None else f"{to_display(bal, 'length', system)[0]:.2f} {to_display(0, 'length', system)[1]}"
+        lines.append(
+            f"{row['name'][:15]:<16}{row['start_s']:5.1f}-{row['end_s']:<6.1f} {row['verdict']:<9}"
+            f"{_fmt(row['grip_ratio_min'], '.2f'):>6}{bal_text:>10}{_fmt(row['lift_ratio_min'], '.2f'):>6}"
+            f"{row['lean_max_deg']:6.1f}°{wind:8.1f} {wind_unit:<4}{row['beaufort_max']:>4}{drag:7.0f} {drag_unit}")
+        extra = []
+        if row["landing_margin_min_m"] is not None:
+            extra.append(f"landing margin {_fmt(to_display(row['landing_margin_min_m'], 'length', system)[0], '.2f')}")
+        if row["clearance_min_m"] is not None:
+            extra.append(f"overhead clearance {_fmt(to_display(row['clearance_min_m'], 'length', system)[0], '.2f')}")
+        if extra:
+            lines.append(" " * 16 + "; ".join(extra) + f" {to_display(0, 'length', system)[1]}")
+    lines.append("")
+    lines.append("grip = roof friction available / needed (min); balance = margin of stability (min); "
+                 "lift = normal force / weight (min); lean = lean needed to balance the load (max)")
+    peak = max((r["apparent_wind_max_ms"] for r in summary["actions"]), default=0.0)
+    lines.append(f"apparent wind, highest: {wind_words(peak, system)}")
+    lines.append("")
+    lines.append(f"verdict: {summary['verdict'].upper()}")
+    first = summary["first_failure"]
+    if first:
+        x_car, unit = to_display(first["x_car_m"], "length", system)
+        x_ground, _ = to_display(first["x_ground_m"], "length", system)
+        where = f"on {first['car_name']}" if first["car_name"] else "off the roof"
+        lines.append(f"first failure: {first['kind']} at {timecode(first['time_s'], scene.frame_rate)} "
+                     f"({first['time_s']:.2f} s) {where}, car frame x = {x_car:.2f} {unit}, "
+                     f"ground frame x = {x_ground:.1f} {unit}: {first['detail']}")
+    others = [e for e in summary["events"] if e is not first]
+    for e in others:
+        lines.append(f"  also: {e['kind']} at {e['time_s']:.2f} s: {e['detail']}")
+    lines += ["", "CAUTION: " + CAUTION]
+    return "\n".join(lines)
+
+
+def json_report(scene, summary: dict) -> str:
+    out = {"scene": scene.title, "file": scene.source, "units": "SI", **summary, "caution": CAUTION}
+    return json.dumps(out, indent=2)
