@@ -20,17 +20,23 @@ SEA_LEVEL_TEMPERATURE = 288.15  # K
 SEA_LEVEL_PRESSURE = 101325.0  # Pa
 LAPSE_RATE = 0.0065  # K/m, troposphere
 GAS_CONSTANT_AIR = 287.053  # J/(kg K)
-TROPOPAUSE = 11000.0  # m
+TROPOPAUSE = 11000.0  # m, geopotential
+EARTH_RADIUS_1976 = 6356766.0  # m, the radius US Std Atm 1976 uses for geopotential height
+
+
+def geopotential(altitude: float) -> float:
+    """Geopotential height (m) of a geometric altitude above sea level (m)."""
+    return EARTH_RADIUS_1976 * altitude / (EARTH_RADIUS_1976 + altitude)
 
 
 def isa_temperature(altitude: float) -> float:
-    """ISA temperature (K) at a geopotential altitude (m) in the troposphere."""
-    return SEA_LEVEL_TEMPERATURE - LAPSE_RATE * altitude
+    """ISA temperature (K) at a geometric altitude (m) in the troposphere."""
+    return SEA_LEVEL_TEMPERATURE - LAPSE_RATE * geopotential(altitude)
 
 
 def isa_pressure(altitude: float) -> float:
-    """ISA static pressure (Pa) at altitude (m), troposphere barometric formula."""
-    if not -1000.0 <= altitude <= TROPOPAUSE:
+    """ISA static pressure (Pa) at geometric altitude (m), troposphere barometric formula."""
+    if not -1000.0 <= geopotential(altitude) <= TROPOPAUSE:
         raise ValueError(f"altitude {altitude} m is outside the troposphere model (-1000 m to 11000 m)")
     exponent = G / (GAS_CONSTANT_AIR * LAPSE_RATE)
     return SEA_LEVEL_PRESSURE * (isa_temperature(altitude) / SEA_LEVEL_TEMPERATURE) ** exponent

@@ -98,8 +98,14 @@ def _contact_for_steps(scene: Scene, times: np.ndarray) -> np.ndarray:
     return contact
 
 
-def place(angles: np.ndarray, facing: np.ndarray, contact: np.ndarray, stature: float):
-    """Posture rows -> endpoints relative to the pivot, com, inertia, support, rotation flags."""
+def place(angles: np.ndarray, facing: np.ndarray, contact: np.ndarray, stature: float, gait=None):
+    """Posture rows -> endpoints relative to the pivot, com, inertia, support, rotation flags.
+
+    In gait rows (walk, run) the pivot is the point under the hip and the
+    support one foot's length around it: the stance foot changes every step,
+    and a pivot that jumped with it would shake the balance model.
+    """
+    gait = np.zeros(len(angles), dtype=bool) if gait is None else gait
     ends = body.segment_endpoints(angles, stature)
     ends[..., 0] *= facing[:, None, None]
     ends[..., 1] -= ends[..., 1].min(axis=(1, 2))[:, None, None]
@@ -107,7 +113,7 @@ def place(angles: np.ndarray, facing: np.ndarray, contact: np.ndarray, stature: 
     seg_com = ends[:, :, 0, :] + constants.com_fraction[None, :, None] * (ends[:, :, 1, :] - ends[:, :, 0, :])
     com = np.einsum("s,rsk->rk", constants.mass_fraction, seg_com)
     touching = ends[..., 1] < body.CONTACT_TOLERANCE  # (R, 12, 2)
-    pivot = _pivot_x(ends, touching, contact, com)
+    pivot = np.where(gait, 0.0, _pivot_x(ends, touching, contact, com))
     ends[..., 0] -= pivot[:, None, None]
     com[:, 0] -= pivot
     seg_com[..., 0] -= pivot[:, None]
@@ -121,6 +127,9 @@ def place(angles: np.ndarray, facing: np.ndarray, contact: np.ndarray, stature: 
     rotates[contact == body.CONTACT_BODY] = False
     standing = body.segment_endpoints(np.array([body.POSTURES["stand"]], float), stature)
     ratio = body.drag_area(ends, constants) / body.drag_area(standing, constants)[0]
+    foot = body.FOOT_LENGTH * stature
+    lo = np.where(gait, -body.HEEL_TO_ANKLE * foot, lo)
+    hi = np.where(gait, (1 - body.HEEL_TO_ANKLE) * foot, hi)
     knees = contact == body.CONTACT_KNEES
     knee_x = ends[:, [body.THIGH_N, body.THIGH_F], 1, 0]
     # The kneecaps bear on the roof too: the support reaches just past them.
@@ -161,15 +170,25 @@ def build_timeline(scene: Scene) -> Timeline:
     all_angles = np.vstack([angles, np.array(extra_angles, float)])
     all_facing = np.concatenate([facing, np.array(extra_facing, float)])
     all_contact = np.concatenate([contact, np.array(extra_contact, dtype=np.int64)])
+    gait = np.concatenate([_gait_rows(scene, times), np.zeros(len(extra_angles), dtype=bool)])
     ends, com, inertia, support, rotates, ratio, hip = place(all_angles, all_facing, all_contact,
-                                                             scene.performer.stature)
+                                                             scene.performer.stature, gait)
     reset = np.zeros(n, dtype=np.bool_)
-    reset[1:] = (contact[1:] != contact[:-1]) | (facing[1:] != facing[:-1])
+    reset[1:] = (contact[1:] != contact[:-1]) | (facing[1:] != facing[:-1]) | (gait[1:n] != gait[:n - 1])
     action_idx, gait_speed, gait_friction, gait_rate = _gait(scene, times)
     codes, takeoff = _action_table(scene)
     return Timeline(times, ends, com, inertia, support, all_contact, rotates, ratio, hip, reset, action_idx,
                     gait_speed,
                     gait_friction, gait_rate, codes, takeoff, np.array(act_rows, dtype=np.int64))
+
+
+def _gait_rows(scene: Scene, times: np.ndarray) -> np.ndarray:
+    """Steps that belong to a walk or run (or a jump's run-up) on the feet."""
+    rows = np.zeros(times.size, dtype=bool)
+    for action in scene.actions:
+        if action.kind in ("walk", "run") or (action.kind == "jump" and action.speed > 0):
+            rows |= (times >= action.start - 1e-12) & (times < action.end - 1e-12)
+    return rows
 
 
 def _gait(scene: Scene, times: np.ndarray):

@@ -446,9 +446,12 @@ def _run_variant(b, p, times, speed, accel, dist, gust_x, gust_y, ends, com, ine
         gphase += 2.0 * math.pi * gait_rate[k] * dt
         f_gait = gait_friction[k] * weight * math.sin(gphase) if mode == PLANTED and not lying else 0.0
         a_cx = thdd * cz - om * om * cx
-        need_x = mass * a_cx - (fx + pseudo + f_gait)
+        # Grip demand is quasi-static, as a coordinator reckons it: the
+        # horizontal loads the roof must hold against the weight less lift.
+        need_x = -(fx - mass * A + f_gait)
         need_y = -fy
-        demand = math.sqrt(need_x * need_x + need_y * need_y) / max(normal, 1e-6)
+        static_normal = weight - fz
+        demand = math.sqrt(need_x * need_x + need_y * need_y) / max(static_normal, 1e-6)
         if mode == PLANTED or (mode == DOWN and lying and u == 0.0):
             if demand > mu_s:
                 _event(events, b, EV_SLIP, t, x, car_front, car_rear, demand, mu_s, x + s_d)
@@ -484,7 +487,7 @@ def _run_variant(b, p, times, speed, accel, dist, gust_x, gust_y, ends, com, ine
                     ends, arow, 0.0, x, pz, com[arow, 0], com[arow, 1], act_takeoff[act, 1], act_takeoff[act, 2],
                     com)
         if not (mode == DOWN) and not lying:
-            _margins(margins, b, act, mu_s, demand, mos, normal / weight, lean_required,
+            _margins(margins, b, act, mu_s, demand, mos, static_normal / weight, lean_required,
                      math.sqrt(wx * wx + uy * uy), math.sqrt(fx * fx + fy * fy + fz * fz), kind)
         margins[b, act, M_STEPS] += 1.0
         if mode != FLIGHT:
@@ -493,7 +496,7 @@ def _run_variant(b, p, times, speed, accel, dist, gust_x, gust_y, ends, com, ine
                 mode = GONE
         if record:
             _record_planted(rec, rec_ends, rec_force, k, t, mode, x, pz, th, cx, cz, V, s_d, ux, uy, wx, fx, fy, fz,
-                            normal, need_x, need_y, pseudo, weight, demand, mu_s, mos, xcom, lo, hi,
+                            normal, need_x, need_y, -mass * A, weight, demand, mu_s, mos, xcom, lo, hi,
                             lean_required, act, ends, row, rotates, c, s, seg)
     final[b, 0] = mode
     final[b, 1] = x

@@ -222,7 +222,8 @@ def parse_scene(text: str, source: str, overrides: list[str] | None = None) -> S
     try:
         raw = tomllib.loads(text)
     except tomllib.TOMLDecodeError as exc:
-        line = getattr(exc, "lineno", None)
+        found = re.search(r"line (\d+)", str(exc))
+        line = getattr(exc, "lineno", None) or (int(found.group(1)) if found else None)
         raise SceneError(source, [Problem("(file)", f"not valid TOML: {exc}", line)]) from None
     reader = _Reader(_key_lines(text))
     raw = apply_overrides(raw, overrides or [], reader)

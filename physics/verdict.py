@@ -50,7 +50,7 @@ def event_list(scene: Scene, events: np.ndarray) -> list[dict]:
 def describe(kind: str, demand: float, available: float) -> str:
     """The numbers behind an event in plain words (SI)."""
     if kind == "slip":
-        return f"grip needed {demand:.2f}, roof gives {available:.2f}"
+        return f"grip needed {demand:.3f}, roof gives {available:.3f}"
     if kind in ("topple", "recovery step"):
         return f"extrapolated centre of mass {abs(demand - available):.3f} m outside the support"
     if kind == "lift":
