@@ -70,7 +70,7 @@ def _normal(state):
 
 
 @njit(cache=True)
-def _aero(ends, rows, c, s, px, pz, wx, wy, wz, q_cross, q_axial, lumped, lumped_q, com_x, com_z, out_seg):
+def _aero(axes, rows, c, s, px, pz, wx, wy, wz, q_cross, q_axial, lumped, lumped_q, com_x, com_z, out_seg):
     """Aerodynamic force on a posture rotated by the lean (cos c, sin s) about (px, pz).
 
     w = apparent wind (m/s) taken uniform over the body. Returns total force,
@@ -93,22 +93,12 @@ def _aero(ends, rows, c, s, px, pz, wx, wy, wz, q_cross, q_axial, lumped, lumped
             out_seg[i, 0] = 0.0
             out_seg[i, 1] = 0.0
         return fx_t, fy_t, fz_t, a, b
-    for i in range(ends.shape[1]):
-        x0 = ends[rows, i, 0, 0]
-        z0 = ends[rows, i, 0, 1]
-        x1 = ends[rows, i, 1, 0]
-        z1 = ends[rows, i, 1, 1]
-        mx = 0.5 * (x0 + x1)
-        mz = 0.5 * (z0 + z1)
-        dx = x1 - x0
-        dz = z1 - z0
-        length = math.sqrt(dx * dx + dz * dz)
-        if length < 1e-9:
-            out_seg[i, 0] = 0.0
-            out_seg[i, 1] = 0.0
-            continue
-        ex0 = dx / length
-        ez0 = dz / length
+    for i in range(axes.shape[1]):
+        # axes[rows, i] = midpoint (x, z) and unit axis (x, z) of the unrotated segment.
+        mx = axes[rows, i, 0]
+        mz = axes[rows, i, 1]
+        ex0 = axes[rows, i, 2]
+        ez0 = axes[rows, i, 3]
         ex = ex0 * c + ez0 * s
         ez = -ex0 * s + ez0 * c
         along = wx * ex + wz * ez
@@ -168,7 +158,7 @@ def _overhead(ends, rows, c, s, px, pz, rotates, s_dist, t, structures, lines, m
         for j in range(2):
             x0 = ends[rows, i, j, 0]
             z0 = ends[rows, i, j, 1]
-            if lean_about_pivot and rotates[rows, i]:
+            if lean_about_pivot == 2 or (lean_about_pivot == 1 and rotates[rows, i]):
                 x = px + x0 * c + z0 * s
                 z = pz - x0 * s + z0 * c
             else:
@@ -212,9 +202,9 @@ V_ = {name: i for i, name in enumerate(VARIANT_FIELDS)}
 
 
 @njit(cache=True)
-def _flight_accel(ends, row, fc, fs, vx, vz, V, A, ux, uy, q_cross, q_axial, lumped, lumped_q, mass, seg):
+def _flight_accel(axes, row, fc, fs, vx, vz, V, A, ux, uy, q_cross, q_axial, lumped, lumped_q, mass, seg):
     """Acceleration (car frame) of a rigid posture in flight: gravity, drag, pseudo-force."""
-    fx, fy, fz, a, b = _aero(ends, row, fc, fs, 0.0, 0.0, ux - (V + vx), uy, -vz, q_cross, q_axial, lumped,
+    fx, fy, fz, a, b = _aero(axes, row, fc, fs, 0.0, 0.0, ux - (V + vx), uy, -vz, q_cross, q_axial, lumped,
                              lumped_q, 0.0, 0.0, seg)
     return fx / mass - A, fz / mass - G
 
@@ -237,7 +227,7 @@ def _lowest_point(ends, row, fc, fs, com_x, com_z):
 
 
 @njit(cache=True)
-def _run_variant(b, p, times, speed, accel, dist, gust_x, gust_y, ends, com, inertia, support, contact,
+def _run_variant(b, p, times, speed, accel, dist, gust_x, gust_y, ends, axes, com, inertia, support, contact,
                  rotates, drag_ratio, hip, reset, action, gait_speed, gait_friction, gait_rate, act_code,
                  act_start, act_takeoff, act_rows, cars, q_cross_base, q_axial_base, lumped, lumped_cda, structures, lines,
                  events, margins, final, record, rec, rec_ends, rec_force):
@@ -289,6 +279,7 @@ def _run_variant(b, p, times, speed, accel, dist, gust_x, gust_y, ends, com, ine
     low_dx = 0.0
     low_dz = 0.0
     fallen = False
+    overhead = structures.shape[0] > 0 or lines.shape[0] > 0
     jumped_action = -1
     landed_action = -1
     for k in range(n):
@@ -319,7 +310,7 @@ def _run_variant(b, p, times, speed, accel, dist, gust_x, gust_y, ends, com, ine
             continue
         if mode == FLIGHT:
             mode, x, u, th, om, cx_f, cz_f, vx_f, vz_f, fallen, landed = _flight_step(
-                b, k, t, dt, V, speed[min(k + 1, n - 1)] * sp, A, ux, uy, cx_f, cz_f, vx_f, vz_f, ends, frow, fc,
+                b, k, t, dt, V, speed[min(k + 1, n - 1)] * sp, A, ux, uy, cx_f, cz_f, vx_f, vz_f, ends, axes, frow, fc,
                 fs, low_dx, low_dz, com, act_rows, act, q_cross, q_axial, lumped, lumped_q0 * drag_ratio[frow],
                 mass, seg, cars, events, margins, p[12], fallen, s_d)
             if landed:
@@ -330,9 +321,10 @@ def _run_variant(b, p, times, speed, accel, dist, gust_x, gust_y, ends, com, ine
                 udot = 0.0
                 thdd = 0.0
             if mode == FLIGHT or mode == GONE:
-                _overhead(ends, frow, fc, fs, cx_f - (com[frow, 0] * fc + com[frow, 1] * fs),
-                          cz_f - (-com[frow, 0] * fs + com[frow, 1] * fc), rotates, s_d, t, structures, lines,
-                          margins, act, events, b, car_front, car_rear, False)
+                if overhead:
+                    _overhead(ends, frow, fc, fs, cx_f - (com[frow, 0] * fc + com[frow, 1] * fs),
+                              cz_f - (-com[frow, 0] * fs + com[frow, 1] * fc), rotates, s_d, t, structures,
+                              lines, margins, act, events, b, car_front, car_rear, 2)
                 if record:
                     _record_flight(rec, rec_ends, rec_force, k, t, V, s_d, ux, uy, act, ends, frow, fc, fs,
                                    cx_f, cz_f, vx_f, vz_f, com, seg, mode)
@@ -349,7 +341,7 @@ def _run_variant(b, p, times, speed, accel, dist, gust_x, gust_y, ends, com, ine
         c0z = com[row, 1]
         kind = 2 if lying else contact[row]
         lq = lumped_q0 * drag_ratio[row]
-        fx, fy, fz, a_aero, b_aero = _aero(ends, row, c, s, x, pz, wx, uy, 0.0, q_cross, q_axial, lumped, lq,
+        fx, fy, fz, a_aero, b_aero = _aero(axes, row, c, s, x, pz, wx, uy, 0.0, q_cross, q_axial, lumped, lq,
                                            c0x, c0z, seg)
         cx = c0x * c + c0z * s
         cz = -c0x * s + c0z * c
@@ -490,9 +482,9 @@ def _run_variant(b, p, times, speed, accel, dist, gust_x, gust_y, ends, com, ine
             _margins(margins, b, act, mu_s, demand, mos, static_normal / weight, lean_required,
                      math.sqrt(wx * wx + uy * uy), math.sqrt(fx * fx + fy * fy + fz * fz), kind)
         margins[b, act, M_STEPS] += 1.0
-        if mode != FLIGHT:
+        if mode != FLIGHT and overhead:
             if _overhead(ends, row, c, s, x, pz, rotates, s_d, t, structures, lines, margins, act, events, b,
-                         car_front, car_rear, True):
+                         car_front, car_rear, 1):
                 mode = GONE
         if record:
             _record_planted(rec, rec_ends, rec_force, k, t, mode, x, pz, th, cx, cz, V, s_d, ux, uy, wx, fx, fy, fz,
@@ -513,7 +505,7 @@ def _enter_flight(ends, row, th, x, pz, cx, cz, vx, vz, com):
 
 
 @njit(cache=True)
-def _flight_step(b, k, t, dt, V0, V1, A, ux, uy, cx, cz, vx, vz, ends, frow, fc, fs, low_dx, low_dz, com,
+def _flight_step(b, k, t, dt, V0, V1, A, ux, uy, cx, cz, vx, vz, ends, axes, frow, fc, fs, low_dx, low_dz, com,
                  act_rows, act, q_cross, q_axial, lumped, lq, mass, seg, cars, events, margins, step_len,
                  fallen, s_d):
     """One RK4 step of flight, then landing or fall detection.
@@ -521,12 +513,12 @@ def _flight_step(b, k, t, dt, V0, V1, A, ux, uy, cx, cz, vx, vz, ends, frow, fc,
     Returns (mode, pivot x, u, lean, lean rate, com x, com z, vx, vz, fallen, landed).
     """
     Vh = 0.5 * (V0 + V1)
-    k1x, k1z = _flight_accel(ends, frow, fc, fs, vx, vz, V0, A, ux, uy, q_cross, q_axial, lumped, lq, mass, seg)
-    k2x, k2z = _flight_accel(ends, frow, fc, fs, vx + 0.5 * dt * k1x, vz + 0.5 * dt * k1z, Vh, A, ux, uy, q_cross,
+    k1x, k1z = _flight_accel(axes, frow, fc, fs, vx, vz, V0, A, ux, uy, q_cross, q_axial, lumped, lq, mass, seg)
+    k2x, k2z = _flight_accel(axes, frow, fc, fs, vx + 0.5 * dt * k1x, vz + 0.5 * dt * k1z, Vh, A, ux, uy, q_cross,
                              q_axial, lumped, lq, mass, seg)
-    k3x, k3z = _flight_accel(ends, frow, fc, fs, vx + 0.5 * dt * k2x, vz + 0.5 * dt * k2z, Vh, A, ux, uy, q_cross,
+    k3x, k3z = _flight_accel(axes, frow, fc, fs, vx + 0.5 * dt * k2x, vz + 0.5 * dt * k2z, Vh, A, ux, uy, q_cross,
                              q_axial, lumped, lq, mass, seg)
-    k4x, k4z = _flight_accel(ends, frow, fc, fs, vx + dt * k3x, vz + dt * k3z, V1, A, ux, uy, q_cross, q_axial,
+    k4x, k4z = _flight_accel(axes, frow, fc, fs, vx + dt * k3x, vz + dt * k3z, V1, A, ux, uy, q_cross, q_axial,
                              lumped, lq, mass, seg)
     nx = cx + dt * (vx + dt / 6.0 * (k1x + k2x + k3x))
     nz = cz + dt * (vz + dt / 6.0 * (k1z + k2z + k3z))
@@ -679,14 +671,14 @@ def _record_planted(rec, rec_ends, rec_force, k, t, mode, x, pz, th, cx, cz, V, 
 
 
 @njit(cache=True, parallel=True)
-def run_batch(params, times, speed, accel, dist, gust_x, gust_y, ends, com, inertia, support, contact, rotates,
+def run_batch(params, times, speed, accel, dist, gust_x, gust_y, ends, axes, com, inertia, support, contact, rotates,
               drag_ratio, hip, reset, action, gait_speed, gait_friction, gait_rate, act_code, act_start, act_takeoff, act_rows,
               cars, q_cross_base, q_axial_base, lumped, lumped_cda, structures, lines, events, margins, final,
               record, rec, rec_ends, rec_force):
     """Run every variant (rows of params) through the whole beat, in parallel."""
     for b in prange(params.shape[0]):
         rec_this = record and b == 0
-        _run_variant(b, params[b], times, speed, accel, dist, gust_x, gust_y, ends, com, inertia, support, contact,
+        _run_variant(b, params[b], times, speed, accel, dist, gust_x, gust_y, ends, axes, com, inertia, support, contact,
                      rotates, drag_ratio, hip, reset, action, gait_speed, gait_friction, gait_rate, act_code, act_start,
                      act_takeoff, act_rows, cars, q_cross_base, q_axial_base, lumped, lumped_cda, structures,
                      lines, events, margins, final, rec_this, rec, rec_ends, rec_force)

@@ -78,6 +78,15 @@ def drag_calibration(scene: Scene) -> float:
     return scene.performer.drag_area / float(body.drag_area(standing, body.body_constants(scene.performer.stature))[0])
 
 
+def segment_axes(ends: np.ndarray) -> np.ndarray:
+    """(R, 12, 4): midpoint x, z and unit axis x, z of every segment of every row."""
+    mid = 0.5 * (ends[:, :, 0, :] + ends[:, :, 1, :])
+    axis = ends[:, :, 1, :] - ends[:, :, 0, :]
+    norm = np.linalg.norm(axis, axis=-1, keepdims=True)
+    unit = np.where(norm > 1e-9, axis / np.maximum(norm, 1e-9), 0.0)
+    return np.ascontiguousarray(np.concatenate([mid, unit], axis=-1))
+
+
 def _kernel_inputs(scene: Scene, timeline: Timeline):
     times = timeline.times
     speed = consist.speed_at(scene.keyframes, times)
@@ -93,7 +102,7 @@ def _kernel_inputs(scene: Scene, timeline: Timeline):
     act_start = np.array([a.start for a in scene.actions], dtype=float)
     lumped = scene.performer.body_model == "lumped"
     lumped_cda = scene.performer.drag_area if lumped else 0.0
-    return (times, speed, accel, dist, gust_x, gust_y, timeline.ends, timeline.com, timeline.inertia,
+    return (times, speed, accel, dist, gust_x, gust_y, timeline.ends, segment_axes(timeline.ends), timeline.com, timeline.inertia,
             timeline.support, timeline.contact, timeline.rotates, timeline.drag_ratio, timeline.hip, timeline.reset,
             timeline.action,
             timeline.gait_speed, timeline.gait_friction, timeline.gait_rate, timeline.act_code, act_start,
