@@ -33,7 +33,7 @@ class Timeline:
     contact: np.ndarray      # (R,) body.CONTACT_*
     rotates: np.ndarray      # (R, 12) whether a segment is drawn rotated by the lean
     drag_ratio: np.ndarray   # (R,) drag area in a headwind relative to standing (lumped body)
-    hip: np.ndarray          # (R,) hip x relative to the pivot
+    hip: np.ndarray          # (R,) how far the pivot moves at this step when its definition changes, m
     reset: np.ndarray        # (T,) the pivot or facing changes at this step: balance restarts
     action: np.ndarray       # (T,) action index
     gait_speed: np.ndarray   # (T,) commanded speed relative to the roof, m/s, signed (+ front)
@@ -163,7 +163,7 @@ def build_timeline(scene: Scene) -> Timeline:
     extra_angles, extra_facing, extra_contact, act_rows = [], [], [], []
     for a, action in enumerate(scene.actions):
         air = action.air_posture if action.kind == "jump" else "upright"
-        extra_angles += [body.POSTURES[air], body.POSTURES["brace" if action.kind == "jump" else "stand"]]
+        extra_angles += [body.POSTURES[air], body.POSTURES["crouch" if action.kind == "jump" else "stand"]]
         extra_facing += [action.toward if action.kind == "jump" else scene.performer.facing] * 2
         extra_contact += [body.CONTACT_FEET, body.CONTACT_FEET]
         act_rows.append((n + 2 * a, n + 2 * a + 1))
@@ -174,7 +174,13 @@ def build_timeline(scene: Scene) -> Timeline:
     ends, com, inertia, support, rotates, ratio, hip = place(all_angles, all_facing, all_contact,
                                                              scene.performer.stature, gait)
     reset = np.zeros(n, dtype=np.bool_)
-    reset[1:] = (contact[1:] != contact[:-1]) | (facing[1:] != facing[:-1]) | (gait[1:n] != gait[:n - 1])
+    pivot_moves = (contact[1:] != contact[:-1]) | (gait[1:n] != gait[:n - 1])
+    reset[1:] = pivot_moves | (facing[1:] != facing[:-1])
+    # A turn on the spot keeps the feet where they are; only a change of pivot
+    # (feet to knees, ankle to hip) keeps the hip where it is instead.
+    shift = np.zeros(hip.shape)
+    shift[1:n] = np.where(pivot_moves, hip[:n - 1] - hip[1:n], 0.0)
+    hip = shift
     action_idx, gait_speed, gait_friction, gait_rate = _gait(scene, times)
     codes, takeoff = _action_table(scene)
     return Timeline(times, ends, com, inertia, support, all_contact, rotates, ratio, hip, reset, action_idx,

@@ -45,10 +45,12 @@ R = {name: i for i, name in enumerate(REC_FIELDS)}
 # standing performer is stable with up to 0.2 s reaction latency (checked in
 # tests); human ankle-strategy models use gains of this size (from memory).
 KP_FACTOR = 1.6
-KD_FACTOR = 0.45
+KD_FACTOR = 0.8
 ANTICIPATION_TIME = 0.8   # s, the performer braces for the load felt over about this long (from memory)
 TOPPLE_HOLD = 0.1         # s the extrapolated com must stay outside the reach before it is a topple
 LIE_ANGLE = 1.4           # rad: a toppled body is lying on the roof past this lean
+LANDING_ABSORB_TIME = 0.2  # s of leg flexion in a landing (from memory; drop-landing studies ~0.1-0.3 s)
+MIN_SKID = 0.25           # m a landing can skid without a step (about a foot length, from memory)
 
 
 @njit(cache=True, inline="always")
@@ -302,7 +304,7 @@ def _run_variant(b, p, times, speed, accel, dist, gust_x, gust_y, ends, axes, co
         elif reset[k] and (mode == PLANTED or mode == SLIDING):
             # The pivot moves within the body (feet to knees) or the performer
             # turns: keep the hip where it was and restart the balance.
-            x += hip[k - 1] - hip[k]
+            x += hip[k]
             first = True
         if mode == GONE:
             if record:
@@ -535,13 +537,23 @@ def _flight_step(b, k, t, dt, V0, V1, A, ux, uy, cx, cz, vx, vz, ends, axes, fro
         touch_com_x = cx + frac * (nx - cx)
         touch_vx = vx + frac * (nvx - vx)
         land_row = act_rows[act, 1]
-        pivot = touch_com_x - com[land_row, 0]
+        # Put the landed posture's lowest point (the feet) where the feet touched.
+        land_low_x, land_low_z = _lowest_point(ends, land_row, 1.0, 0.0, 0.0, 0.0)
+        pivot = touch_com_x + low_dx - land_low_x
         margin = min(pivot - cars[ci, 1], cars[ci, 0] - pivot)
         if margin < margins[b, act, M_LAND]:
             margins[b, act, M_LAND] = margin
-        limit = math.sqrt(2.0 * cars[ci, 4] * G * max(step_len, 0.25))
-        if abs(touch_vx) > limit:
-            _event(events, b, EV_HARD, t + frac * dt, pivot, car_front, car_rear, abs(touch_vx), limit, pivot + s_d)
+        # The impact (legs flexing over LANDING_ABSORB_TIME) presses the feet
+        # down hard, so static friction takes out up to mu_s (|vz| + g t) of the
+        # horizontal speed; what is left must skid out within one recovery step.
+        touch_vz = vz + frac * (nvz - vz)
+        impact = cars[ci, 3] * (abs(touch_vz) + G * LANDING_ABSORB_TIME)
+        residual = max(abs(touch_vx) - impact, 0.0)
+        skid = math.sqrt(2.0 * cars[ci, 4] * G * max(step_len, MIN_SKID))
+        if residual > skid:
+            _event(events, b, EV_HARD, t + frac * dt, pivot, car_front, car_rear, abs(touch_vx), impact + skid,
+                   pivot + s_d)
+        touch_vx = residual if touch_vx > 0 else -residual
         if _car_at(pivot, car_front, car_rear) < 0:
             _event(events, b, EV_FALL, t + frac * dt, pivot, car_front, car_rear, margin, 0.0, pivot + s_d)
             return GONE, pivot, 0.0, 0.0, 0.0, nx, nz, nvx, nvz, True, False

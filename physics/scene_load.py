@@ -14,6 +14,7 @@ import tomllib
 from dataclasses import dataclass
 from pathlib import Path
 
+from physics import G
 from physics import air as air_model
 from physics import body
 from physics.scene import (Action, Air, Car, Gust, Keyframe, Line, Performer, Safety, Scene, Structure,
@@ -286,7 +287,7 @@ def _build(raw: dict, r: _Reader, source: str) -> Scene | None:
     air = _air(r.table(raw, "air", "", required=False), r)
     performer = _performer(r.table(raw, "performer", ""), r)
     start_car, start_x = _start(r.table(raw, "start", ""), r, cars)
-    actions = _actions(raw, r, cars)
+    actions = _actions(raw, r, cars, performer)
     safety = _safety(r.table(raw, "safety", "", required=False), r)
     sim = r.table(raw, "simulation", "", required=False)
     r.unknown(sim, "simulation", ("rate",))
@@ -424,7 +425,7 @@ def _start(data: dict, r: _Reader, cars: list[Car]) -> tuple[int, float]:
     return car - 1, (c.front_x - pos) if end == "front" else (c.rear_x + pos)
 
 
-def _actions(raw: dict, r: _Reader, cars: list[Car]) -> list[Action]:
+def _actions(raw: dict, r: _Reader, cars: list[Car], performer: Performer | None) -> list[Action]:
     actions, t = [], 0.0
     for path, item in r.items(raw, "actions", ""):
         r.unknown(item, path, ("do", "duration", "transition", "speed", "toward", "gait_friction", "label",
@@ -444,20 +445,34 @@ def _actions(raw: dict, r: _Reader, cars: list[Car]) -> list[Action]:
             gait_friction = r.number(item, "gait_friction", path, default=GAIT_FRICTION_DEFAULT[kind],
                                      minimum=0.0, maximum=1.5)
         label = item.get("label", kind)
-        extra = _jump(item, path, r, cars) if kind == "jump" else {}
+        extra = _jump(item, path, r, cars, performer) if kind == "jump" else {}
+        if kind == "jump":
+            speed = extra.pop("speed", 0.0)
         actions.append(Action(kind, t, duration, transition, speed or 0.0, toward, gait_friction or 0.0,
                               label=str(label), **extra))
         t += duration
     return actions
 
 
-def _jump(item: dict, path: str, r: _Reader, cars: list[Car]) -> dict:
-    """Jump fields: take-off point, take-off velocity (relative to the roof), posture, landing car."""
+def _jump(item: dict, path: str, r: _Reader, cars: list[Car], performer: Performer | None) -> dict:
+    """Jump fields: take-off point, take-off velocity (relative to the roof), posture, landing car.
+
+    Without a take-off speed the performer's standing long jump sets it: the
+    speed that carries that distance on still, level ground at the take-off
+    angle without drag, v = sqrt(g D / sin(2 angle)) (projectile range).
+    """
     car = r.number(item, "takeoff_car", path, integer=True, minimum=1, maximum=max(1, len(cars)))
     pos = r.quantity(item, "takeoff_position", path, "length", minimum=0.0)
     end = r.choice(item, "takeoff_from", path, ("front", "rear"), default="rear")
-    speed = r.quantity(item, "takeoff_speed", path, "speed", minimum=0.0, maximum=12.0)
-    angle = r.quantity(item, "takeoff_angle", path, "angle", minimum=0.0, maximum=math.radians(80))
+    angle = r.quantity(item, "takeoff_angle", path, "angle", minimum=math.radians(5), maximum=math.radians(85))
+    jump = performer.standing_long_jump if performer else None
+    if "takeoff_speed" in item or jump is None:
+        speed = r.quantity(item, "takeoff_speed", path, "speed", minimum=0.0, maximum=12.0)
+        if "takeoff_speed" not in item:
+            r.problems[-1] = Problem(f"{path}.takeoff_speed", "missing; give takeoff_speed or the performer's "
+                                     "standing_long_jump", r.line_of(path))
+    else:
+        speed = math.sqrt(G * jump / math.sin(2 * angle)) if angle is not None else None
     run_up = r.quantity(item, "run_up_speed", path, "speed", default=0.0, minimum=0.0, maximum=10.0)
     posture = r.choice(item, "air_posture", path, AIR_POSTURES, default="tuck")
     landing = r.number(item, "landing_car", path, integer=True, minimum=1, maximum=max(1, len(cars)))

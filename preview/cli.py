@@ -98,6 +98,10 @@ def main(argv: list[str] | None = None) -> int:
     except KeyboardInterrupt:
         print("roofbeat: interrupted; nothing was left half-written", file=sys.stderr)
         return 130
+    except Exception as exc:  # a defect of ours: say so plainly, no traceback
+        print(f"roofbeat: internal error ({type(exc).__name__}: {exc}); please report it with the scene file",
+              file=sys.stderr)
+        return EXIT_RUNTIME
 
 
 class OutputError(Exception):
