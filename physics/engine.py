@@ -507,13 +507,8 @@ def _enter_flight(ends, row, th, x, pz, cx, cz, vx, vz, com):
 
 
 @njit(cache=True)
-def _flight_step(b, k, t, dt, V0, V1, A, ux, uy, cx, cz, vx, vz, ends, axes, frow, fc, fs, low_dx, low_dz, com,
-                 act_rows, act, q_cross, q_axial, lumped, lq, mass, seg, cars, events, margins, step_len,
-                 fallen, s_d):
-    """One RK4 step of flight, then landing or fall detection.
-
-    Returns (mode, pivot x, u, lean, lean rate, com x, com z, vx, vz, fallen, landed).
-    """
+def _rk4(axes, frow, fc, fs, cx, cz, vx, vz, V0, V1, A, ux, uy, q_cross, q_axial, lumped, lq, mass, seg, dt):
+    """One classical Runge-Kutta step of the com of a rigid posture in flight (car frame)."""
     Vh = 0.5 * (V0 + V1)
     k1x, k1z = _flight_accel(axes, frow, fc, fs, vx, vz, V0, A, ux, uy, q_cross, q_axial, lumped, lq, mass, seg)
     k2x, k2z = _flight_accel(axes, frow, fc, fs, vx + 0.5 * dt * k1x, vz + 0.5 * dt * k1z, Vh, A, ux, uy, q_cross,
@@ -526,6 +521,42 @@ def _flight_step(b, k, t, dt, V0, V1, A, ux, uy, cx, cz, vx, vz, ends, axes, fro
     nz = cz + dt * (vz + dt / 6.0 * (k1z + k2z + k3z))
     nvx = vx + dt / 6.0 * (k1x + 2 * k2x + 2 * k3x + k4x)
     nvz = vz + dt / 6.0 * (k1z + 2 * k2z + 2 * k3z + k4z)
+    return nx, nz, nvx, nvz
+
+
+@njit(cache=True)
+def fly(axes, row, fc, fs, x, z, vx, vz, V, ux, uy, q_cross, q_axial, lumped, lq, mass, dt, n):
+    """Integrate a rigid posture in flight for n steps at constant consist speed V.
+
+    The same RK4 step the kernel uses; returns (n + 1, 4): x, z, vx, vz in the
+    car frame. Used by tests and benchmarks against closed forms and solve_ivp.
+    """
+    out = np.empty((n + 1, 4))
+    seg = np.zeros((axes.shape[1], 2))
+    out[0, 0] = x
+    out[0, 1] = z
+    out[0, 2] = vx
+    out[0, 3] = vz
+    for k in range(n):
+        x, z, vx, vz = _rk4(axes, row, fc, fs, x, z, vx, vz, V, V, 0.0, ux, uy, q_cross, q_axial, lumped, lq, mass,
+                            seg, dt)
+        out[k + 1, 0] = x
+        out[k + 1, 1] = z
+        out[k + 1, 2] = vx
+        out[k + 1, 3] = vz
+    return out
+
+
+@njit(cache=True)
+def _flight_step(b, k, t, dt, V0, V1, A, ux, uy, cx, cz, vx, vz, ends, axes, frow, fc, fs, low_dx, low_dz, com,
+                 act_rows, act, q_cross, q_axial, lumped, lq, mass, seg, cars, events, margins, step_len,
+                 fallen, s_d):
+    """One RK4 step of flight, then landing or fall detection.
+
+    Returns (mode, pivot x, u, lean, lean rate, com x, com z, vx, vz, fallen, landed).
+    """
+    nx, nz, nvx, nvz = _rk4(axes, frow, fc, fs, cx, cz, vx, vz, V0, V1, A, ux, uy, q_cross, q_axial, lumped, lq,
+                            mass, seg, dt)
     car_front = cars[:, 0]
     car_rear = cars[:, 1]
     z_old = cz + low_dz
@@ -557,8 +588,9 @@ def _flight_step(b, k, t, dt, V0, V1, A, ux, uy, cx, cz, vx, vz, ends, axes, fro
         if _car_at(pivot, car_front, car_rear) < 0:
             _event(events, b, EV_FALL, t + frac * dt, pivot, car_front, car_rear, margin, 0.0, pivot + s_d)
             return GONE, pivot, 0.0, 0.0, 0.0, nx, nz, nvx, nvz, True, False
-        if abs(touch_vx) > 0.02:
+        if residual > skid:
             return SLIDING, pivot, touch_vx, 0.0, 0.0, nx, nz, nvx, nvz, False, True
+        # Absorbed by the legs and a short skid: the contact model starts planted.
         return PLANTED, pivot, 0.0, 0.0, 0.0, nx, nz, nvx, nvz, False, True
     lowest_roof = cars[0, 2]
     for i in range(cars.shape[0]):

@@ -464,7 +464,7 @@ def _jump(item: dict, path: str, r: _Reader, cars: list[Car], performer: Perform
     car = r.number(item, "takeoff_car", path, integer=True, minimum=1, maximum=max(1, len(cars)))
     pos = r.quantity(item, "takeoff_position", path, "length", minimum=0.0)
     end = r.choice(item, "takeoff_from", path, ("front", "rear"), default="rear")
-    angle = r.quantity(item, "takeoff_angle", path, "angle", minimum=math.radians(5), maximum=math.radians(85))
+    angle = r.quantity(item, "takeoff_angle", path, "angle", minimum=math.radians(5), maximum=math.radians(90))
     jump = performer.standing_long_jump if performer else None
     if "takeoff_speed" in item or jump is None:
         speed = r.quantity(item, "takeoff_speed", path, "speed", minimum=0.0, maximum=12.0)
@@ -472,7 +472,12 @@ def _jump(item: dict, path: str, r: _Reader, cars: list[Car], performer: Perform
             r.problems[-1] = Problem(f"{path}.takeoff_speed", "missing; give takeoff_speed or the performer's "
                                      "standing_long_jump", r.line_of(path))
     else:
-        speed = math.sqrt(G * jump / math.sin(2 * angle)) if angle is not None else None
+        if angle is not None and math.sin(2 * angle) < 0.05:
+            r.fail(f"{path}.takeoff_angle", "a long-jump effort sets no speed for a jump this steep; "
+                   "give takeoff_speed")
+            speed = None
+        else:
+            speed = math.sqrt(G * jump / math.sin(2 * angle)) if angle is not None else None
     run_up = r.quantity(item, "run_up_speed", path, "speed", default=0.0, minimum=0.0, maximum=10.0)
     posture = r.choice(item, "air_posture", path, AIR_POSTURES, default="tuck")
     landing = r.number(item, "landing_car", path, integer=True, minimum=1, maximum=max(1, len(cars)))
