@@ -65,6 +65,8 @@ def cmd_check(args) -> int:
     scene = load(args)
     trajectory = simulate(scene)
     summary = summarise(scene, trajectory.events, trajectory.margins)
+    from physics.hazards import latest_duck_starts
+    summary["ducks"] = latest_duck_starts(scene)
     print(json_report(scene, summary) if args.json else text_report(scene, summary))
     return 0
 

@@ -62,6 +62,14 @@ def text_report(scene, summary: dict) -> str:
     peak = max((r["apparent_wind_max_ms"] for r in summary["actions"]), default=0.0)
     lines.append(f"apparent wind, highest: {wind_words(peak, system)}")
     lines.append("")
+    for duck in summary.get("ducks", []):
+        if duck["latest_start_s"] is None:
+            lines.append(f"duck '{duck['name']}' (action {duck['action']}): no start time clears the structure")
+        else:
+            spare = duck.get("spare_s")
+            words = f", {spare:+.2f} s from the planned start" if spare is not None else ""
+            lines.append(f"duck '{duck['name']}' (action {duck['action']}): latest start that still clears "
+                         f"{timecode(duck['latest_start_s'], scene.frame_rate)} ({duck['latest_start_s']:.2f} s){words}")
     lines.append(f"verdict: {summary['verdict'].upper()}")
     first = summary["first_failure"]
     if first:

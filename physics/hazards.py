@@ -1,0 +1,54 @@
+"""Overhead structures: how late a duck could start and still clear.
+
+Found by bisection on the duck's start time (the action before it lengthens,
+the duck shortens), re-simulating the whole beat each time, to half a frame.
+"""
+
+from __future__ import annotations
+
+import dataclasses
+import math
+
+from physics import engine
+from physics.scene import Scene
+from physics.simulation import simulate
+
+
+def _shifted(scene: Scene, index: int, start: float) -> Scene:
+    actions = list(scene.actions)
+    before, duck = actions[index - 1], actions[index]
+    actions[index - 1] = dataclasses.replace(before, duration=start - before.start)
+    actions[index] = dataclasses.replace(duck, start=start, duration=duck.end - start)
+    return dataclasses.replace(scene, actions=tuple(actions))
+
+
+def _strikes(scene: Scene) -> bool:
+    events = simulate(scene).events
+    return not math.isnan(events[engine.EV_STRIKE, 0])
+
+
+def latest_duck_starts(scene: Scene) -> list[dict]:
+    """For every duck (or drop to prone) after another action, in a scene with
+    structures: the latest start time that still clears, or None if none does."""
+    if not scene.structures:
+        return []
+    out = []
+    for index, action in enumerate(scene.actions):
+        if index == 0 or action.kind not in ("duck", "prone"):
+            continue
+        earliest = scene.actions[index - 1].start + 1e-3
+        latest = action.end - 1e-3
+        if _strikes(_shifted(scene, index, earliest)):
+            out.append({"action": index + 1, "name": action.label, "latest_start_s": None})
+            continue
+        if not _strikes(_shifted(scene, index, latest)):
+            out.append({"action": index + 1, "name": action.label, "latest_start_s": latest})
+            continue
+        lo, hi = earliest, latest
+        tolerance = 0.5 / scene.frame_rate
+        while hi - lo > tolerance:
+            mid = 0.5 * (lo + hi)
+            lo, hi = (mid, hi) if not _strikes(_shifted(scene, index, mid)) else (lo, mid)
+        out.append({"action": index + 1, "name": action.label, "latest_start_s": lo,
+                    "planned_start_s": action.start, "spare_s": lo - action.start})
+    return out
