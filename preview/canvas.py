@@ -52,7 +52,7 @@ class RecordingCanvas(Canvas):
     tag: str = ""
 
     def fill(self, color):
-        self.calls.append(("fill", color, self.tag))
+        self.calls.append(("fill", None, color, self.tag))
 
     def line(self, p0, p1, color, width=1):
         self.calls.append(("line", (tuple(p0), tuple(p1)), color, self.tag))
