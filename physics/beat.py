@@ -35,6 +35,7 @@ class Timeline:
     drag_ratio: np.ndarray   # (R,) drag area in a headwind relative to standing (lumped body)
     hip: np.ndarray          # (R,) how far the pivot moves at this step when its definition changes, m
     reset: np.ndarray        # (T,) the pivot or facing changes at this step: balance restarts
+    settling: np.ndarray     # (T,) inside a posture transition: balance is not assessed
     action: np.ndarray       # (T,) action index
     gait_speed: np.ndarray   # (T,) commanded speed relative to the roof, m/s, signed (+ front)
     gait_friction: np.ndarray  # (T,) peak gait horizontal force / weight
@@ -183,7 +184,12 @@ def build_timeline(scene: Scene) -> Timeline:
     hip = shift
     action_idx, gait_speed, gait_friction, gait_rate = _gait(scene, times)
     codes, takeoff = _action_table(scene)
-    return Timeline(times, ends, com, inertia, support, all_contact, rotates, ratio, hip, reset, action_idx,
+    settling = np.zeros(n, dtype=np.bool_)
+    for a, action in enumerate(scene.actions):
+        if a > 0 and action.transition > 0:
+            settling |= (times >= action.start - 1e-12) & (times < action.start + action.transition + 0.25)
+    return Timeline(times, ends, com, inertia, support, all_contact, rotates, ratio, hip, reset, settling,
+                    action_idx,
                     gait_speed,
                     gait_friction, gait_rate, codes, takeoff, np.array(act_rows, dtype=np.int64))
 

@@ -199,7 +199,7 @@ def _event(events, b, kind, t, x, car_front, car_rear, demand, available, xg):
 # Per-variant parameter columns.
 VARIANT_FIELDS = ("speed_scale", "wind_x", "wind_y", "density", "mass", "drag_scale", "friction_scale",
                   "reaction_time", "turbulence_sigma", "turbulence_seed", "gust_scale", "max_lean",
-                  "recovery_step", "start_x", "turbulence_length")
+                  "recovery_step", "start_x", "turbulence_length", "takeoff_scale")
 V_ = {name: i for i, name in enumerate(VARIANT_FIELDS)}
 
 
@@ -230,7 +230,7 @@ def _lowest_point(ends, row, fc, fs, com_x, com_z):
 
 @njit(cache=True)
 def _run_variant(b, p, times, speed, accel, dist, gust_x, gust_y, ends, axes, com, inertia, support, contact,
-                 rotates, drag_ratio, hip, reset, action, gait_speed, gait_friction, gait_rate, act_code,
+                 rotates, drag_ratio, hip, reset, settling, action, gait_speed, gait_friction, gait_rate, act_code,
                  act_start, act_takeoff, act_rows, cars, q_cross_base, q_axial_base, lumped, lumped_cda, structures, lines,
                  events, margins, final, record, rec, rec_ends, rec_force):
     dt = times[1] - times[0]
@@ -391,7 +391,12 @@ def _run_variant(b, p, times, speed, accel, dist, gust_x, gust_y, ends, axes, co
                 _record_flight(rec, rec_ends, rec_force, k, t, V, s_d, ux, uy, act, ends, frow, fc, fs, cx_f,
                                cz_f, vx_f, vz_f, com, seg, mode)
             continue
-        if kind == 2:
+        if kind == 2 or (settling[k] and mode == PLANTED):
+            # Lying down the lean is fixed; during a deliberate change of
+            # posture the performer holds the braced lean with whatever
+            # support the move uses (hands, knees): no ankle-strategy dynamics.
+            if kind != 2:
+                th = th_ref
             om = 0.0
             thdd = 0.0
         else:
@@ -478,8 +483,8 @@ def _run_variant(b, p, times, speed, accel, dist, gust_x, gust_y, ends, axes, co
                 jumped_action = act
                 arow = act_rows[act, 0]
                 mode, cx_f, cz_f, vx_f, vz_f, frow, fc, fs, low_dx, low_dz = _enter_flight(
-                    ends, arow, 0.0, x, pz, com[arow, 0], com[arow, 1], act_takeoff[act, 1], act_takeoff[act, 2],
-                    com)
+                    ends, arow, 0.0, x, pz, com[arow, 0], com[arow, 1], act_takeoff[act, 1] * p[15],
+                    act_takeoff[act, 2] * p[15], com)
         if not (mode == DOWN) and not lying:
             _margins(margins, b, act, mu_s, demand, mos, static_normal / weight, lean_required,
                      math.sqrt(wx * wx + uy * uy), math.sqrt(fx * fx + fy * fy + fz * fz), kind)
@@ -716,13 +721,13 @@ def _record_planted(rec, rec_ends, rec_force, k, t, mode, x, pz, th, cx, cz, V, 
 
 @njit(cache=True, parallel=True)
 def run_batch(params, times, speed, accel, dist, gust_x, gust_y, ends, axes, com, inertia, support, contact, rotates,
-              drag_ratio, hip, reset, action, gait_speed, gait_friction, gait_rate, act_code, act_start, act_takeoff, act_rows,
+              drag_ratio, hip, reset, settling, action, gait_speed, gait_friction, gait_rate, act_code, act_start, act_takeoff, act_rows,
               cars, q_cross_base, q_axial_base, lumped, lumped_cda, structures, lines, events, margins, final,
               record, rec, rec_ends, rec_force):
     """Run every variant (rows of params) through the whole beat, in parallel."""
     for b in prange(params.shape[0]):
         rec_this = record and b == 0
         _run_variant(b, params[b], times, speed, accel, dist, gust_x, gust_y, ends, axes, com, inertia, support, contact,
-                     rotates, drag_ratio, hip, reset, action, gait_speed, gait_friction, gait_rate, act_code, act_start,
+                     rotates, drag_ratio, hip, reset, settling, action, gait_speed, gait_friction, gait_rate, act_code, act_start,
                      act_takeoff, act_rows, cars, q_cross_base, q_axial_base, lumped, lumped_cda, structures,
                      lines, events, margins, final, rec_this, rec, rec_ends, rec_force)

@@ -60,7 +60,7 @@ def base_params(scene: Scene) -> np.ndarray:
         "reaction_time": scene.performer.reaction_time, "turbulence_sigma": turb.intensity if turb else 0.0,
         "turbulence_seed": float(turb.seed) if turb else 0.0, "gust_scale": 1.0,
         "max_lean": scene.performer.max_lean, "recovery_step": scene.performer.recovery_step,
-        "start_x": scene.start_x, "turbulence_length": turb.length_scale if turb else 1.0,
+        "start_x": scene.start_x, "turbulence_length": turb.length_scale if turb else 1.0, "takeoff_scale": 1.0,
     }
     for name, value in values.items():
         p[engine.V_[name]] = value
@@ -104,6 +104,7 @@ def _kernel_inputs(scene: Scene, timeline: Timeline):
     lumped_cda = scene.performer.drag_area if lumped else 0.0
     return (times, speed, accel, dist, gust_x, gust_y, timeline.ends, segment_axes(timeline.ends), timeline.com, timeline.inertia,
             timeline.support, timeline.contact, timeline.rotates, timeline.drag_ratio, timeline.hip, timeline.reset,
+            timeline.settling,
             timeline.action,
             timeline.gait_speed, timeline.gait_friction, timeline.gait_rate, timeline.act_code, act_start,
             timeline.act_takeoff, timeline.act_rows, cars, constants.crossflow_area, constants.axial_area, lumped,

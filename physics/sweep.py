@@ -1,0 +1,230 @@
+"""Sweeps over one or two scene parameters on the engine's batch axis, and the
+thresholds where the verdict changes, refined by root finding.
+
+A parameter here is a quantity a coordinator varies: the consist's top speed,
+the ambient wind speed or direction, roof friction, performer mass or drag
+area, gust size, take-off effort. Each maps onto one column of the engine's
+per-variant parameters, so a whole sweep is one batch.
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass
+
+import numpy as np
+from scipy.optimize import brentq
+
+from physics import engine
+from physics.air import wind_vector
+from physics.scene import Scene
+from physics.simulation import BatchResult, base_params, drag_calibration, simulate_batch
+from physics.verdict import FAILURE_KINDS, TERMINAL_KINDS
+
+# name -> (dimension for parsing and display, description)
+PARAMETERS = {
+    "speed": ("speed", "top speed of the consist (the whole speed profile scales)"),
+    "wind_speed": ("speed", "ambient wind speed"),
+    "wind_from": ("angle", "direction the ambient wind blows from (0 = ahead)"),
+    "friction": ("dimensionless", "static roof friction of the performer's car (all friction scales)"),
+    "mass": ("mass", "performer mass"),
+    "drag_area": ("area", "performer's standing drag area"),
+    "gust": ("speed", "peak of the largest gust (all gusts scale)"),
+    "effort": ("length", "standing long jump (take-off speed scales with its square root)"),
+}
+
+
+class SweepError(ValueError):
+    """A sweep that cannot be run as asked; the message says why."""
+
+
+def base_value(scene: Scene, name: str) -> float:
+    """The scene's own value of a sweep parameter (SI)."""
+    if name == "speed":
+        return max(k.speed for k in scene.keyframes)
+    if name == "wind_speed":
+        return scene.air.wind_speed
+    if name == "wind_from":
+        return scene.air.wind_from
+    if name == "friction":
+        return scene.cars[scene.start_car].sole_static
+    if name == "mass":
+        return scene.performer.mass
+    if name == "drag_area":
+        if scene.performer.drag_area is None:
+            raise SweepError("drag_area can be varied only when the scene gives performer.drag_area")
+        return scene.performer.drag_area
+    if name == "gust":
+        if not scene.air.gusts:
+            raise SweepError("gust can be varied only when the scene has [[air.gusts]]")
+        return max(g.peak for g in scene.air.gusts)
+    if name == "effort":
+        if scene.performer.standing_long_jump is None:
+            raise SweepError("effort can be varied only when the scene gives performer.standing_long_jump")
+        return scene.performer.standing_long_jump
+    raise SweepError(f"unknown parameter {name!r}; expected one of {', '.join(PARAMETERS)}")
+
+
+def apply(scene: Scene, params: np.ndarray, name: str, values: np.ndarray) -> None:
+    """Set parameter `name` to `values` (SI) in the rows of params, in place."""
+    base = base_value(scene, name)
+    col = engine.V_
+    if name == "speed":
+        if base <= 0:
+            raise SweepError("speed cannot be varied for a consist that never moves")
+        params[:, col["speed_scale"]] = values / base
+    elif name in ("wind_speed", "wind_from"):
+        speed = values if name == "wind_speed" else np.full(values.shape, scene.air.wind_speed)
+        direction = values if name == "wind_from" else np.full(values.shape, scene.air.wind_from)
+        wx, wy = wind_vector(1.0, 0.0)
+        params[:, col["wind_x"]] = -speed * np.cos(direction)
+        params[:, col["wind_y"]] = -speed * np.sin(direction)
+    elif name == "friction":
+        params[:, col["friction_scale"]] = values / base
+    elif name == "mass":
+        params[:, col["mass"]] = values
+    elif name == "drag_area":
+        if scene.performer.body_model == "lumped":
+            raise SweepError("drag_area of a lumped body: vary it with --set performer.drag_area instead")
+        params[:, col["drag_scale"]] = drag_calibration(scene) * values / base
+    elif name == "gust":
+        params[:, col["gust_scale"]] = values / base
+    elif name == "effort":
+        params[:, col["takeoff_scale"]] = np.sqrt(values / base)
+
+
+def verdict_codes(scene: Scene, result: BatchResult) -> np.ndarray:
+    """0 holds, 1 marginal, 2 fails, per variant (same rules as physics.verdict)."""
+    failure_idx = [engine.EVENT_KINDS.index(k) for k in FAILURE_KINDS]
+    failed = np.any(~np.isnan(result.events[:, failure_idx, 0]), axis=1)
+    m = result.margins
+    s = scene.safety
+    below = ((m[:, :, engine.M_GRIP] < s.grip_ratio) | (m[:, :, engine.M_BAL] < s.balance_margin)
+             | (m[:, :, engine.M_LIFT] < s.lift_ratio) | (m[:, :, engine.M_LAND] < s.landing_margin)
+             | (m[:, :, engine.M_CLEAR] < s.clearance)).any(axis=1)
+    return np.where(failed, 2, np.where(below, 1, 0))
+
+
+def first_failure_kinds(result: BatchResult) -> list[str | None]:
+    failure_idx = [engine.EVENT_KINDS.index(k) for k in FAILURE_KINDS]
+    times = result.events[:, failure_idx, 0]
+    out = []
+    for row in times:
+        if np.all(np.isnan(row)):
+            out.append(None)
+        else:
+            out.append(FAILURE_KINDS[int(np.nanargmin(row))])
+    return out
+
+
+def health(scene: Scene, result: BatchResult, level: int) -> np.ndarray:
+    """A continuous margin per variant whose sign separates verdict <= level-1 from >= level.
+
+    level 2 (holds at all vs fails): the grip margin (grip ratio - 1) and the
+    lift margin where those decide; other failures count as -1, no failure +1.
+    level 1 (holds with the factors vs not): the smallest margin relative to
+    its required factor; any failure counts as -1.
+    """
+    m = result.margins
+    codes = verdict_codes(scene, result)
+    kinds = first_failure_kinds(result)
+    s = scene.safety
+    out = np.empty(codes.shape)
+    for b in range(codes.size):
+        grip = np.min(m[b, :, engine.M_GRIP])
+        if level == 2:
+            if kinds[b] is None:
+                out[b] = min(1.0, grip - 1.0) if math.isfinite(grip) else 1.0
+            elif kinds[b] == "slip":
+                out[b] = grip - 1.0
+            elif kinds[b] == "lift":
+                out[b] = np.min(m[b, :, engine.M_LIFT])
+            else:
+                out[b] = -1.0
+        else:
+            if codes[b] == 2:
+                out[b] = -1.0
+                continue
+            terms = [grip / s.grip_ratio - 1.0, (np.min(m[b, :, engine.M_BAL]) - s.balance_margin) / 0.1,
+                     np.min(m[b, :, engine.M_LIFT]) / max(s.lift_ratio, 1e-9) - 1.0,
+                     (np.min(m[b, :, engine.M_LAND]) - s.landing_margin) / 0.5,
+                     (np.min(m[b, :, engine.M_CLEAR]) - s.clearance) / 0.5]
+            finite = [t for t in terms if math.isfinite(t)]
+            out[b] = min(finite) if finite else 1.0
+    return out
+
+
+@dataclass(frozen=True)
+class Threshold:
+    kind: str            # "holds with factors" or "holds at all"
+    value: float         # SI, where the verdict changes
+    tolerance: float     # SI
+    below: str           # verdict just below
+    above: str           # verdict just above
+    failure_beyond: str | None
+
+
+@dataclass(frozen=True)
+class Sweep:
+    name: str
+    values: np.ndarray
+    codes: np.ndarray
+    result: BatchResult
+    thresholds: list
+
+
+NAMES = ("holds", "marginal", "fails")
+
+
+def sweep_1d(scene: Scene, name: str, start: float, stop: float, points: int = 41,
+             tolerance: float | None = None) -> Sweep:
+    """Simulate `points` values of one parameter as one batch, then refine every
+    verdict change to `tolerance` (SI; default 0.1 % of the range) with brentq."""
+    if points < 3 or not stop > start:
+        raise SweepError("a sweep needs FROM < TO and at least 3 points")
+    values = np.linspace(start, stop, points)
+    result = _run(scene, name, values)
+    codes = verdict_codes(scene, result)
+    tol = tolerance or 1e-3 * (stop - start)
+    thresholds = []
+    for level, label in ((1, "holds with factors"), (2, "holds at all")):
+        ok = codes < level
+        for i in np.nonzero(ok[:-1] != ok[1:])[0]:
+            thresholds.append(_refine(scene, name, values[i], values[i + 1], level, label, tol))
+    return Sweep(name, values, codes, result, thresholds)
+
+
+def _run(scene: Scene, name: str, values: np.ndarray) -> BatchResult:
+    params = np.tile(base_params(scene), (len(values), 1))
+    apply(scene, params, name, np.asarray(values, dtype=float))
+    return simulate_batch(scene, params)
+
+
+def _refine(scene, name, a, b, level, label, tol) -> Threshold:
+    def f(v):
+        return float(health(scene, _run(scene, name, np.array([v])), level)[0])
+    fa, fb = f(a), f(b)
+    if fa == 0.0 or fb == 0.0 or np.sign(fa) == np.sign(fb):
+        value = 0.5 * (a + b)
+    else:
+        value = brentq(f, a, b, xtol=tol)
+    just = _run(scene, name, np.array([value - tol, value + tol]))
+    codes = verdict_codes(scene, just)
+    kinds = first_failure_kinds(just)
+    return Threshold(label, value, tol, NAMES[codes[0]], NAMES[codes[1]], kinds[1] or kinds[0])
+
+
+def sweep_2d(scene: Scene, first: tuple, second: tuple, points: int = 25):
+    """Verdict map over two parameters (one batch): values1, values2, codes (n2, n1)."""
+    (n1, a1, b1), (n2, a2, b2) = first, second
+    v1, v2 = np.linspace(a1, b1, points), np.linspace(a2, b2, points)
+    grid1, grid2 = np.meshgrid(v1, v2)
+    params = np.tile(base_params(scene), (grid1.size, 1))
+    apply(scene, params, n1, grid1.ravel())
+    apply(scene, params, n2, grid2.ravel())
+    result = simulate_batch(scene, params)
+    return v1, v2, verdict_codes(scene, result).reshape(grid1.shape), result
+
+
+def terminal(kind: str | None) -> bool:
+    return kind in TERMINAL_KINDS
