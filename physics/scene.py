@@ -136,6 +136,9 @@ class Scene:
     structures: tuple[Structure, ...] = ()
     lines: tuple[Line, ...] = ()
     raw: dict = field(default_factory=dict, compare=False, repr=False)
+    # Spread (SI, +/-) of values written with an uncertainty, by sweep parameter
+    # name (speed, wind_speed, mass, drag_area, friction, reaction_time).
+    uncertain: dict = field(default_factory=dict, compare=False)
 
     @property
     def duration(self) -> float:

@@ -20,7 +20,7 @@ from physics import body
 from physics.scene import (Action, Air, Car, Gust, Keyframe, Line, Performer, Safety, Scene, Structure,
                            Turbulence)
 from physics.surfaces import SURFACES
-from physics.units import QuantityError, parse_quantity
+from physics.units import QuantityError, parse_quantity, parse_uncertain
 
 ACTION_KINDS = ("stand", "brace", "crouch", "duck", "kneel", "prone", "crawl", "walk", "run", "jump")
 GAIT_KINDS = ("walk", "run", "crawl")
@@ -96,6 +96,21 @@ class _Reader:
     def __init__(self, lines: dict[str, int]):
         self.lines = lines
         self.problems: list[Problem] = []
+        self.uncertain: dict[str, float] = {}
+
+    def _split_uncertain(self, data: dict, key: str, dimension: str, uncertain_as: str | None, full: str):
+        """'0.7 m^2 +/- 15%' -> value text stays for the normal checks; spread is recorded."""
+        value = data.get(key)
+        if uncertain_as is None or not isinstance(value, str) or not ("+/-" in value or "±" in value):
+            return data
+        try:
+            parsed = parse_uncertain(value, dimension)
+        except QuantityError as exc:
+            self.fail(full, str(exc))
+            return None
+        self.uncertain[uncertain_as] = parsed.spread
+        base = value.replace("±", "+/-").split("+/-")[0].strip()
+        return {key: base if dimension != "dimensionless" else float(base)}
 
     def line_of(self, path: str) -> int | None:
         probe = path
@@ -122,8 +137,12 @@ class _Reader:
         return value
 
     def quantity(self, data: dict, key: str, path: str, dimension: str, default=None, required=True,
-                 minimum: float | None = None, maximum: float | None = None, positive: bool = False):
+                 minimum: float | None = None, maximum: float | None = None, positive: bool = False,
+                 uncertain_as: str | None = None):
         full = f"{path}.{key}" if path else key
+        data = self._split_uncertain(data, key, dimension, uncertain_as, full)
+        if data is None:
+            return default
         if key not in data:
             if required and default is None:
                 self.fail(full, f"missing; expected a {dimension} with units")
@@ -144,8 +163,12 @@ class _Reader:
             return default
         return value
 
-    def number(self, data, key, path, default=None, required=True, minimum=None, maximum=None, integer=False):
+    def number(self, data, key, path, default=None, required=True, minimum=None, maximum=None, integer=False,
+               uncertain_as: str | None = None):
         full = f"{path}.{key}" if path else key
+        data = self._split_uncertain(data, key, "dimensionless", uncertain_as, full)
+        if data is None:
+            return default
         if key not in data:
             if required and default is None:
                 self.fail(full, "missing; expected a number")
@@ -296,8 +319,12 @@ def _build(raw: dict, r: _Reader, source: str) -> Scene | None:
     lines = _lines(raw, r)
     if r.problems:
         return None
+    uncertain = {k: v for k, v in r.uncertain.items() if not k.startswith("friction@")}
+    if f"friction@{start_car}" in r.uncertain:
+        uncertain["friction"] = r.uncertain[f"friction@{start_car}"]
     return Scene(title, source, units, frame_rate, tuple(cars), tuple(keyframes), air, performer, start_x,
-                 start_car, tuple(actions), safety, 1.0 / rate, tuple(structures), tuple(lines), raw)
+                 start_car, tuple(actions), safety, 1.0 / rate, tuple(structures), tuple(lines), raw,
+                 uncertain)
 
 
 def _cars(consist: dict, r: _Reader) -> list[Car]:
@@ -314,7 +341,8 @@ def _cars(consist: dict, r: _Reader) -> list[Car]:
         gap = r.quantity(item, "gap", path, "length", default=0.0 if last else None, minimum=0.0, maximum=50.0)
         surface_name = item.get("roof", default_roof)
         surface = SURFACES.get(surface_name) if isinstance(surface_name, str) else None
-        explicit = {k: r.number(item, k, path, required=False, minimum=0.0, maximum=2.0)
+        explicit = {k: r.number(item, k, path, required=False, minimum=0.0, maximum=2.0,
+                                uncertain_as=f"friction@{n}" if k == "roof_static" else None)
                     for k in ("roof_static", "roof_kinetic", "body_static", "body_kinetic")}
         if surface is None and (surface_name is not None or explicit["roof_static"] is None):
             r.fail(f"{path}.roof", f"unknown roof surface {surface_name!r}; expected one of "
@@ -344,7 +372,7 @@ def _motion(motion: dict, r: _Reader) -> list[Keyframe]:
         r.fail("motion", "give either speed (constant) or keyframes (a list of time and speed), not both")
         return []
     if "speed" in motion:
-        speed = r.quantity(motion, "speed", "motion", "speed", minimum=0.0, maximum=150.0)
+        speed = r.quantity(motion, "speed", "motion", "speed", minimum=0.0, maximum=150.0, uncertain_as="speed")
         return [Keyframe(0.0, speed)] if speed is not None else []
     frames = []
     for path, item in r.items(motion, "keyframes", "motion"):
@@ -367,7 +395,8 @@ def _air(data: dict, r: _Reader) -> Air:
     rho = r.quantity(data, "density", "air", "density", required=False, minimum=0.5, maximum=1.6)
     if rho is None:
         rho = air_model.density(altitude, temperature)
-    wind_speed = r.quantity(data, "wind_speed", "air", "speed", default=0.0, minimum=0.0, maximum=80.0)
+    wind_speed = r.quantity(data, "wind_speed", "air", "speed", default=0.0, minimum=0.0, maximum=80.0,
+                            uncertain_as="wind_speed")
     wind_from = r.quantity(data, "wind_from", "air", "angle", default=0.0)
     gusts = []
     for path, item in r.items(data, "gusts", "air", required=False):
@@ -395,13 +424,15 @@ def _performer(data: dict, r: _Reader) -> Performer:
     r.unknown(data, p, ("stature", "mass", "drag_area", "body", "facing", "reaction_time", "max_lean",
                         "recovery_step", "standing_long_jump"))
     stature = r.quantity(data, "stature", p, "length", minimum=1.2, maximum=2.3)
-    mass = r.quantity(data, "mass", p, "mass", minimum=30.0, maximum=200.0)
-    drag_area = r.quantity(data, "drag_area", p, "area", required=False, minimum=0.2, maximum=2.0)
+    mass = r.quantity(data, "mass", p, "mass", minimum=30.0, maximum=200.0, uncertain_as="mass")
+    drag_area = r.quantity(data, "drag_area", p, "area", required=False, minimum=0.2, maximum=2.0,
+                           uncertain_as="drag_area")
     model = r.choice(data, "body", p, ("segmented", "lumped"), default="segmented")
     if model == "lumped" and drag_area is None:
         r.fail(f"{p}.drag_area", "the lumped body needs its standing drag area, e.g. \"0.7 m^2\"")
     facing = r.choice(data, "facing", p, ("front", "rear"), default="front")
-    reaction = r.quantity(data, "reaction_time", p, "time", default=0.12, minimum=0.0, maximum=0.25)
+    reaction = r.quantity(data, "reaction_time", p, "time", default=0.12, minimum=0.0, maximum=0.25,
+                          uncertain_as="reaction_time")
     max_lean = r.quantity(data, "max_lean", p, "angle", default=math.radians(25), minimum=0.0,
                           maximum=math.radians(60))
     step = r.quantity(data, "recovery_step", p, "length", default=0.0, minimum=0.0, maximum=1.5)

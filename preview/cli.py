@@ -49,6 +49,23 @@ def build_parser() -> argparse.ArgumentParser:
     render.add_argument("--to", dest="t_to", type=float, default=None, metavar="SECONDS")
     render.add_argument("--fps", type=int, default=None)
     render.add_argument("--size", default="1280x720", help="WIDTHxHEIGHT, default 1280x720")
+    envelope = sub.add_parser("envelope", help="sweep a parameter and find where the verdict changes")
+    _add_scene_args(envelope)
+    envelope.add_argument("--vary", action="append", required=True, metavar="PARAM=FROM..TO",
+                          help="speed, wind_speed, wind_from, friction, mass, drag_area, gust or effort, "
+                               "e.g. speed=20..140 km/h; twice for a two-parameter map")
+    envelope.add_argument("--points", type=int, default=41, help="grid points before refinement (default 41)")
+    envelope.add_argument("--json", action="store_true")
+    envelope.add_argument("--plot", metavar="PNG", help="write a plot of the margins (or the map)")
+    risk = sub.add_parser("risk", help="Monte Carlo over the scene's stated uncertainties (+/-)")
+    _add_scene_args(risk)
+    risk.add_argument("--samples", type=int, default=1000)
+    risk.add_argument("--seed", type=int, default=0)
+    risk.add_argument("--json", action="store_true")
+    brief = sub.add_parser("brief", help="one printable page for the safety meeting (PDF + JSON)")
+    _add_scene_args(brief)
+    brief.add_argument("-o", "--output", required=True, metavar="BRIEF.pdf")
+    brief.add_argument("--paper", choices=("a4", "letter"), default="a4")
     return parser
 
 
@@ -81,7 +98,23 @@ def cmd_render(args) -> int:
     return render(load(args), args)
 
 
-COMMANDS = {"check": cmd_check, "play": cmd_play, "render": cmd_render}
+def cmd_envelope(args) -> int:
+    from preview.analysis import cmd_envelope as run
+    return run(args)
+
+
+def cmd_risk(args) -> int:
+    from preview.analysis import cmd_risk as run
+    return run(args)
+
+
+def cmd_brief(args) -> int:
+    from preview.brief import cmd_brief as run
+    return run(args)
+
+
+COMMANDS = {"check": cmd_check, "play": cmd_play, "render": cmd_render, "envelope": cmd_envelope,
+            "risk": cmd_risk, "brief": cmd_brief}
 
 
 def main(argv: list[str] | None = None) -> int:

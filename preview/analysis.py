@@ -1,0 +1,197 @@
+"""`roofbeat envelope` and `roofbeat risk`: tables, JSON and plots of the sweeps."""
+
+from __future__ import annotations
+
+import json
+import math
+import re
+import sys
+from pathlib import Path
+
+from physics.units import QuantityError, parse_quantity, to_display
+from preview.caution import CAUTION
+
+DISPLAY_DIMENSION = {"speed": "speed", "wind_speed": "wind", "mass": "mass", "drag_area": "area", "gust": "wind",
+                     "effort": "length"}
+
+
+def parse_vary(text: str) -> tuple[str, float, float]:
+    """'speed=20..140 km/h' -> ('speed', 5.56, 38.9) in SI."""
+    from physics.sweep import PARAMETERS
+    match = re.fullmatch(r"\s*([a-z_]+)\s*=\s*(.+?)\s*\.\.\s*(.+?)\s*", text)
+    if not match:
+        raise ValueError(f"--vary {text!r}: expected PARAM=FROM..TO, e.g. speed=20..140 km/h")
+    name, lo_text, hi_text = match.groups()
+    if name not in PARAMETERS:
+        raise ValueError(f"--vary {text!r}: unknown parameter {name!r}; expected one of {', '.join(PARAMETERS)}")
+    dimension = PARAMETERS[name][0]
+    unit = re.sub(r"^[+-]?[\d.eE+-]+\s*", "", hi_text)
+    if dimension != "dimensionless" and re.fullmatch(r"[+-]?[\d.]+(?:[eE][+-]?\d+)?", lo_text):
+        lo_text = f"{lo_text} {unit}"
+    try:
+        if dimension == "dimensionless":
+            lo, hi = float(lo_text), float(hi_text)
+        else:
+            lo, hi = parse_quantity(lo_text, dimension), parse_quantity(hi_text, dimension)
+    except (QuantityError, ValueError) as exc:
+        raise ValueError(f"--vary {text!r}: {exc}") from None
+    if not hi > lo:
+        raise ValueError(f"--vary {text!r}: FROM must be below TO")
+    return name, lo, hi
+
+
+def display(name: str, value: float, system: str) -> str:
+    if name == "wind_from":
+        return f"{math.degrees(value):.1f}°"
+    if name == "friction":
+        return f"{value:.3f}"
+    v, unit = to_display(value, DISPLAY_DIMENSION[name], system)
+    return f"{v:.2f} {unit}"
+
+
+def envelope_summary(scene, sweep) -> dict:
+    from physics.engine import M_BAL, M_GRIP, M_LIFT, M_WIND
+    from physics.sweep import NAMES, first_failure_kinds
+    kinds = first_failure_kinds(sweep.result)
+    m = sweep.result.margins
+    rows = []
+    for i, value in enumerate(sweep.values):
+        rows.append({"value": float(value), "verdict": NAMES[sweep.codes[i]], "first_failure": kinds[i],
+                     "grip_ratio_min": _f(m[i, :, M_GRIP].min()), "balance_margin_min_m": _f(m[i, :, M_BAL].min()),
+                     "lift_ratio_min": _f(m[i, :, M_LIFT].min()), "apparent_wind_max_ms": float(m[i, :, M_WIND].max())})
+    holding = [t for t in sweep.thresholds]
+    return {
+        "scene": scene.title, "parameter": sweep.name, "units": "SI", "rows": rows,
+        "thresholds": [{"kind": t.kind, "value": t.value, "tolerance": t.tolerance, "below": t.below,
+                        "above": t.above, "failure_beyond": t.failure_beyond} for t in holding],
+        "highest_holding_with_factors": _highest(sweep, 1), "highest_holding_at_all": _highest(sweep, 2),
+        "caution": CAUTION,
+    }
+
+
+def _highest(sweep, level: int):
+    """The highest value at which the verdict is below `level`, refined where a threshold exists."""
+    ok = sweep.codes < level
+    if not ok.any():
+        return None
+    best = float(sweep.values[ok].max())
+    label = "holds with factors" if level == 1 else "holds at all"
+    for t in sweep.thresholds:
+        if t.kind == label and abs(t.value - best) <= (sweep.values[1] - sweep.values[0]) * 1.01:
+            best = t.value
+    return best
+
+
+def _f(x):
+    return float(x) if math.isfinite(x) else None
+
+
+def envelope_text(scene, summary: dict) -> str:
+    name, system = summary["parameter"], scene.units
+    lines = [f"roofbeat envelope: {scene.title}", f"varying {name}", "",
+             f"{'value':>14}  {'verdict':<9}{'grip':>7}{'balance':>10}{'lift':>7}  first failure"]
+    for row in summary["rows"]:
+        bal = row["balance_margin_min_m"]
+        lines.append(f"{display(name, row['value'], system):>14}  {row['verdict']:<9}"
+                     f"{_num(row['grip_ratio_min']):>7}{_num(bal):>10}{_num(row['lift_ratio_min']):>7}  "
+                     f"{row['first_failure'] or ''}")
+    lines.append("")
+    for t in summary["thresholds"]:
+        lines.append(f"threshold ({t['kind']}): {display(name, t['value'], system)} "
+                     f"(+/- {display(name, t['tolerance'], system) if name not in ('wind_from', 'friction') else t['tolerance']})"
+                     f": {t['below']} below, {t['above']} above; first failure beyond: {t['failure_beyond'] or '-'}")
+    for key, words in (("highest_holding_with_factors", "highest value that holds with the required factors"),
+                       ("highest_holding_at_all", "highest value that holds at all")):
+        value = summary[key]
+        lines.append(f"{words}: {display(name, value, system) if value is not None else 'none in the range'}")
+    lines += ["", "CAUTION: " + CAUTION]
+    return "\n".join(lines)
+
+
+def _num(x) -> str:
+    return "n/a" if x is None else f"{x:.2f}"
+
+
+def cmd_envelope(args) -> int:
+    from physics.sweep import SweepError, sweep_1d, sweep_2d
+    from preview.cli import OutputError, load
+    scene = load(args)
+    try:
+        varies = [parse_vary(v) for v in args.vary]
+        if len(varies) not in (1, 2):
+            raise ValueError("give --vary once (envelope) or twice (two-parameter map)")
+        if len(varies) == 2:
+            return _map(scene, varies, args)
+        sweep = sweep_1d(scene, *varies[0], points=args.points)
+    except (ValueError, SweepError) as exc:
+        raise OutputError(str(exc)) from None
+    summary = envelope_summary(scene, sweep)
+    print(json.dumps(summary, indent=2) if args.json else envelope_text(scene, summary))
+    if args.plot:
+        from preview.plots import envelope_plot
+        envelope_plot(scene, sweep, summary, Path(args.plot))
+        print(f"wrote {args.plot}", file=sys.stderr)
+    return 0
+
+
+def _map(scene, varies, args) -> int:
+    from physics.sweep import NAMES, sweep_2d
+    v1, v2, codes, result = sweep_2d(scene, varies[0], varies[1], points=min(args.points, 41))
+    summary = {"scene": scene.title, "parameters": [varies[0][0], varies[1][0]], "units": "SI",
+               "values_1": v1.tolist(), "values_2": v2.tolist(),
+               "verdicts": [[NAMES[c] for c in row] for row in codes], "caution": CAUTION}
+    if args.json:
+        print(json.dumps(summary, indent=2))
+    else:
+        name1, name2 = summary["parameters"]
+        print(f"roofbeat envelope map: {scene.title}\nrows: {name2}; columns: {name1}; H holds, m marginal, X fails")
+        for j in range(len(v2) - 1, -1, -1):
+            print(f"{display(name2, v2[j], scene.units):>14} " + "".join("Hm X"[c if c < 2 else 3] for c in codes[j]))
+        print(f"{'':>14} {display(name1, v1[0], scene.units)} .. {display(name1, v1[-1], scene.units)}")
+        print("\nCAUTION: " + CAUTION)
+    if args.plot:
+        from preview.plots import map_plot
+        map_plot(scene, summary, codes, Path(args.plot))
+        print(f"wrote {args.plot}", file=sys.stderr)
+    return 0
+
+
+def risk_text(scene, summary: dict) -> str:
+    lines = [f"roofbeat risk: {scene.title}", f"{summary['samples']} samples, seed {summary['seed']}; "
+             f"95 % intervals: {summary['interval']}", ""]
+    if not summary["uncertain_inputs"]:
+        lines.append("the scene states no uncertainties (+/-): every sample is the same beat")
+    for name, rng in summary["uncertain_inputs"].items():
+        lines.append(f"  {name}: sampled {rng['low']:.4g} .. {rng['high']:.4g} (SI)")
+    p = summary["failure_probability"]
+    lines += ["", f"verdicts: {summary['verdicts']}",
+              f"probability the beat fails: {p['probability']:.3f} (95 % CI {p['ci95_low']:.3f}-{p['ci95_high']:.3f})"]
+    for kind, q in summary["by_kind"].items():
+        lines.append(f"  {kind}: {q['probability']:.3f} (95 % CI {q['ci95_low']:.3f}-{q['ci95_high']:.3f})")
+    lines.append("")
+    for name, m in summary["margins"].items():
+        lines.append(f"{name}: 5 % {m['p5']:.3f}, median {m['median']:.3f}, 95 % {m['p95']:.3f}")
+    if summary["drivers"]:
+        lines += ["", "inputs that drive failure most (Spearman rank correlation with failing):"]
+        for d in summary["drivers"]:
+            rho = d["rank_correlation_with_failure"]
+            lines.append(f"  {d['input']}: {'n/a' if rho is None else f'{rho:+.2f}'}")
+    lines += ["", "CAUTION: " + CAUTION]
+    return "\n".join(lines)
+
+
+def cmd_risk(args) -> int:
+    from physics.risk import run_risk, summarise_risk
+    from preview.cli import OutputError, load
+    from preview.export import Progress
+    scene = load(args)
+    if args.samples < 1 or args.samples > 2_000_000:
+        raise OutputError("--samples must be 1 to 2,000,000")
+    bar = Progress(args.samples, "sampling")
+    result = run_risk(scene, args.samples, args.seed, progress=lambda done, total: bar.update(done))
+    bar.close()
+    summary = summarise_risk(scene, result)
+    summary["scene"] = scene.title
+    summary["caution"] = CAUTION
+    print(json.dumps(summary, indent=2) if args.json else risk_text(scene, summary))
+    return 0

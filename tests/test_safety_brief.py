@@ -1,0 +1,128 @@
+"""Envelope, risk and brief: thresholds against direct runs and closed forms,
+Monte Carlo against the deterministic run, intervals against scipy, the PDF."""
+
+import json
+import math
+
+import numpy as np
+import pytest
+from scipy.stats import binomtest
+
+from physics import G
+from physics.risk import run_risk, summarise_risk, wilson_interval
+from physics.scene_load import load_scene
+from physics.simulation import simulate
+from physics.sweep import sweep_1d
+from physics.verdict import summarise
+from preview.cli import main
+from tests.conftest import REPO, SCENES, make_scene
+
+
+def verdict_at(path, kmh):
+    scene = load_scene(path, [f"motion.speed={kmh} km/h"])
+    tr = simulate(scene)
+    return summarise(scene, tr.events, tr.margins)["verdict"]
+
+
+def test_envelope_thresholds_agree_with_direct_checks():
+    path = REPO / "scenes" / "heritage_excursion.toml"
+    sweep = sweep_1d(load_scene(path), "speed", 10 / 3.6, 160 / 3.6, points=31)
+    assert sweep.thresholds
+    for t in sweep.thresholds:
+        kmh, tol = t.value * 3.6, t.tolerance * 3.6
+        assert verdict_at(path, kmh - 2 * tol) == t.below
+        assert verdict_at(path, kmh + 2 * tol) == t.above
+
+
+def test_lumped_grip_threshold_matches_closed_form():
+    # Flat roof, still air, no gait, lumped body: slip starts where
+    # mu m g = 1/2 rho CdA v^2, v = sqrt(2 mu m g / (rho CdA)); to 0.5 %.
+    cars = ['length = "20 m"\nroof_height = "4 m"\nroof_static = 0.3\nroof_kinetic = 0.2']
+    scene = make_scene(body="lumped", cars=cars, speed="50 km/h", performer_extra='max_lean = "60 deg"')
+    sweep = sweep_1d(scene, "speed", 10.0, 35.0, points=26, tolerance=0.005)
+    slip = [t for t in sweep.thresholds if t.kind == "holds at all"]
+    assert len(slip) == 1 and slip[0].failure_beyond == "slip"
+    closed = math.sqrt(2 * 0.3 * 75 * G / (1.225 * 0.7))
+    assert slip[0].value == pytest.approx(closed, rel=0.005)
+
+
+def test_monte_carlo_without_uncertainty_reproduces_the_deterministic_verdict():
+    for path in (REPO / "scenes" / "heritage_excursion.toml", REPO / "scenes" / "gap_crossing_frontward.toml"):
+        scene = load_scene(path)
+        assert not scene.uncertain
+        tr = simulate(scene)
+        expected = {"holds": 0, "marginal": 1, "fails": 2}[summarise(scene, tr.events, tr.margins)["verdict"]]
+        result = run_risk(scene, samples=40, seed=1)
+        assert np.all(result.codes == expected)
+
+
+def test_monte_carlo_is_reproducible_and_finds_the_driver():
+    scene = load_scene(REPO / "scenes" / "night_freight.toml")
+    a = summarise_risk(scene, run_risk(scene, 300, seed=9))
+    b = summarise_risk(scene, run_risk(scene, 300, seed=9))
+    assert a == b
+    assert a["drivers"][0]["input"] == "friction"
+    assert a["drivers"][0]["rank_correlation_with_failure"] < -0.3
+    c = summarise_risk(scene, run_risk(scene, 300, seed=10))
+    assert c != a
+
+
+@pytest.mark.parametrize("k, n", [(0, 10), (3, 10), (50, 100), (997, 1000), (1, 10000), (10000, 10000)])
+def test_wilson_interval_against_scipy(k, n):
+    # scipy.stats.binomtest(...).proportion_ci(method="wilson") is the reference.
+    ref = binomtest(k, n).proportion_ci(confidence_level=0.95, method="wilson")
+    assert wilson_interval(k, n) == pytest.approx((ref.low, ref.high), abs=1e-12)
+
+
+def test_brief_pdf_is_one_page_with_verdict_and_caution(tmp_path, capsys):
+    from pypdf import PdfReader
+    out = tmp_path / "brief.pdf"
+    assert main(["brief", str(REPO / "scenes" / "footbridge_late_duck.toml"), "-o", str(out)]) == 0
+    reader = PdfReader(out)
+    assert len(reader.pages) == 1
+    text = " ".join(reader.pages[0].extract_text().split())
+    assert "VERDICT: FAILS" in text
+    assert "not a safety certificate" in text
+    assert "stunt coordinator:" in text and "safety officer:" in text
+    content = json.loads(out.with_suffix(".json").read_text())
+    assert content["verdict"] == "fails" and content["first_failure"]["kind"] == "strike"
+    assert [p.name for p in tmp_path.iterdir()] == ["brief.json", "brief.pdf"] or \
+        sorted(p.name for p in tmp_path.iterdir()) == ["brief.json", "brief.pdf"]
+
+
+def test_brief_renders_with_pdftoppm_when_available(tmp_path):
+    import shutil
+    import subprocess
+    if not shutil.which("pdftoppm"):
+        pytest.skip("pdftoppm (poppler-utils) is not installed here")
+    out = tmp_path / "b.pdf"
+    assert main(["brief", "-o", str(out), "--paper", "letter"]) == 0
+    subprocess.run(["pdftoppm", "-png", "-r", "40", str(out), str(tmp_path / "page")], check=True)
+    assert [p.name for p in tmp_path.glob("page*.png")] == ["page-1.png"]
+
+
+@pytest.mark.parametrize("path", SCENES, ids=lambda p: p.name)
+def test_envelope_and_risk_commands_on_every_bundled_scene(path, capsys, tmp_path):
+    assert main(["envelope", str(path), "--vary", "speed=5..120 km/h", "--points", "9", "--json",
+                 "--plot", str(tmp_path / "env.png")]) == 0
+    data = json.loads(capsys.readouterr().out)
+    assert len(data["rows"]) == 9 and "thresholds" in data
+    assert (tmp_path / "env.png").stat().st_size > 10_000
+    assert main(["risk", str(path), "--samples", "20", "--json"]) == 0
+    risk = json.loads(capsys.readouterr().out)
+    assert risk["samples"] == 20 and risk["interval"].startswith("Wilson")
+
+
+def test_two_parameter_map(capsys, tmp_path):
+    plot = tmp_path / "map.png"
+    assert main(["envelope", "--vary", "speed=10..120 km/h", "--vary", "wind_speed=0..15 m/s", "--points", "8",
+                 "--plot", str(plot)]) == 0
+    text = capsys.readouterr().out
+    assert "rows: wind_speed; columns: speed" in text
+    assert plot.stat().st_size > 10_000
+
+
+def test_bad_vary_is_a_clear_error(capsys):
+    assert main(["envelope", "--vary", "speed=fast..faster"]) == 4
+    assert "--vary" in capsys.readouterr().err
+    assert main(["envelope", "--vary", "colour=1..2"]) == 4
