@@ -48,6 +48,9 @@ KP_FACTOR = 1.6
 KD_FACTOR = 0.8
 ANTICIPATION_TIME = 0.8   # s, the performer braces for the load felt over about this long (from memory)
 TOPPLE_HOLD = 0.1         # s the extrapolated com must stay outside the reach before it is a topple
+# Floating-point licences for the hot loops: fused multiply-add, reciprocal and
+# reassociation; never "no NaNs" or "no infinities", which the margins rely on.
+FAST = {"contract", "arcp", "afn", "reassoc", "nsz"}
 LIE_ANGLE = 1.4           # rad: a toppled body is lying on the roof past this lean
 LANDING_ABSORB_TIME = 0.2  # s of leg flexion in a landing (from memory; drop-landing studies ~0.1-0.3 s)
 MIN_SKID = 0.25           # m a landing can skid without a step (about a foot length, from memory)
@@ -66,12 +69,20 @@ def _rng_next(state):
 @njit(cache=True)
 def _normal(state):
     """Standard normal deviate (Box-Muller) from the splitmix64 stream."""
-    state, u1 = _rng_next(state)
-    state, u2 = _rng_next(state)
-    return state, math.sqrt(-2.0 * math.log(u1)) * math.cos(2.0 * math.pi * u2)
+    state, z, _ = _normal_pair(state)
+    return state, z
 
 
 @njit(cache=True)
+def _normal_pair(state):
+    """Two independent standard normal deviates (Box-Muller) from the splitmix64 stream."""
+    state, u1 = _rng_next(state)
+    state, u2 = _rng_next(state)
+    r = math.sqrt(-2.0 * math.log(u1))
+    return state, r * math.cos(2.0 * math.pi * u2), r * math.sin(2.0 * math.pi * u2)
+
+
+@njit(cache=True, fastmath=FAST)
 def _aero(axes, rows, c, s, px, pz, wx, wy, wz, q_cross, q_axial, lumped, lumped_q, com_x, com_z, out_seg):
     """Aerodynamic force on a posture rotated by the lean (cos c, sin s) about (px, pz).
 
@@ -134,9 +145,19 @@ def _solve_lean(alpha, beta, target):
     if abs(ratio) > 1.0:
         return phi if ratio > 0 else phi + math.pi, False
     d = math.acos(ratio)
-    t1 = math.atan2(math.sin(phi + d), math.cos(phi + d))
-    t2 = math.atan2(math.sin(phi - d), math.cos(phi - d))
+    t1 = _wrap(phi + d)
+    t2 = _wrap(phi - d)
     return (t1 if abs(t1) < abs(t2) else t2), True
+
+
+@njit(cache=True, inline="always")
+def _wrap(angle):
+    """Angle into (-pi, pi]; inputs here lie within (-2 pi, 2 pi)."""
+    if angle > math.pi:
+        return angle - 2.0 * math.pi
+    if angle <= -math.pi:
+        return angle + 2.0 * math.pi
+    return angle
 
 
 @njit(cache=True)
@@ -228,7 +249,7 @@ def _lowest_point(ends, row, fc, fs, com_x, com_z):
     return best_x, best_z
 
 
-@njit(cache=True)
+@njit(cache=True, fastmath=FAST)
 def _run_variant(b, p, times, speed, accel, dist, gust_x, gust_y, ends, axes, com, inertia, support, contact,
                  rotates, drag_ratio, hip, reset, settling, action, gait_speed, gait_friction, gait_rate, act_code,
                  act_start, act_takeoff, act_rows, cars, q_cross_base, q_axial_base, lumped, lumped_cda, structures, lines,
@@ -250,6 +271,8 @@ def _run_variant(b, p, times, speed, accel, dist, gust_x, gust_y, ends, axes, co
     seg = np.zeros((ends.shape[1], 2))
     state = np.uint64(int(p[9]) * 2654435761 + 12345 + b * 97)
     turb = 0.0
+    spare = 0.0
+    has_spare = False
     if p[8] > 0:
         state, z = _normal(state)
         turb = p[8] * z
@@ -294,7 +317,12 @@ def _run_variant(b, p, times, speed, accel, dist, gust_x, gust_y, ends, axes, co
             rel = abs(V - p[1])
             tau = p[14] / max(rel, 1.0)
             e = math.exp(-dt / tau)
-            state, z = _normal(state)
+            if has_spare:
+                z = spare
+                has_spare = False
+            else:
+                state, z, spare = _normal_pair(state)
+                has_spare = True
             turb = turb * e + p[8] * math.sqrt(1.0 - e * e) * z
         ux = p[1] + gust_x[k] * p[10] + turb
         uy = p[2] + gust_y[k] * p[10]
