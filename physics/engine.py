@@ -51,6 +51,7 @@ TOPPLE_HOLD = 0.1         # s the extrapolated com must stay outside the reach b
 # Floating-point licences for the hot loops: fused multiply-add, reciprocal and
 # reassociation; never "no NaNs" or "no infinities", which the margins rely on.
 FAST = {"contract", "arcp", "afn", "reassoc", "nsz"}
+TURBULENCE_STEP = 1.0 / 60.0  # s between samples of the turbulence process
 LIE_ANGLE = 1.4           # rad: a toppled body is lying on the roof past this lean
 LANDING_ABSORB_TIME = 0.2  # s of leg flexion in a landing (from memory; drop-landing studies ~0.1-0.3 s)
 MIN_SKID = 0.25           # m a landing can skid without a step (about a foot length, from memory)
@@ -273,9 +274,15 @@ def _run_variant(b, p, times, speed, accel, dist, gust_x, gust_y, ends, axes, co
     turb = 0.0
     spare = 0.0
     has_spare = False
+    knot_time = 0.0
+    knot_prev = 0.0
+    knot_next = 0.0
     if p[8] > 0:
         state, z = _normal(state)
-        turb = p[8] * z
+        knot_prev = p[8] * z
+        state, z = _normal(state)
+        knot_next = knot_prev * 0.9 + p[8] * math.sqrt(1.0 - 0.81) * z
+        turb = knot_prev
     mode = PLANTED
     x = p[13]
     u = 0.0
@@ -314,16 +321,22 @@ def _run_variant(b, p, times, speed, accel, dist, gust_x, gust_y, ends, axes, co
         s_d = dist[k] * sp
         act = action[k]
         if p[8] > 0:
-            rel = abs(V - p[1])
-            tau = p[14] / max(rel, 1.0)
-            e = math.exp(-dt / tau)
-            if has_spare:
-                z = spare
-                has_spare = False
-            else:
-                state, z, spare = _normal_pair(state)
-                has_spare = True
-            turb = turb * e + p[8] * math.sqrt(1.0 - e * e) * z
+            # The Gauss-Markov gust process advances on its own fixed clock and is
+            # interpolated, so a finer engine step sees the same air.
+            while t >= knot_time + TURBULENCE_STEP:
+                knot_time += TURBULENCE_STEP
+                rel = abs(V - p[1])
+                e = math.exp(-TURBULENCE_STEP * max(rel, 1.0) / p[14])
+                if has_spare:
+                    z = spare
+                    has_spare = False
+                else:
+                    state, z, spare = _normal_pair(state)
+                    has_spare = True
+                knot_prev = knot_next
+                knot_next = knot_next * e + p[8] * math.sqrt(1.0 - e * e) * z
+            w_knot = (t - knot_time) / TURBULENCE_STEP
+            turb = knot_prev + (knot_next - knot_prev) * w_knot
         ux = p[1] + gust_x[k] * p[10] + turb
         uy = p[2] + gust_y[k] * p[10]
         row = k

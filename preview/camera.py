@@ -51,9 +51,10 @@ class Camera:
 
 
 def _smooth_car_x(trajectory, index: int, window: float = 1.0) -> float:
-    x = trajectory.field("com_x")
-    fallback = trajectory.field("pivot_x")
-    x = np.where(np.isnan(x), fallback, x)
+    # Follow the contact point (still while the feet are planted), the centre of
+    # mass only when there is no contact (flight).
+    x = trajectory.field("pivot_x")
+    x = np.where(np.isnan(x), trajectory.field("com_x"), x)
     half = max(1, int(window / trajectory.scene.step / 2))
     lo, hi = max(0, index - half), min(x.size, index + half + 1)
     chunk = x[lo:hi]

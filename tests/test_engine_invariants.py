@@ -97,3 +97,19 @@ def test_generated_scenes_never_crash_or_nan(speed, wind, wind_from, mass, statu
     assert np.isfinite(tr.ends[live]).all()
     assert np.isfinite(tr.field("com_z")[live]).all()
     assert not math.isnan(tr.field("t")[-1])
+
+
+def test_halving_the_step_moves_events_less_than_a_frame_and_landings_less_than_a_centimetre():
+    # DESIGN section 4 accuracy target, on every bundled scene.
+    from tests.conftest import SCENES
+    from physics.scene_load import load_scene
+    for path in SCENES:
+        runs = [simulate(load_scene(path, [f"simulation.rate={rate} Hz"])) for rate in (240, 480)]
+        a, b = (r.events[:, 0] for r in runs)
+        assert np.array_equal(np.isnan(a), np.isnan(b)), path.name
+        assert np.nanmax(np.abs(a - b), initial=0.0) < 1 / 24, path.name
+        for r0, r1 in [runs]:
+            land0 = r0.margins[:, engine.M_LAND]
+            land1 = r1.margins[:, engine.M_LAND]
+            finite = np.isfinite(land0)
+            assert np.allclose(land0[finite], land1[finite], atol=0.01), path.name
