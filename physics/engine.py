@@ -183,11 +183,9 @@ def _overhead(ends, rows, c, s, px, pz, rotates, s_dist, t, structures, lines, m
             x0 = ends[rows, i, j, 0]
             z0 = ends[rows, i, j, 1]
             if lean_about_pivot == 2 or (lean_about_pivot == 1 and rotates[rows, i]):
-                x = px + x0 * c + z0 * s
-                z = pz - x0 * s + z0 * c
-            else:
-                x = px + x0
-                z = pz + z0
+                x0, z0 = _rotate(x0, z0, c, s)
+            x = px + x0
+            z = pz + z0
             xg = x + s_dist
             for k in range(structures.shape[0]):
                 if structures[k, 0] <= xg <= structures[k, 0] + structures[k, 1]:
@@ -240,10 +238,7 @@ def _lowest_point(ends, row, fc, fs, com_x, com_z):
     best_x = 0.0
     for i in range(ends.shape[1]):
         for j in range(2):
-            x0 = ends[row, i, j, 0] - com_x
-            z0 = ends[row, i, j, 1] - com_z
-            x = x0 * fc + z0 * fs
-            z = -x0 * fs + z0 * fc
+            x, z = _rotate(ends[row, i, j, 0] - com_x, ends[row, i, j, 1] - com_z, fc, fs)
             if z < best_z:
                 best_z = z
                 best_x = x
@@ -669,14 +664,23 @@ def _margins(margins, b, act, mu_s, demand, mos, lift, lean, wind, drag, kind):
         margins[b, act, M_DRAG] = drag
 
 
+@njit(cache=True, inline="always")
+def _rotate(x0, z0, c, s):
+    """A body-frame offset leaned by the angle with cosine c and sine s (top toward +x)."""
+    return x0 * c + z0 * s, -x0 * s + z0 * c
+
+
+@njit(cache=True, inline="always")
+def _put(rec, k, start, values):
+    """Write a run of consecutive REC_FIELDS columns (see R for the order)."""
+    for j in range(len(values)):
+        rec[k, start + j] = values[j]
+
+
 @njit(cache=True)
 def _record_common(rec, k, t, mode, V, s_d, ux, uy, act):
-    rec[k, 0] = t
-    rec[k, 1] = mode
-    rec[k, 7] = V
-    rec[k, 8] = s_d
-    rec[k, 9] = ux
-    rec[k, 10] = uy
+    _put(rec, k, 0, (t, float(mode)))
+    _put(rec, k, 7, (V, s_d, ux, uy))
     rec[k, 30] = act
 
 
@@ -695,12 +699,6 @@ def _record_flight(rec, rec_ends, rec_force, k, t, V, s_d, ux, uy, act, ends, fr
     for j in range(rec.shape[1]):
         rec[k, j] = math.nan
     _record_common(rec, k, t, mode, V, s_d, ux, uy, act)
-    rec[k, 5] = cx
-    rec[k, 6] = cz
-    wx = ux - (V + vx)
-    rec[k, 11] = wx
-    rec[k, 12] = uy
-    rec[k, 13] = -vz
     fx = 0.0
     fz = 0.0
     for i in range(seg.shape[0]):
@@ -708,15 +706,13 @@ def _record_flight(rec, rec_ends, rec_force, k, t, V, s_d, ux, uy, act, ends, fr
         fz += seg[i, 1]
         rec_force[k, i, 0] = seg[i, 0]
         rec_force[k, i, 1] = seg[i, 1]
-    rec[k, 14] = fx
-    rec[k, 16] = fz
-    rec[k, 17] = 0.0
+    _put(rec, k, 5, (cx, cz))
+    _put(rec, k, 11, (ux - (V + vx), uy, -vz, fx, math.nan, fz, 0.0))
     for i in range(ends.shape[1]):
         for j in range(2):
-            x0 = ends[frow, i, j, 0] - com[frow, 0]
-            z0 = ends[frow, i, j, 1] - com[frow, 1]
-            rec_ends[k, i, j, 0] = cx + x0 * fc + z0 * fs
-            rec_ends[k, i, j, 1] = cz - x0 * fs + z0 * fc
+            x, z = _rotate(ends[frow, i, j, 0] - com[frow, 0], ends[frow, i, j, 1] - com[frow, 1], fc, fs)
+            rec_ends[k, i, j, 0] = cx + x
+            rec_ends[k, i, j, 1] = cz + z
 
 
 @njit(cache=True)
@@ -724,28 +720,9 @@ def _record_planted(rec, rec_ends, rec_force, k, t, mode, x, pz, th, cx, cz, V, 
                     normal, need_x, need_y, pseudo, weight, demand, mu_s, mos, xcom, lo, hi, lean_req, act, ends,
                     row, rotates, c, s, seg):
     _record_common(rec, k, t, mode, V, s_d, ux, uy, act)
-    vals = (x, pz, th, x + cx, pz + cz)
-    for j in range(5):
-        rec[k, 2 + j] = vals[j]
-    rec[k, 11] = wx
-    rec[k, 12] = uy
-    rec[k, 13] = 0.0
-    rec[k, 14] = fx
-    rec[k, 15] = fy
-    rec[k, 16] = fz
-    rec[k, 17] = normal
-    rec[k, 18] = need_x
-    rec[k, 19] = need_y
-    rec[k, 20] = pseudo
-    rec[k, 21] = weight
-    rec[k, 22] = demand
-    rec[k, 23] = mu_s
-    rec[k, 24] = mos
-    rec[k, 25] = x + xcom
-    rec[k, 26] = x + lo
-    rec[k, 27] = x + hi
-    rec[k, 28] = normal / weight
-    rec[k, 29] = lean_req
+    _put(rec, k, 2, (x, pz, th, x + cx, pz + cz))
+    _put(rec, k, 11, (wx, uy, 0.0, fx, fy, fz, normal, need_x, need_y, pseudo, weight, demand, mu_s, mos,
+                      x + xcom, x + lo, x + hi, normal / weight, lean_req))
     for i in range(ends.shape[1]):
         rec_force[k, i, 0] = seg[i, 0]
         rec_force[k, i, 1] = seg[i, 1]
@@ -753,11 +730,9 @@ def _record_planted(rec, rec_ends, rec_force, k, t, mode, x, pz, th, cx, cz, V, 
             x0 = ends[row, i, j, 0]
             z0 = ends[row, i, j, 1]
             if rotates[row, i]:
-                rec_ends[k, i, j, 0] = x + x0 * c + z0 * s
-                rec_ends[k, i, j, 1] = pz - x0 * s + z0 * c
-            else:
-                rec_ends[k, i, j, 0] = x + x0
-                rec_ends[k, i, j, 1] = pz + z0
+                x0, z0 = _rotate(x0, z0, c, s)
+            rec_ends[k, i, j, 0] = x + x0
+            rec_ends[k, i, j, 1] = pz + z0
 
 
 @njit(cache=True, parallel=True)

@@ -54,7 +54,7 @@ def describe(kind: str, demand: float, available: float) -> str:
     if kind in ("topple", "recovery step"):
         return f"extrapolated centre of mass {abs(demand - available):.3f} m outside the support"
     if kind == "lift":
-        return f"aerodynamic lift exceeds body weight by {demand:.0f} N"
+        return f"the roof no longer bears the body: contact force {-demand:.0f} N (wind lifting or tipping it off)"
     if kind == "fall":
         return "came down off the roof (gap or car end)"
     if kind == "strike":
