@@ -248,7 +248,8 @@ def _lowest_point(ends, row, fc, fs, com_x, com_z):
 @njit(cache=True, fastmath=FAST)
 def _run_variant(b, p, times, speed, accel, dist, gust_x, gust_y, ends, axes, com, inertia, support, contact,
                  rotates, drag_ratio, hip, reset, settling, action, gait_speed, gait_friction, gait_rate, act_code,
-                 act_start, act_takeoff, act_rows, cars, q_cross_base, q_axial_base, lumped, lumped_cda, structures, lines,
+                 act_start, act_takeoff, act_rows, cars, q_cross_base, q_axial_base, lumped, lumped_cda, structures,
+                 lines,
                  events, margins, final, record, rec, rec_ends, rec_force):
     dt = times[1] - times[0]
     n = times.shape[0]
@@ -737,13 +738,15 @@ def _record_planted(rec, rec_ends, rec_force, k, t, mode, x, pz, th, cx, cz, V, 
 
 @njit(cache=True, parallel=True)
 def run_batch(params, times, speed, accel, dist, gust_x, gust_y, ends, axes, com, inertia, support, contact, rotates,
-              drag_ratio, hip, reset, settling, action, gait_speed, gait_friction, gait_rate, act_code, act_start, act_takeoff, act_rows,
+              drag_ratio, hip, reset, settling, action, gait_speed, gait_friction, gait_rate, act_code, act_start,
+              act_takeoff, act_rows,
               cars, q_cross_base, q_axial_base, lumped, lumped_cda, structures, lines, events, margins, final,
               record, rec, rec_ends, rec_force):
     """Run every variant (rows of params) through the whole beat, in parallel."""
     for b in prange(params.shape[0]):
         rec_this = record and b == 0
-        _run_variant(b, params[b], times, speed, accel, dist, gust_x, gust_y, ends, axes, com, inertia, support, contact,
-                     rotates, drag_ratio, hip, reset, settling, action, gait_speed, gait_friction, gait_rate, act_code, act_start,
+        _run_variant(b, params[b], times, speed, accel, dist, gust_x, gust_y, ends, axes, com, inertia, support,
+                     contact, rotates, drag_ratio, hip, reset, settling, action, gait_speed, gait_friction, gait_rate,
+                     act_code, act_start,
                      act_takeoff, act_rows, cars, q_cross_base, q_axial_base, lumped, lumped_cda, structures,
                      lines, events, margins, final, rec_this, rec, rec_ends, rec_force)

@@ -102,7 +102,8 @@ def _kernel_inputs(scene: Scene, timeline: Timeline):
     act_start = np.array([a.start for a in scene.actions], dtype=float)
     lumped = scene.performer.body_model == "lumped"
     lumped_cda = scene.performer.drag_area if lumped else 0.0
-    return (times, speed, accel, dist, gust_x, gust_y, timeline.ends, segment_axes(timeline.ends), timeline.com, timeline.inertia,
+    return (times, speed, accel, dist, gust_x, gust_y, timeline.ends, segment_axes(timeline.ends), timeline.com,
+            timeline.inertia,
             timeline.support, timeline.contact, timeline.rotates, timeline.drag_ratio, timeline.hip, timeline.reset,
             timeline.settling,
             timeline.action,

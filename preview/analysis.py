@@ -97,8 +97,8 @@ def envelope_text(scene, summary: dict) -> str:
                      f"{row['first_failure'] or ''}")
     lines.append("")
     for t in summary["thresholds"]:
-        lines.append(f"threshold ({t['kind']}): {display(name, t['value'], system)} "
-                     f"(+/- {display(name, t['tolerance'], system) if name not in ('wind_from', 'friction') else t['tolerance']})"
+        tol = display(name, t["tolerance"], system)
+        lines.append(f"threshold ({t['kind']}): {display(name, t['value'], system)} (+/- {tol})"
                      f": {t['below']} below, {t['above']} above; first failure beyond: {t['failure_beyond'] or '-'}")
     for key, words in (("highest_holding_with_factors", "highest value that holds with the required factors"),
                        ("highest_holding_at_all", "highest value that holds at all")):
@@ -113,7 +113,7 @@ def _num(x) -> str:
 
 
 def cmd_envelope(args) -> int:
-    from physics.sweep import SweepError, sweep_1d, sweep_2d
+    from physics.sweep import SweepError, sweep_1d
     from preview.cli import OutputError, load
     scene = load(args)
     try:

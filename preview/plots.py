@@ -2,13 +2,12 @@
 
 from __future__ import annotations
 
-import math
 import os
 from pathlib import Path
 
 import numpy as np
 
-from physics.wind_scales import BEAUFORT_LOWER, beaufort
+from physics.wind_scales import beaufort
 from preview.caution import CAUTION_SHORT
 
 VERDICT_COLORS = {0: "#3e825c", 1: "#c8962a", 2: "#d1495b"}

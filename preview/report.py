@@ -44,7 +44,7 @@ def text_report(scene, summary: dict) -> str:
         wind, wind_unit = to_display(row["apparent_wind_max_ms"], "wind", system)
         drag, drag_unit = to_display(row["drag_max_n"], "force", system)
         bal = row["balance_margin_min_m"]
-        bal_text = "n/a" if bal is None else f"{to_display(bal, 'length', system)[0]:.2f} {to_display(0, 'length', system)[1]}"
+        bal_text = "n/a" if bal is None else "{:.2f} {}".format(*to_display(bal, "length", system))
         lines.append(
             f"{row['name'][:15]:<16}{row['start_s']:5.1f}-{row['end_s']:<6.1f} {row['verdict']:<9}"
             f"{_fmt(row['grip_ratio_min'], '.2f'):>6}{bal_text:>10}{_fmt(row['lift_ratio_min'], '.2f'):>6}"
@@ -68,8 +68,9 @@ def text_report(scene, summary: dict) -> str:
         else:
             spare = duck.get("spare_s")
             words = f", {spare:+.2f} s from the planned start" if spare is not None else ""
+            latest = duck["latest_start_s"]
             lines.append(f"duck '{duck['name']}' (action {duck['action']}): latest start that still clears "
-                         f"{timecode(duck['latest_start_s'], scene.frame_rate)} ({duck['latest_start_s']:.2f} s){words}")
+                         f"{timecode(latest, scene.frame_rate)} ({latest:.2f} s){words}")
     lines.append(f"verdict: {summary['verdict'].upper()}")
     first = summary["first_failure"]
     if first:

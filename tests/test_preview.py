@@ -1,17 +1,13 @@
 """The preview: drawing logic through the recording canvas, real pixels under
 SDL_VIDEODRIVER=dummy, exports that decode, and the real window driven by keys."""
 
-import math
 import os
 import subprocess
 import sys
-from dataclasses import replace
-from pathlib import Path
 
 import numpy as np
 import pytest
 
-from physics import engine
 from physics.scene_load import load_scene
 from preview.camera import CAR, GROUND, camera_for
 from preview.canvas import RecordingCanvas
