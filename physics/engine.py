@@ -246,11 +246,10 @@ def _lowest_point(ends, row, fc, fs, com_x, com_z):
 
 
 @njit(cache=True, fastmath=FAST)
-def _run_variant(b, p, times, speed, accel, dist, gust_x, gust_y, ends, axes, com, inertia, support, contact,
-                 rotates, drag_ratio, hip, reset, settling, action, gait_speed, gait_friction, gait_rate, act_code,
-                 act_start, act_takeoff, act_rows, cars, q_cross_base, q_axial_base, lumped, lumped_cda, structures,
-                 lines,
-                 events, margins, final, record, rec, rec_ends, rec_force):
+def _run_variant(b, p, inputs, events, margins, final, record, rec, rec_ends, rec_force):
+    (times, speed, accel, dist, gust_x, gust_y, ends, axes, com, inertia, support, contact, rotates, drag_ratio,
+     hip, reset, settling, action, gait_speed, gait_friction, gait_rate, act_code, act_start, act_takeoff,
+     act_rows, cars, q_cross_base, q_axial_base, lumped, lumped_cda, structures, lines) = inputs
     dt = times[1] - times[0]
     n = times.shape[0]
     sp = p[0]
@@ -737,16 +736,19 @@ def _record_planted(rec, rec_ends, rec_force, k, t, mode, x, pz, th, cx, cz, V, 
 
 
 @njit(cache=True, parallel=True)
-def run_batch(params, times, speed, accel, dist, gust_x, gust_y, ends, axes, com, inertia, support, contact, rotates,
-              drag_ratio, hip, reset, settling, action, gait_speed, gait_friction, gait_rate, act_code, act_start,
-              act_takeoff, act_rows,
-              cars, q_cross_base, q_axial_base, lumped, lumped_cda, structures, lines, events, margins, final,
-              record, rec, rec_ends, rec_force):
-    """Run every variant (rows of params) through the whole beat, in parallel."""
+def run_batch(params, inputs, events, margins, final, record, rec, rec_ends, rec_force):
+    """Run every variant (rows of params) through the whole beat, in parallel.
+
+    inputs: the shared tuple built by physics.simulation (times, speed profile, timeline, consist, ...).
+    """
     for b in prange(params.shape[0]):
         rec_this = record and b == 0
-        _run_variant(b, params[b], times, speed, accel, dist, gust_x, gust_y, ends, axes, com, inertia, support,
-                     contact, rotates, drag_ratio, hip, reset, settling, action, gait_speed, gait_friction, gait_rate,
-                     act_code, act_start,
-                     act_takeoff, act_rows, cars, q_cross_base, q_axial_base, lumped, lumped_cda, structures,
-                     lines, events, margins, final, rec_this, rec, rec_ends, rec_force)
+        _run_variant(b, params[b], inputs, events, margins, final, rec_this, rec, rec_ends, rec_force)
+
+
+@njit(cache=True)
+def run_serial(params, inputs, events, margins, final, record, rec, rec_ends, rec_force):
+    """run_batch on one thread: a single recorded run starts faster without the thread pool."""
+    for b in range(params.shape[0]):
+        rec_this = record and b == 0
+        _run_variant(b, params[b], inputs, events, margins, final, rec_this, rec, rec_ends, rec_force)

@@ -130,7 +130,7 @@ def simulate(scene: Scene, params: np.ndarray | None = None, timeline: Timeline 
     rec = np.full((n, len(engine.REC_FIELDS)), np.nan)
     rec_ends = np.zeros((n, body.N_SEGMENTS, 2, 2))
     rec_force = np.zeros((n, body.N_SEGMENTS, 2))
-    engine.run_batch(p, *_kernel_inputs(scene, timeline), events, margins, final, True, rec, rec_ends, rec_force)
+    engine.run_serial(p, _kernel_inputs(scene, timeline), events, margins, final, True, rec, rec_ends, rec_force)
     return Trajectory(scene, timeline, rec, rec_ends, rec_force, events[0], margins[0], p[0])
 
 
@@ -140,6 +140,6 @@ def simulate_batch(scene: Scene, params: np.ndarray, timeline: Timeline | None =
     params = np.ascontiguousarray(params, dtype=float)
     events, margins, final = _outputs(params.shape[0], len(scene.actions))
     empty = np.zeros((1, len(engine.REC_FIELDS)))
-    engine.run_batch(params, *_kernel_inputs(scene, timeline), events, margins, final, False, empty,
+    engine.run_batch(params, _kernel_inputs(scene, timeline), events, margins, final, False, empty,
                      np.zeros((1, body.N_SEGMENTS, 2, 2)), np.zeros((1, body.N_SEGMENTS, 2)))
     return BatchResult(events, margins, final, params, timeline.steps)

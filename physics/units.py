@@ -14,7 +14,16 @@ from dataclasses import dataclass
 
 import pint
 
-ureg = pint.UnitRegistry()
+def _registry() -> pint.UnitRegistry:
+    # pint can cache its parsed definitions on disk, which halves start-up;
+    # without a writable cache folder it works the same, only slower.
+    try:
+        return pint.UnitRegistry(cache_folder=":auto:")
+    except (OSError, ValueError, TypeError):
+        return pint.UnitRegistry()
+
+
+ureg = _registry()
 ureg.define("kph = kilometer / hour")
 
 # A plain decimal number, then one space-separated unit expression that starts
