@@ -521,6 +521,8 @@ def _run_variant(b, p, inputs, events, margins, final, record, rec, rec_ends, re
                 mode, cx_f, cz_f, vx_f, vz_f, frow, fc, fs, low_dx, low_dz = _enter_flight(
                     ends, arow, 0.0, x, pz, com[arow, 0], com[arow, 1], act_takeoff[act, 1] * p[15],
                     act_takeoff[act, 2] * p[15], com)
+        if settling[k]:
+            lean_required = 0.0  # mid-transition postures are not stances anyone holds
         if not (mode == DOWN) and not lying:
             _margins(margins, b, act, mu_s, demand, mos, static_normal / weight, lean_required,
                      math.sqrt(wx * wx + uy * uy), math.sqrt(fx * fx + fy * fy + fz * fz), kind)

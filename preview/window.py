@@ -81,6 +81,8 @@ def handle_key(state: PlayerState, key: str, shift: bool = False, screenshot_dir
     """Apply one key press (pygame key name) to the player state."""
     scene = state.playback.scene
     frame_step = 1.0 / scene.frame_rate
+    if state.view.message.startswith("screenshot saved"):
+        state.view = replace(state.view, message="")
     v = state.view
     toggles = {"1": "weight", "2": "aero", "3": "segments", "4": "reaction", "5": "pseudo", "6": "wind",
                "7": "balance"}
