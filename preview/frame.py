@@ -382,7 +382,8 @@ def draw_readout(canvas, playback: Playback, t: float, view: ViewSettings) -> No
     ]
     x, y = 12, 10
     canvas.rect(x, y, 360, 30 + 20 * len(rows), PANEL, alpha=235)
-    canvas.text((x + 10, y + 6), scene.title[:48], INK, 13, bold=True)
+    title = scene.title if len(scene.title) <= 44 else scene.title[:43] + "…"
+    canvas.text((x + 10, y + 6), title, INK, 13, bold=True)
     for k, (name, value) in enumerate(rows):
         canvas.text((x + 10, y + 28 + 20 * k), name, SOFT_INK, 12)
         canvas.text((x + 130, y + 28 + 20 * k), value, INK, 12, mono=True)
