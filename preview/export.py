@@ -126,12 +126,10 @@ def _write_gif(frames, times, out: Path, progress) -> None:
     from PIL import Image
     # GIF stores delays in hundredths of a second: round the frame delay to that.
     delay_ms = int(round(100.0 / _fps_of(times))) * 10
-    images, palette = [], None
+    palette = gif_palette()
+    images = []
     for n, pixels in enumerate(frames, start=1):
-        image = Image.fromarray(pixels)
-        if palette is None:
-            palette = image.quantize(colors=255, method=Image.Quantize.MEDIANCUT)
-        images.append(image.quantize(palette=palette, dither=Image.Dither.NONE))
+        images.append(Image.fromarray(pixels).quantize(palette=palette, dither=Image.Dither.NONE))
         progress.update(n)
     tmp = out.with_name(f".{out.name}.part")
     try:
@@ -141,6 +139,23 @@ def _write_gif(frames, times, out: Path, progress) -> None:
         tmp.unlink(missing_ok=True)
         raise
     os.replace(tmp, out)
+
+
+def gif_palette():
+    """One fixed palette for every GIF: the preview's own colours exactly, a grey
+    ramp for anti-aliased edges, and a 6x6x6 colour cube for everything else."""
+    from PIL import Image
+
+    from preview import frame
+    named = [v for v in vars(frame).values() if isinstance(v, tuple) and len(v) == 3
+             and all(isinstance(c, int) for c in v)]
+    greys = [(g, g, g) for g in range(0, 256, 15)]
+    cube = [(r, g, b) for r in range(0, 256, 51) for g in range(0, 256, 51) for b in range(0, 256, 51)]
+    colours = list(dict.fromkeys(named + greys + cube))[:256]
+    colours += [(0, 0, 0)] * (256 - len(colours))
+    image = Image.new("P", (1, 1))
+    image.putpalette([c for rgb in colours for c in rgb])
+    return image
 
 
 def _write_png_folder(frames, out: Path, progress) -> None:

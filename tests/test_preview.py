@@ -236,3 +236,13 @@ def test_broken_save_keeps_the_last_good_run(tmp_path, heritage):
     watcher.poll(state)
     assert state.view.message == "" and state.playback is not heritage
     assert state.playback.trajectory.field("speed")[0] == pytest.approx(60 / 3.6)
+
+
+def test_gif_keeps_the_preview_colours_exactly(heritage, late_duck, tmp_path):
+    from PIL import Image
+    failure = late_duck.summary["first_failure"]["time_s"]
+    gif = write_frames(late_duck, np.array([0.0, failure + 0.3]), ViewSettings(), (640, 360), tmp_path / "c.gif")
+    with Image.open(gif) as im:
+        im.seek(1)
+        colours = {c for _, c in im.convert("RGB").getcolors(maxcolors=1 << 16)}
+    assert FAILURE in colours and INK in colours and CAR_BODY in colours
