@@ -30,9 +30,8 @@ PLANTED, SLIDING, FLIGHT, DOWN, GONE = 0, 1, 2, 3, 4
 EVENT_KINDS = ("slip", "topple", "lift", "fall", "strike", "line", "hard landing", "recovery step")
 EV_SLIP, EV_TOPPLE, EV_LIFT, EV_FALL, EV_STRIKE, EV_LINE, EV_HARD, EV_STEP = range(8)
 MARGIN_KEYS = ("grip_ratio_min", "balance_margin_min_m", "lift_ratio_min", "lean_max_deg",
-               "apparent_wind_max_ms", "drag_max_n", "landing_margin_min_m", "clearance_min_m", "steps",
-               "grip_demand_max")
-M_GRIP, M_BAL, M_LIFT, M_LEAN, M_WIND, M_DRAG, M_LAND, M_CLEAR, M_STEPS, M_DEMAND = range(10)
+               "apparent_wind_max_ms", "drag_max_n", "landing_margin_min_m", "clearance_min_m", "grip_demand_max")
+M_GRIP, M_BAL, M_LIFT, M_LEAN, M_WIND, M_DRAG, M_LAND, M_CLEAR, M_DEMAND = range(9)
 EVENT_FIELDS = 6  # time, x car frame, car index, demand, available, x ground frame
 REC_FIELDS = ("t", "mode", "pivot_x", "roof_z", "lean", "com_x", "com_z", "speed", "distance", "wind_x",
               "wind_y", "app_x", "app_y", "app_z", "aero_x", "aero_y", "aero_z", "normal", "friction_x",
@@ -84,8 +83,8 @@ def _normal_pair(state):
 
 
 @njit(cache=True, fastmath=FAST)
-def _aero(axes, rows, c, s, px, pz, wx, wy, wz, q_cross, q_axial, lumped, lumped_q, com_x, com_z, out_seg):
-    """Aerodynamic force on a posture rotated by the lean (cos c, sin s) about (px, pz).
+def _aero(axes, rows, c, s, wx, wy, wz, q_cross, q_axial, lumped, lumped_q, com_x, com_z, out_seg):
+    """Aerodynamic force on a posture rotated by the lean (cos c, sin s) about its pivot.
 
     w = apparent wind (m/s) taken uniform over the body. Returns total force,
     torque about the pivot, and the torque coefficients (a, b) of the
@@ -226,8 +225,8 @@ V_ = {name: i for i, name in enumerate(VARIANT_FIELDS)}
 @njit(cache=True)
 def _flight_accel(axes, row, fc, fs, vx, vz, V, A, ux, uy, q_cross, q_axial, lumped, lumped_q, mass, seg):
     """Acceleration (car frame) of a rigid posture in flight: gravity, drag, pseudo-force."""
-    fx, fy, fz, a, b = _aero(axes, row, fc, fs, 0.0, 0.0, ux - (V + vx), uy, -vz, q_cross, q_axial, lumped,
-                             lumped_q, 0.0, 0.0, seg)
+    fx, fy, fz, a, b = _aero(axes, row, fc, fs, ux - (V + vx), uy, -vz, q_cross, q_axial, lumped, lumped_q,
+                             0.0, 0.0, seg)
     return fx / mass - A, fz / mass - G
 
 
@@ -246,7 +245,7 @@ def _lowest_point(ends, row, fc, fs, com_x, com_z):
 
 
 @njit(cache=True, fastmath=FAST)
-def _run_variant(b, p, inputs, events, margins, final, record, rec, rec_ends, rec_force):
+def _run_variant(b, p, inputs, events, margins, record, rec, rec_ends, rec_force):
     (times, speed, accel, dist, gust_x, gust_y, ends, axes, com, inertia, support, contact, rotates, drag_ratio,
      hip, reset, settling, action, gait_speed, gait_friction, gait_rate, act_code, act_start, act_takeoff,
      act_rows, cars, q_cross_base, q_axial_base, lumped, lumped_cda, structures, lines) = inputs
@@ -261,6 +260,7 @@ def _run_variant(b, p, inputs, events, margins, final, record, rec, rec_ends, re
     car_front = cars[:, 0]
     car_rear = cars[:, 1]
     roof_h = cars[:, 2]
+    lowest_roof = roof_h.min()
     delay = int(round(p[7] / dt))
     buf_err = np.zeros(delay + 1)
     buf_w = np.zeros(delay + 1)
@@ -348,9 +348,9 @@ def _run_variant(b, p, inputs, events, margins, final, record, rec, rec_ends, re
             continue
         if mode == FLIGHT:
             mode, x, u, th, om, cx_f, cz_f, vx_f, vz_f, fallen, landed = _flight_step(
-                b, k, t, dt, V, speed[min(k + 1, n - 1)] * sp, A, ux, uy, cx_f, cz_f, vx_f, vz_f, ends, axes, frow, fc,
+                b, t, dt, V, speed[min(k + 1, n - 1)] * sp, A, ux, uy, cx_f, cz_f, vx_f, vz_f, ends, axes, frow, fc,
                 fs, low_dx, low_dz, com, act_rows, act, q_cross, q_axial, lumped, lumped_q0 * drag_ratio[frow],
-                mass, seg, cars, events, margins, p[12], fallen, s_d)
+                mass, seg, cars, lowest_roof, events, margins, p[12], fallen, s_d)
             if landed:
                 landed_action = act
                 first = True
@@ -360,13 +360,12 @@ def _run_variant(b, p, inputs, events, margins, final, record, rec, rec_ends, re
                 thdd = 0.0
             if mode == FLIGHT or mode == GONE:
                 if overhead:
-                    _overhead(ends, frow, fc, fs, cx_f - (com[frow, 0] * fc + com[frow, 1] * fs),
-                              cz_f - (-com[frow, 0] * fs + com[frow, 1] * fc), rotates, s_d, t, structures,
+                    com_dx, com_dz = _rotate(com[frow, 0], com[frow, 1], fc, fs)
+                    _overhead(ends, frow, fc, fs, cx_f - com_dx, cz_f - com_dz, rotates, s_d, t, structures,
                               lines, margins, act, events, b, car_front, car_rear, 2)
                 if record:
                     _record_flight(rec, rec_ends, rec_force, k, t, V, s_d, ux, uy, act, ends, frow, fc, fs,
                                    cx_f, cz_f, vx_f, vz_f, com, seg, mode)
-                margins[b, act, M_STEPS] += 1.0
                 continue
             row = act_rows[act, 1] if landed_action == act else k
         ci = _car_at(x, car_front, car_rear)
@@ -379,10 +378,9 @@ def _run_variant(b, p, inputs, events, margins, final, record, rec, rec_ends, re
         c0z = com[row, 1]
         kind = 2 if lying else contact[row]
         lq = lumped_q0 * drag_ratio[row]
-        fx, fy, fz, a_aero, b_aero = _aero(axes, row, c, s, x, pz, wx, uy, 0.0, q_cross, q_axial, lumped, lq,
-                                           c0x, c0z, seg)
-        cx = c0x * c + c0z * s
-        cz = -c0x * s + c0z * c
+        fx, fy, fz, a_aero, b_aero = _aero(axes, row, c, s, wx, uy, 0.0, q_cross, q_axial, lumped, lq, c0x, c0z,
+                                           seg)
+        cx, cz = _rotate(c0x, c0z, c, s)
         pseudo = -mass * (A + udot)
         normal = weight - fz - mass * (thdd * cx + om * om * cz)
         if ci >= 0:
@@ -526,7 +524,6 @@ def _run_variant(b, p, inputs, events, margins, final, record, rec, rec_ends, re
         if not (mode == DOWN) and not lying:
             _margins(margins, b, act, mu_s, demand, mos, static_normal / weight, lean_required,
                      math.sqrt(wx * wx + uy * uy), math.sqrt(fx * fx + fy * fy + fz * fz), kind)
-        margins[b, act, M_STEPS] += 1.0
         if mode != FLIGHT and overhead:
             if _overhead(ends, row, c, s, x, pz, rotates, s_d, t, structures, lines, margins, act, events, b,
                          car_front, car_rear, 1):
@@ -535,9 +532,6 @@ def _run_variant(b, p, inputs, events, margins, final, record, rec, rec_ends, re
             _record_planted(rec, rec_ends, rec_force, k, t, mode, x, pz, th, cx, cz, V, s_d, ux, uy, wx, fx, fy, fz,
                             normal, need_x, need_y, -mass * A, weight, demand, mu_s, mos, xcom, lo, hi,
                             lean_required, act, ends, row, rotates, c, s, seg)
-    final[b, 0] = mode
-    final[b, 1] = x
-    final[b, 2] = th
 
 
 @njit(cache=True)
@@ -591,9 +585,9 @@ def fly(axes, row, fc, fs, x, z, vx, vz, V, ux, uy, q_cross, q_axial, lumped, lq
 
 
 @njit(cache=True)
-def _flight_step(b, k, t, dt, V0, V1, A, ux, uy, cx, cz, vx, vz, ends, axes, frow, fc, fs, low_dx, low_dz, com,
-                 act_rows, act, q_cross, q_axial, lumped, lq, mass, seg, cars, events, margins, step_len,
-                 fallen, s_d):
+def _flight_step(b, t, dt, V0, V1, A, ux, uy, cx, cz, vx, vz, ends, axes, frow, fc, fs, low_dx, low_dz, com,
+                 act_rows, act, q_cross, q_axial, lumped, lq, mass, seg, cars, lowest_roof, events, margins,
+                 step_len, fallen, s_d):
     """One RK4 step of flight, then landing or fall detection.
 
     Returns (mode, pivot x, u, lean, lean rate, com x, com z, vx, vz, fallen, landed).
@@ -612,7 +606,7 @@ def _flight_step(b, k, t, dt, V0, V1, A, ux, uy, cx, cz, vx, vz, ends, axes, fro
         touch_vx = vx + frac * (nvx - vx)
         land_row = act_rows[act, 1]
         # Put the landed posture's lowest point (the feet) where the feet touched.
-        land_low_x, land_low_z = _lowest_point(ends, land_row, 1.0, 0.0, 0.0, 0.0)
+        land_low_x, _ = _lowest_point(ends, land_row, 1.0, 0.0, 0.0, 0.0)
         pivot = touch_com_x + low_dx - land_low_x
         margin = min(pivot - cars[ci, 1], cars[ci, 0] - pivot)
         if margin < margins[b, act, M_LAND]:
@@ -635,9 +629,6 @@ def _flight_step(b, k, t, dt, V0, V1, A, ux, uy, cx, cz, vx, vz, ends, axes, fro
             return SLIDING, pivot, touch_vx, 0.0, 0.0, nx, nz, nvx, nvz, False, True
         # Absorbed by the legs and a short skid: the contact model starts planted.
         return PLANTED, pivot, 0.0, 0.0, 0.0, nx, nz, nvx, nvz, False, True
-    lowest_roof = cars[0, 2]
-    for i in range(cars.shape[0]):
-        lowest_roof = min(lowest_roof, cars[i, 2])
     if ci < 0 and not fallen and z_new < lowest_roof:
         _event(events, b, EV_FALL, t, x_new, car_front, car_rear, lowest_roof - z_new, 0.0, x_new + s_d)
         fallen = True
@@ -738,19 +729,19 @@ def _record_planted(rec, rec_ends, rec_force, k, t, mode, x, pz, th, cx, cz, V, 
 
 
 @njit(cache=True, parallel=True)
-def run_batch(params, inputs, events, margins, final, record, rec, rec_ends, rec_force):
+def run_batch(params, inputs, events, margins, record, rec, rec_ends, rec_force):
     """Run every variant (rows of params) through the whole beat, in parallel.
 
     inputs: the shared tuple built by physics.simulation (times, speed profile, timeline, consist, ...).
     """
     for b in prange(params.shape[0]):
         rec_this = record and b == 0
-        _run_variant(b, params[b], inputs, events, margins, final, rec_this, rec, rec_ends, rec_force)
+        _run_variant(b, params[b], inputs, events, margins, rec_this, rec, rec_ends, rec_force)
 
 
 @njit(cache=True)
-def run_serial(params, inputs, events, margins, final, record, rec, rec_ends, rec_force):
+def run_serial(params, inputs, events, margins, record, rec, rec_ends, rec_force):
     """run_batch on one thread: a single recorded run starts faster without the thread pool."""
     for b in range(params.shape[0]):
         rec_this = record and b == 0
-        _run_variant(b, params[b], inputs, events, margins, final, rec_this, rec, rec_ends, rec_force)
+        _run_variant(b, params[b], inputs, events, margins, rec_this, rec, rec_ends, rec_force)

@@ -26,7 +26,7 @@ class Trajectory:
     ends: np.ndarray        # (T, 12, 2, 2) segment endpoints, car frame
     seg_force: np.ndarray   # (T, 12, 2) aerodynamic force per segment (x, z), N
     events: np.ndarray      # (8, 6) first event of each kind, NaN when none
-    margins: np.ndarray     # (A, 10) per-action margins
+    margins: np.ndarray     # (A, len(engine.MARGIN_KEYS)) per-action margins
     params: np.ndarray      # (len(engine.VARIANT_FIELDS),)
 
     def field(self, name: str) -> np.ndarray:
@@ -43,8 +43,7 @@ class Trajectory:
 @dataclass(frozen=True)
 class BatchResult:
     events: np.ndarray   # (B, 8, 6)
-    margins: np.ndarray  # (B, A, 10)
-    final: np.ndarray    # (B, 3)
+    margins: np.ndarray  # (B, A, len(engine.MARGIN_KEYS))
     params: np.ndarray   # (B, len(engine.VARIANT_FIELDS))
     steps: int
 
@@ -117,20 +116,19 @@ def _outputs(batch: int, n_actions: int):
     margins = np.zeros((batch, n_actions, len(engine.MARGIN_KEYS)))
     for key in (engine.M_GRIP, engine.M_BAL, engine.M_LIFT, engine.M_LAND, engine.M_CLEAR):
         margins[:, :, key] = np.inf
-    final = np.zeros((batch, 3))
-    return events, margins, final
+    return events, margins
 
 
 def simulate(scene: Scene, params: np.ndarray | None = None, timeline: Timeline | None = None) -> Trajectory:
     """Simulate one performer and record every step."""
     timeline = timeline or build_timeline(scene)
     p = (base_params(scene) if params is None else np.asarray(params, float))[None, :]
-    events, margins, final = _outputs(1, len(scene.actions))
+    events, margins = _outputs(1, len(scene.actions))
     n = timeline.steps
     rec = np.full((n, len(engine.REC_FIELDS)), np.nan)
     rec_ends = np.zeros((n, body.N_SEGMENTS, 2, 2))
     rec_force = np.zeros((n, body.N_SEGMENTS, 2))
-    engine.run_serial(p, _kernel_inputs(scene, timeline), events, margins, final, True, rec, rec_ends, rec_force)
+    engine.run_serial(p, _kernel_inputs(scene, timeline), events, margins, True, rec, rec_ends, rec_force)
     return Trajectory(scene, timeline, rec, rec_ends, rec_force, events[0], margins[0], p[0])
 
 
@@ -138,8 +136,8 @@ def simulate_batch(scene: Scene, params: np.ndarray, timeline: Timeline | None =
     """Simulate many variants (rows of params) of one beat; no per-step record."""
     timeline = timeline or build_timeline(scene)
     params = np.ascontiguousarray(params, dtype=float)
-    events, margins, final = _outputs(params.shape[0], len(scene.actions))
+    events, margins = _outputs(params.shape[0], len(scene.actions))
     empty = np.zeros((1, len(engine.REC_FIELDS)))
-    engine.run_batch(params, _kernel_inputs(scene, timeline), events, margins, final, False, empty,
+    engine.run_batch(params, _kernel_inputs(scene, timeline), events, margins, False, empty,
                      np.zeros((1, body.N_SEGMENTS, 2, 2)), np.zeros((1, body.N_SEGMENTS, 2)))
-    return BatchResult(events, margins, final, params, timeline.steps)
+    return BatchResult(events, margins, params, timeline.steps)
