@@ -10,7 +10,6 @@ Sources:
 
 from __future__ import annotations
 
-import math
 
 import numpy as np
 
@@ -54,11 +53,11 @@ def density(altitude: float = 0.0, temperature: float | None = None) -> float:
     return isa_pressure(altitude) / (GAS_CONSTANT_AIR * t)
 
 
-def wind_vector(speed: float, from_direction: float) -> tuple[float, float]:
+def wind_vector(speed, from_direction):
     """Ambient wind (x along track, y lateral-left), m/s, from speed and the
     direction it blows FROM, measured from the direction of travel toward the
-    left: 0 is a headwind, pi a tailwind, pi/2 from the left side."""
-    return (-speed * math.cos(from_direction), -speed * math.sin(from_direction))
+    left: 0 is a headwind, pi a tailwind, pi/2 from the left side. Floats or arrays."""
+    return (-speed * np.cos(from_direction), -speed * np.sin(from_direction))
 
 
 def gust_profile(times: np.ndarray, gusts) -> tuple[np.ndarray, np.ndarray]:

@@ -126,8 +126,7 @@ def place(angles: np.ndarray, facing: np.ndarray, contact: np.ndarray, stature: 
     rotates[np.ix_(contact == body.CONTACT_FEET, list(body.FEET))] = False
     rotates[np.ix_(contact == body.CONTACT_KNEES, list(body.FEET + body.SHANKS))] = False
     rotates[contact == body.CONTACT_BODY] = False
-    standing = body.segment_endpoints(np.array([body.POSTURES["stand"]], float), stature)
-    ratio = body.drag_area(ends, constants) / body.drag_area(standing, constants)[0]
+    ratio = body.drag_area(ends, constants) / body.standing_drag_area(stature)
     foot = body.FOOT_LENGTH * stature
     lo = np.where(gait, -body.HEEL_TO_ANKLE * foot, lo)
     hi = np.where(gait, (1 - body.HEEL_TO_ANKLE) * foot, hi)
@@ -217,7 +216,7 @@ def _gait(scene: Scene, times: np.ndarray):
             kind = "run" if action.kind == "jump" else action.kind
             ramp = np.clip((times[inside] - action.start) / max(action.transition, 1e-9), 0, 1)
             speed[inside] = action.toward * action.speed * ramp
-            friction[inside] = action.gait_friction if action.kind != "jump" else 0.4
+            friction[inside] = action.gait_friction
             rate[inside] = 2 * action.speed / (STRIDE_FRACTION[kind] * scene.performer.stature)
     return idx, speed, friction, rate
 

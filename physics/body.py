@@ -177,6 +177,12 @@ def frontal_area_standing(stature: float) -> float:
     return float(np.sum(breadth[upright] * c.length[upright]) + np.sum((breadth * depth)[list(FEET)]))
 
 
+def standing_drag_area(stature: float) -> float:
+    """Cd*A (m^2) of the standing figure in a headwind, before any calibration."""
+    ends = segment_endpoints(np.array([POSTURES["stand"]], float), stature)
+    return float(drag_area(ends, body_constants(stature))[0])
+
+
 def drag_area(endpoints: np.ndarray, constants: BodyConstants, wind_dir=(1.0, 0.0)) -> np.ndarray:
     """Cd*A (m^2) of a posture in a unit wind along wind_dir (x, z): (T,).
 

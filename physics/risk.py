@@ -19,8 +19,8 @@ from scipy.stats import spearmanr
 from physics import engine
 from physics.scene import Scene
 from physics.simulation import base_params, simulate_batch
-from physics.sweep import apply, base_value, verdict_codes
-from physics.verdict import FAILURE_KINDS
+from physics.sweep import apply, base_value
+from physics.verdict import FAILURE_KINDS, verdict_codes
 
 Z95 = 1.959963984540054  # two-sided 95 % standard normal quantile
 
@@ -76,7 +76,7 @@ def run_risk(scene: Scene, samples: int, seed: int = 0, batch: int = 2000, progr
     margins = np.empty((samples, len(scene.actions), len(engine.MARGIN_KEYS)))
     for start in range(0, samples, batch):
         chunk = simulate_batch(scene, params[start:start + batch])
-        codes[start:start + batch] = verdict_codes(scene, chunk)
+        codes[start:start + batch] = verdict_codes(scene, chunk.events, chunk.margins)
         events[start:start + batch] = chunk.events
         margins[start:start + batch] = chunk.margins
         if progress:

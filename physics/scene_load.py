@@ -478,7 +478,10 @@ def _actions(raw: dict, r: _Reader, cars: list[Car], performer: Performer | None
         label = item.get("label", kind)
         extra = _jump(item, path, r, cars, performer) if kind == "jump" else {}
         if kind == "jump":
+            # A run-up is a run: it asks the roof for a runner's grip.
             speed = extra.pop("speed", 0.0)
+            gait_friction = r.number(item, "gait_friction", path, default=GAIT_FRICTION_DEFAULT["run"],
+                                     minimum=0.0, maximum=1.5)
         actions.append(Action(kind, t, duration, transition, speed or 0.0, toward, gait_friction or 0.0,
                               label=str(label), **extra))
         t += duration

@@ -73,8 +73,7 @@ def drag_calibration(scene: Scene) -> float:
     """
     if scene.performer.drag_area is None or scene.performer.body_model == "lumped":
         return 1.0
-    standing = body.segment_endpoints(np.array([body.POSTURES["stand"]], float), scene.performer.stature)
-    return scene.performer.drag_area / float(body.drag_area(standing, body.body_constants(scene.performer.stature))[0])
+    return scene.performer.drag_area / body.standing_drag_area(scene.performer.stature)
 
 
 def segment_axes(ends: np.ndarray) -> np.ndarray:

@@ -19,7 +19,7 @@ from physics import engine
 from physics.air import wind_vector
 from physics.scene import Scene
 from physics.simulation import BatchResult, base_params, drag_calibration, simulate_batch
-from physics.verdict import FAILURE_KINDS, TERMINAL_KINDS
+from physics.verdict import TERMINAL_KINDS, first_failure_kinds, verdict_codes
 
 # name -> (dimension for parsing and display, description)
 PARAMETERS = {
@@ -74,11 +74,9 @@ def apply(scene: Scene, params: np.ndarray, name: str, values: np.ndarray) -> No
             raise SweepError("speed cannot be varied for a consist that never moves")
         params[:, col["speed_scale"]] = values / base
     elif name in ("wind_speed", "wind_from"):
-        speed = values if name == "wind_speed" else np.full(values.shape, scene.air.wind_speed)
-        direction = values if name == "wind_from" else np.full(values.shape, scene.air.wind_from)
-        wx, wy = wind_vector(1.0, 0.0)
-        params[:, col["wind_x"]] = -speed * np.cos(direction)
-        params[:, col["wind_y"]] = -speed * np.sin(direction)
+        speed = values if name == "wind_speed" else scene.air.wind_speed
+        direction = values if name == "wind_from" else scene.air.wind_from
+        params[:, col["wind_x"]], params[:, col["wind_y"]] = wind_vector(speed, direction)
     elif name == "friction":
         params[:, col["friction_scale"]] = values / base
     elif name == "mass":
@@ -93,30 +91,6 @@ def apply(scene: Scene, params: np.ndarray, name: str, values: np.ndarray) -> No
         params[:, col["takeoff_scale"]] = np.sqrt(values / base)
 
 
-def verdict_codes(scene: Scene, result: BatchResult) -> np.ndarray:
-    """0 holds, 1 marginal, 2 fails, per variant (same rules as physics.verdict)."""
-    failure_idx = [engine.EVENT_KINDS.index(k) for k in FAILURE_KINDS]
-    failed = np.any(~np.isnan(result.events[:, failure_idx, 0]), axis=1)
-    m = result.margins
-    s = scene.safety
-    below = ((m[:, :, engine.M_GRIP] < s.grip_ratio) | (m[:, :, engine.M_BAL] < s.balance_margin)
-             | (m[:, :, engine.M_LIFT] < s.lift_ratio) | (m[:, :, engine.M_LAND] < s.landing_margin)
-             | (m[:, :, engine.M_CLEAR] < s.clearance)).any(axis=1)
-    return np.where(failed, 2, np.where(below, 1, 0))
-
-
-def first_failure_kinds(result: BatchResult) -> list[str | None]:
-    failure_idx = [engine.EVENT_KINDS.index(k) for k in FAILURE_KINDS]
-    times = result.events[:, failure_idx, 0]
-    out = []
-    for row in times:
-        if np.all(np.isnan(row)):
-            out.append(None)
-        else:
-            out.append(FAILURE_KINDS[int(np.nanargmin(row))])
-    return out
-
-
 def health(scene: Scene, result: BatchResult, level: int) -> np.ndarray:
     """A continuous margin per variant whose sign separates verdict <= level-1 from >= level.
 
@@ -126,8 +100,8 @@ def health(scene: Scene, result: BatchResult, level: int) -> np.ndarray:
     its required factor; any failure counts as -1.
     """
     m = result.margins
-    codes = verdict_codes(scene, result)
-    kinds = first_failure_kinds(result)
+    codes = verdict_codes(scene, result.events, m)
+    kinds = first_failure_kinds(result.events)
     s = scene.safety
     out = np.empty(codes.shape)
     for b in range(codes.size):
@@ -184,7 +158,7 @@ def sweep_1d(scene: Scene, name: str, start: float, stop: float, points: int = 4
         raise SweepError("a sweep needs FROM < TO and at least 3 points")
     values = np.linspace(start, stop, points)
     result = _run(scene, name, values)
-    codes = verdict_codes(scene, result)
+    codes = verdict_codes(scene, result.events, result.margins)
     tol = tolerance or 1e-3 * (stop - start)
     thresholds = []
     for level, label in ((1, "holds with factors"), (2, "holds at all")):
@@ -209,8 +183,8 @@ def _refine(scene, name, a, b, level, label, tol) -> Threshold:
     else:
         value = brentq(f, a, b, xtol=tol)
     just = _run(scene, name, np.array([value - tol, value + tol]))
-    codes = verdict_codes(scene, just)
-    kinds = first_failure_kinds(just)
+    codes = verdict_codes(scene, just.events, just.margins)
+    kinds = first_failure_kinds(just.events)
     return Threshold(label, value, tol, NAMES[codes[0]], NAMES[codes[1]], kinds[1] or kinds[0])
 
 
@@ -223,7 +197,7 @@ def sweep_2d(scene: Scene, first: tuple, second: tuple, points: int = 25):
     apply(scene, params, n1, grid1.ravel())
     apply(scene, params, n2, grid2.ravel())
     result = simulate_batch(scene, params)
-    return v1, v2, verdict_codes(scene, result).reshape(grid1.shape), result
+    return v1, v2, verdict_codes(scene, result.events, result.margins).reshape(grid1.shape), result
 
 
 def terminal(kind: str | None) -> bool:

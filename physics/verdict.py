@@ -94,22 +94,36 @@ def summarise(scene: Scene, events: np.ndarray, margins: np.ndarray) -> dict:
         inside = [e["kind"] for e in failures if action.start <= e["time_s"] < action.end
                   or (a == len(scene.actions) - 1 and e["time_s"] >= action.end)]
         row["failures"] = inside
-        row["verdict"] = _action_verdict(scene, row, inside)
+        row["verdict"] = "fails" if inside or not row["reached"] else (
+            "marginal" if below_factors(scene.safety, m) else "holds")
         actions.append(row)
     overall = max((r["verdict"] for r in actions), key=VERDICT_ORDER.get, default="holds")
     first = failures[0] if failures else None
     return {"verdict": overall, "first_failure": first, "events": evs, "actions": actions}
 
 
-def _action_verdict(scene: Scene, row: dict, failures: list[str]) -> str:
-    if failures or not row["reached"]:
-        return "fails"
-    s = scene.safety
-    below = [
-        row["grip_ratio_min"] is not None and row["grip_ratio_min"] < s.grip_ratio,
-        row["balance_margin_min_m"] is not None and row["balance_margin_min_m"] < s.balance_margin,
-        row["lift_ratio_min"] is not None and row["lift_ratio_min"] < s.lift_ratio,
-        row["landing_margin_min_m"] is not None and row["landing_margin_min_m"] < s.landing_margin,
-        row["clearance_min_m"] is not None and row["clearance_min_m"] < s.clearance,
-    ]
-    return "marginal" if any(below) else "holds"
+def below_factors(safety, margins: np.ndarray) -> np.ndarray:
+    """Whether any margin is below the scene's required factor: margins (..., MARGIN_KEYS) -> bool (...).
+
+    Margins never reached stay at +inf and so never count as below.
+    """
+    m = margins
+    return ((m[..., engine.M_GRIP] < safety.grip_ratio) | (m[..., engine.M_BAL] < safety.balance_margin)
+            | (m[..., engine.M_LIFT] < safety.lift_ratio) | (m[..., engine.M_LAND] < safety.landing_margin)
+            | (m[..., engine.M_CLEAR] < safety.clearance))
+
+
+_FAILURE_INDEX = [engine.EVENT_KINDS.index(k) for k in FAILURE_KINDS]
+
+
+def verdict_codes(scene: Scene, events: np.ndarray, margins: np.ndarray) -> np.ndarray:
+    """Overall verdict per variant as 0 holds, 1 marginal, 2 fails (the rules of summarise, on a batch)."""
+    failed = np.any(~np.isnan(events[:, _FAILURE_INDEX, 0]), axis=1)
+    below = below_factors(scene.safety, margins).any(axis=1)
+    return np.where(failed, 2, np.where(below, 1, 0))
+
+
+def first_failure_kinds(events: np.ndarray) -> list[str | None]:
+    """The earliest failure kind per variant of a batch, or None."""
+    times = events[:, _FAILURE_INDEX, 0]
+    return [None if np.all(np.isnan(row)) else FAILURE_KINDS[int(np.nanargmin(row))] for row in times]

@@ -51,8 +51,9 @@ def display(name: str, value: float, system: str) -> str:
 
 def envelope_summary(scene, sweep) -> dict:
     from physics.engine import M_BAL, M_GRIP, M_LIFT, M_WIND
-    from physics.sweep import NAMES, first_failure_kinds
-    kinds = first_failure_kinds(sweep.result)
+    from physics.sweep import NAMES
+    from physics.verdict import first_failure_kinds
+    kinds = first_failure_kinds(sweep.result.events)
     m = sweep.result.margins
     rows = []
     for i, value in enumerate(sweep.values):
