@@ -7,6 +7,7 @@ and the report; `simulate_batch(scene, overrides)` runs many variants at once
 
 from __future__ import annotations
 
+import functools
 from dataclasses import dataclass
 
 import numpy as np
@@ -85,6 +86,19 @@ def segment_axes(ends: np.ndarray) -> np.ndarray:
     return np.ascontiguousarray(np.concatenate([mid, unit], axis=-1))
 
 
+@functools.lru_cache(maxsize=16)
+def prepare(scene: Scene) -> tuple[Timeline, tuple]:
+    """The state-independent timeline and kernel inputs of a scene, built once.
+
+    Sweeps, their root finding, Monte Carlo batches and the window's what-if keys
+    re-run one scene many times with other per-variant parameters only; the
+    scene is frozen and hashable, so they all share this work. The arrays are
+    read by the kernel, never written.
+    """
+    timeline = build_timeline(scene)
+    return timeline, _kernel_inputs(scene, timeline)
+
+
 def _kernel_inputs(scene: Scene, timeline: Timeline):
     times = timeline.times
     speed = consist.speed_at(scene.keyframes, times)
@@ -101,11 +115,9 @@ def _kernel_inputs(scene: Scene, timeline: Timeline):
     lumped = scene.performer.body_model == "lumped"
     lumped_cda = scene.performer.drag_area if lumped else 0.0
     return (times, speed, accel, dist, gust_x, gust_y, timeline.ends, segment_axes(timeline.ends), timeline.com,
-            timeline.inertia,
-            timeline.support, timeline.contact, timeline.rotates, timeline.drag_ratio, timeline.hip, timeline.reset,
-            timeline.settling,
-            timeline.action,
-            timeline.gait_speed, timeline.gait_friction, timeline.gait_rate, timeline.act_code, act_start,
+            timeline.inertia, timeline.support, timeline.contact, timeline.rotates, timeline.drag_ratio, timeline.hip,
+            timeline.reset, timeline.settling, timeline.action, timeline.gait_speed, timeline.gait_friction,
+            timeline.gait_rate, timeline.act_code, act_start,
             timeline.act_takeoff, timeline.act_rows, cars, constants.crossflow_area, constants.axial_area, lumped,
             float(lumped_cda), structures, lines)
 
@@ -118,25 +130,25 @@ def _outputs(batch: int, n_actions: int):
     return events, margins
 
 
-def simulate(scene: Scene, params: np.ndarray | None = None, timeline: Timeline | None = None) -> Trajectory:
+def simulate(scene: Scene, params: np.ndarray | None = None) -> Trajectory:
     """Simulate one performer and record every step."""
-    timeline = timeline or build_timeline(scene)
+    timeline, inputs = prepare(scene)
     p = (base_params(scene) if params is None else np.asarray(params, float))[None, :]
     events, margins = _outputs(1, len(scene.actions))
     n = timeline.steps
     rec = np.full((n, len(engine.REC_FIELDS)), np.nan)
     rec_ends = np.zeros((n, body.N_SEGMENTS, 2, 2))
     rec_force = np.zeros((n, body.N_SEGMENTS, 2))
-    engine.run_serial(p, _kernel_inputs(scene, timeline), events, margins, True, rec, rec_ends, rec_force)
+    engine.run_serial(p, inputs, events, margins, True, rec, rec_ends, rec_force)
     return Trajectory(scene, timeline, rec, rec_ends, rec_force, events[0], margins[0], p[0])
 
 
-def simulate_batch(scene: Scene, params: np.ndarray, timeline: Timeline | None = None) -> BatchResult:
+def simulate_batch(scene: Scene, params: np.ndarray) -> BatchResult:
     """Simulate many variants (rows of params) of one beat; no per-step record."""
-    timeline = timeline or build_timeline(scene)
+    timeline, inputs = prepare(scene)
     params = np.ascontiguousarray(params, dtype=float)
     events, margins = _outputs(params.shape[0], len(scene.actions))
     empty = np.zeros((1, len(engine.REC_FIELDS)))
-    engine.run_batch(params, _kernel_inputs(scene, timeline), events, margins, False, empty,
+    engine.run_batch(params, inputs, events, margins, False, empty,
                      np.zeros((1, body.N_SEGMENTS, 2, 2)), np.zeros((1, body.N_SEGMENTS, 2)))
     return BatchResult(events, margins, params, timeline.steps)
