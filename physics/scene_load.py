@@ -16,7 +16,7 @@ from pathlib import Path
 
 from physics import G
 from physics import air as air_model
-from physics import body
+from physics.consist import distance_travelled
 from physics.scene import (Action, Air, Car, Gust, Keyframe, Line, Performer, Safety, Scene, Structure,
                            Turbulence)
 from physics.surfaces import SURFACES
@@ -118,7 +118,6 @@ class _Reader:
             if probe in self.lines:
                 return self.lines[probe]
             probe = probe.rsplit(".", 1)[0] if "." in probe else ""
-            probe = re.sub(r"\[\d+\]$", lambda m: m.group(0), probe)
         return None
 
     def fail(self, path: str, message: str) -> None:
@@ -277,7 +276,7 @@ def apply_overrides(raw: dict, overrides: list[str], reader: _Reader) -> dict:
 
 def _set_path(raw: dict, key_path: str, value) -> str | None:
     parts = re.findall(r"([A-Za-z0-9_]+)(?:\[(\d+)\])?", key_path)
-    if not parts or "".join(f"{k}[{i}]" if i else k for k, i in parts).replace("]", "") == "":
+    if not parts:
         return "expected a key path such as motion.speed or actions[2].duration"
     node = raw
     for n, (key, index) in enumerate(parts):
@@ -556,7 +555,6 @@ def _structures(raw: dict, r: _Reader, keyframes: list[Keyframe]) -> list[Struct
 
 
 def _distance_at(keyframes: list[Keyframe], t: float) -> float:
-    from physics.consist import distance_travelled
     return float(distance_travelled(keyframes, t))
 
 
@@ -575,9 +573,3 @@ def _lines(raw: dict, r: _Reader) -> list[Line]:
             out.append(Line(start, end, height, exclusion))
     return out
 
-
-def validate_posture_names() -> None:
-    """Every action posture must exist in the body model (checked in tests)."""
-    for kind in ACTION_KINDS:
-        if kind not in ("walk", "run", "jump"):
-            assert kind in body.POSTURES, kind

@@ -168,7 +168,7 @@ def _parse_value_text(text: object, dimension: str) -> float:
 def to_display(value_si: float, dimension: str, system: str) -> tuple[float, str]:
     """Convert an SI value to the display unit of 'metric' or 'imperial'."""
     unit = DISPLAY_UNITS[system][dimension]
-    si_unit = DIMENSIONS[dimension][1]
+    si_unit = _DISPLAY_DIMENSIONS[dimension][1]
     if dimension == "temperature":
         return float(ureg.Quantity(value_si, "kelvin").to(unit).magnitude), DISPLAY_SYMBOLS[unit]
     return float(ureg.Quantity(value_si, si_unit).to(unit).magnitude), DISPLAY_SYMBOLS[unit]
@@ -180,8 +180,8 @@ DISPLAY_UNITS = {
     "imperial": {"length": "ft", "speed": "mph", "wind": "mph", "force": "lbf", "mass": "lb",
                  "acceleration": "ft/s**2", "area": "ft**2", "temperature": "degF", "time": "s"},
 }
-DIMENSIONS["wind"] = DIMENSIONS["speed"]
-DIMENSIONS["force"] = ("[force]", "N")
+# Display-only dimensions: a wind speed shows in its own unit; forces are never parsed.
+_DISPLAY_DIMENSIONS = {**DIMENSIONS, "wind": DIMENSIONS["speed"], "force": ("[force]", "N")}
 DISPLAY_SYMBOLS = {"m": "m", "km/h": "km/h", "m/s": "m/s", "N": "N", "kg": "kg", "m/s**2": "m/s²",
                    "m**2": "m²", "degC": "°C", "s": "s", "ft": "ft", "mph": "mph", "lbf": "lbf",
                    "lb": "lb", "ft/s**2": "ft/s²", "ft**2": "ft²", "degF": "°F"}

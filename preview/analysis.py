@@ -10,6 +10,7 @@ from pathlib import Path
 
 from physics.units import QuantityError, parse_quantity, to_display
 from preview.caution import CAUTION
+from preview.report import _fmt
 
 DISPLAY_DIMENSION = {"speed": "speed", "wind_speed": "wind", "mass": "mass", "drag_area": "area", "gust": "wind",
                      "effort": "length"}
@@ -94,7 +95,7 @@ def envelope_text(scene, summary: dict) -> str:
     for row in summary["rows"]:
         bal = row["balance_margin_min_m"]
         lines.append(f"{display(name, row['value'], system):>14}  {row['verdict']:<9}"
-                     f"{_num(row['grip_ratio_min']):>7}{_num(bal):>10}{_num(row['lift_ratio_min']):>7}  "
+                     f"{_fmt(row['grip_ratio_min'], '.2f'):>7}{_fmt(bal, '.2f'):>10}{_fmt(row['lift_ratio_min'], '.2f'):>7}  "
                      f"{row['first_failure'] or ''}")
     lines.append("")
     for t in summary["thresholds"]:
@@ -107,10 +108,6 @@ def envelope_text(scene, summary: dict) -> str:
         lines.append(f"{words}: {display(name, value, system) if value is not None else 'none in the range'}")
     lines += ["", "CAUTION: " + CAUTION]
     return "\n".join(lines)
-
-
-def _num(x) -> str:
-    return "n/a" if x is None else f"{x:.2f}"
 
 
 def cmd_envelope(args) -> int:

@@ -139,8 +139,8 @@ def write_brief(scene, out: Path, paper: str = "a4") -> dict:
 
 
 def _header(fig, scene, content) -> None:
-    fig.patches.append(__import__("matplotlib").patches.Rectangle((0, 0.93), 1, 0.07, transform=fig.transFigure,
-                                                                   color="#2b3138", zorder=0))
+    from matplotlib.patches import Rectangle
+    fig.patches.append(Rectangle((0, 0.93), 1, 0.07, transform=fig.transFigure, color="#2b3138", zorder=0))
     fig.text(0.05, 0.968, "roofbeat - safety meeting brief", color="white", fontsize=9)
     fig.text(0.05, 0.943, scene.title[:62], color="white", fontsize=11, weight="bold")
     fig.text(0.95, 0.968, f"{content['date']}  |  {Path(scene.source).name}", color="#dddddd", fontsize=7, ha="right")

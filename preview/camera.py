@@ -29,9 +29,13 @@ class Camera:
     width: int
     height: int
     top: int = 0            # screen y of this view's top (split views stack two cameras)
-    offset: float = 0.0    # car-frame x + offset = this frame's x (s(t) in the ground frame, else 0)
     distance: float = 0.0  # s(t), how far the consist has moved, m
     z_center: float = 5.0  # world height drawn at HORIZON_FRACTION of the view, m
+
+    @property
+    def offset(self) -> float:
+        """car-frame x + offset = this frame's x: s(t) in the ground frame, 0 in the car frame."""
+        return self.distance if self.frame == GROUND else 0.0
 
     def to_screen(self, x_car: float, z: float) -> tuple[float, float]:
         """Car-frame point -> pixels."""
@@ -85,7 +89,7 @@ def camera_for(trajectory, t: float, frame: str, size: tuple[int, int], zoom: fl
     span = height / scale
     z_center = max(0.32 * span, roof + 2.3 - 0.42 * span)
     if frame == CAR:
-        return Camera(CAR, car_x, scale, width, height, top, 0.0, s, z_center)
+        return Camera(CAR, car_x, scale, width, height, top, s, z_center)
     stride = 0.5 * width / scale
     center = _eased_ground_x(car_x + s, stride, trajectory.scene.start_x)
-    return Camera(GROUND, center, scale, width, height, top, s, s, z_center)
+    return Camera(GROUND, center, scale, width, height, top, s, z_center)

@@ -76,8 +76,7 @@ def resimulate(state: PlayerState) -> None:
         f" -> verdict {state.playback.summary['verdict']}" if (state.speed_delta or state.wind_delta) else ""))
 
 
-def handle_key(state: PlayerState, key: str, shift: bool = False, screenshot_dir: Path | None = None,
-               surface=None) -> None:
+def handle_key(state: PlayerState, key: str, screenshot_dir: Path | None = None, surface=None) -> None:
     """Apply one key press (pygame key name) to the player state."""
     scene = state.playback.scene
     frame_step = 1.0 / scene.frame_rate
@@ -179,11 +178,6 @@ class SceneWatcher:
         state.view = replace(state.view, message="")
 
 
-def _pygame_key_name(event) -> str:
-    import pygame
-    return pygame.key.name(event.key)
-
-
 def run_window(scene, scene_path: Path | None, overrides: list[str], size=(1280, 720), max_frames: int | None = None,
                scripted_keys: dict | None = None, screenshot_dir: Path | None = None) -> PlayerState:
     """The event loop. `max_frames` and `scripted_keys` ({frame: [key, ...]}) let tests and
@@ -230,7 +224,7 @@ def _handle_event(state, event, screen, screenshot_dir) -> None:
     if event.type == pygame.QUIT:
         state.running = False
     elif event.type == pygame.KEYDOWN:
-        handle_key(state, _pygame_key_name(event), bool(event.mod & pygame.KMOD_SHIFT), screenshot_dir, screen)
+        handle_key(state, pygame.key.name(event.key), screenshot_dir, screen)
     elif event.type == pygame.MOUSEBUTTONDOWN and event.button == 1 and on_timeline(event.pos, screen.get_size()):
         state.scrubbing = True
         scrub_to(state, event.pos[0], screen.get_size())

@@ -108,16 +108,11 @@ JUMP = ('do = "jump"\ntoward = "{toward}"\ntakeoff_car = 1\ntakeoff_position = "
         'duration = "2 s"\ntransition = "0 s"')
 
 
-def landing_offset(speed_kmh, angle=90, v=2.8, toward="front", extra_air=""):
+def landing_offset(speed_kmh, angle=90, v=2.8, toward="front", extra_air="0 m/s"):
+    """extra_air: a tailwind, e.g. equal to the consist speed for air moving with the car."""
     scene = make_scene(speed=f"{speed_kmh} km/h", body="lumped",
                        actions=[JUMP.format(toward=toward, v=v, angle=angle)],
-                       start='car = 1\nposition = "10 m"\nfrom = "rear"')
-    if extra_air:
-        from physics.scene_load import parse_scene
-        from tests.conftest import scene_text
-        text = scene_text(speed=f"{speed_kmh} km/h", body="lumped", actions=[JUMP.format(toward=toward, v=v, angle=angle)],
-                          start='car = 1\nposition = "10 m"\nfrom = "rear"', wind=extra_air, wind_from="180 deg")
-        scene = parse_scene(text, "t")
+                       start='car = 1\nposition = "10 m"\nfrom = "rear"', wind=extra_air, wind_from="180 deg")
     tr = simulate(scene)
     mode = tr.field("mode")
     takeoff = np.argmax(mode == engine.FLIGHT)

@@ -94,11 +94,6 @@ def test_pixels_show_figure_vector_and_failure_marker(late_duck):
     assert not near(pixels, marker, FAILURE, radius=18, tolerance=30)
 
 
-def _car_roof_band(playback, t, frame):
-    cam = camera_for(playback.trajectory, t, frame, (1280, 720 - 26 - 24 - 12))
-    return cam
-
-
 def test_car_frame_keeps_the_consist_still_and_moves_the_scenery(heritage):
     t1, t2 = 1.0, 1.5   # the performer stands still
     view = ViewSettings(frame=CAR)
