@@ -229,18 +229,14 @@ def draw_figure(canvas, tr, i: int, cam: Camera, ghost: bool = False) -> None:
 
 def draw_trail(canvas, tr, i: int, view: ViewSettings, cam: Camera) -> None:
     """The centre of mass path, drawn at rest in the current frame: the last few
-    seconds, plus the whole of any flight in them."""
+    seconds, or the whole of the current flight if that began earlier."""
     canvas.tag = "trail"
     n = max(1, int(view.trail_seconds / tr.scene.step))
     mode = tr.field("mode")
     start = max(0, i - n)
-    flying = np.nonzero(mode[:i + 1] == engine.FLIGHT)[0]
-    if flying.size:
-        first = flying[0]
-        while first > 0 and mode[first - 1] == engine.FLIGHT:
-            first -= 1
-        start = min(start, int(flying[-1] - np.argmax(mode[flying[-1]::-1] != engine.FLIGHT) + 1)
-                    if mode[i] == engine.FLIGHT else start)
+    if mode[i] == engine.FLIGHT:
+        grounded = np.nonzero(mode[:i + 1] != engine.FLIGHT)[0]
+        start = min(start, int(grounded[-1]) + 1 if grounded.size else 0)
     xs = tr.field("com_x")[start:i + 1:4]
     zs = tr.field("com_z")[start:i + 1:4]
     dist = tr.field("distance")[start:i + 1:4]
