@@ -95,9 +95,11 @@ def run_risk(scene: Scene, samples: int, seed: int = 0, batch: int = 2000, progr
 
 def _drivers(inputs: dict, failed: np.ndarray, grip: np.ndarray) -> list:
     out = []
+    # A grip ratio never loaded is +inf: rank it with the best finite one.
+    grip = np.where(np.isfinite(grip), grip, np.max(grip[np.isfinite(grip)], initial=0.0))
     for name, values in inputs.items():
         rho_fail = _spearman(values, failed.astype(float))
-        rho_grip = _spearman(values, np.where(np.isfinite(grip), grip, np.nanmax(grip[np.isfinite(grip)], initial=0)))
+        rho_grip = _spearman(values, grip)
         out.append((name, rho_fail, rho_grip))
     return sorted(out, key=lambda r: -abs(r[1]) if math.isfinite(r[1]) else 0.0)
 

@@ -499,11 +499,11 @@ def _jump(item: dict, path: str, r: _Reader, cars: list[Car], performer: Perform
     end = r.choice(item, "takeoff_from", path, ("front", "rear"), default="rear")
     angle = r.quantity(item, "takeoff_angle", path, "angle", minimum=math.radians(5), maximum=math.radians(90))
     jump = performer.standing_long_jump if performer else None
-    if "takeoff_speed" in item or jump is None:
+    if "takeoff_speed" in item:
         speed = r.quantity(item, "takeoff_speed", path, "speed", minimum=0.0, maximum=12.0)
-        if "takeoff_speed" not in item:
-            r.problems[-1] = Problem(f"{path}.takeoff_speed", "missing; give takeoff_speed or the performer's "
-                                     "standing_long_jump", r.line_of(path))
+    elif jump is None:
+        r.fail(f"{path}.takeoff_speed", "missing; give takeoff_speed or the performer's standing_long_jump")
+        speed = None
     else:
         if angle is not None and math.sin(2 * angle) < 0.05:
             r.fail(f"{path}.takeoff_angle", "a long-jump effort sets no speed for a jump this steep; "
