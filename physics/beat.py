@@ -33,7 +33,7 @@ class Timeline:
     contact: np.ndarray      # (R,) body.CONTACT_*
     rotates: np.ndarray      # (R, 12) whether a segment is drawn rotated by the lean
     drag_ratio: np.ndarray   # (R,) drag area in a headwind relative to standing (lumped body)
-    hip: np.ndarray          # (R,) how far the pivot moves at this step when its definition changes, m
+    pivot_shift: np.ndarray  # (R,) how far the pivot moves at this step when its definition changes, m
     reset: np.ndarray        # (T,) the pivot or facing changes at this step: balance restarts
     settling: np.ndarray     # (T,) inside a posture transition: balance is not assessed
     action: np.ndarray       # (T,) action index
@@ -178,16 +178,15 @@ def build_timeline(scene: Scene) -> Timeline:
     reset[1:] = pivot_moves | (facing[1:] != facing[:-1])
     # A turn on the spot keeps the feet where they are; only a change of pivot
     # (feet to knees, ankle to hip) keeps the hip where it is instead.
-    shift = np.zeros(hip.shape)
-    shift[1:n] = np.where(pivot_moves, hip[:n - 1] - hip[1:n], 0.0)
-    hip = shift
+    pivot_shift = np.zeros(hip.shape)
+    pivot_shift[1:n] = np.where(pivot_moves, hip[:n - 1] - hip[1:n], 0.0)
     action_idx, gait_speed, gait_friction, gait_rate = _gait(scene, times)
     codes, takeoff = _action_table(scene)
     settling = np.zeros(n, dtype=np.bool_)
     for a, action in enumerate(scene.actions):
         if a > 0 and action.transition > 0:
             settling |= (times >= action.start - 1e-12) & (times < action.start + action.transition + 0.25)
-    return Timeline(times, ends, com, inertia, support, all_contact, rotates, ratio, hip, reset, settling,
+    return Timeline(times, ends, com, inertia, support, all_contact, rotates, ratio, pivot_shift, reset, settling,
                     action_idx,
                     gait_speed,
                     gait_friction, gait_rate, codes, takeoff, np.array(act_rows, dtype=np.int64))

@@ -247,7 +247,7 @@ def _lowest_point(ends, row, fc, fs, com_x, com_z):
 @njit(cache=True, fastmath=FAST)
 def _run_variant(b, p, inputs, events, margins, record, rec, rec_ends, rec_force):
     (times, speed, accel, dist, gust_x, gust_y, ends, axes, com, inertia, support, contact, rotates, drag_ratio,
-     hip, reset, settling, action, gait_speed, gait_friction, gait_rate, act_code, act_start, act_takeoff,
+     pivot_shift, reset, settling, action, gait_speed, gait_friction, gait_rate, act_code, act_start, act_takeoff,
      act_rows, cars, q_cross_base, q_axial_base, lumped, lumped_cda, structures, lines) = inputs
     dt = times[1] - times[0]
     n = times.shape[0]
@@ -340,7 +340,7 @@ def _run_variant(b, p, inputs, events, margins, record, rec, rec_ends, rec_force
         elif reset[k] and (mode == PLANTED or mode == SLIDING):
             # The pivot moves within the body (feet to knees) or the performer
             # turns: keep the hip where it was and restart the balance.
-            x += hip[k]
+            x += pivot_shift[k]
             first = True
         if mode == GONE:
             if record:

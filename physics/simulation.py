@@ -115,7 +115,7 @@ def _kernel_inputs(scene: Scene, timeline: Timeline):
     lumped = scene.performer.body_model == "lumped"
     lumped_cda = scene.performer.drag_area if lumped else 0.0
     return (times, speed, accel, dist, gust_x, gust_y, timeline.ends, segment_axes(timeline.ends), timeline.com,
-            timeline.inertia, timeline.support, timeline.contact, timeline.rotates, timeline.drag_ratio, timeline.hip,
+            timeline.inertia, timeline.support, timeline.contact, timeline.rotates, timeline.drag_ratio, timeline.pivot_shift,
             timeline.reset, timeline.settling, timeline.action, timeline.gait_speed, timeline.gait_friction,
             timeline.gait_rate, timeline.act_code, act_start,
             timeline.act_takeoff, timeline.act_rows, cars, constants.crossflow_area, constants.axial_area, lumped,
