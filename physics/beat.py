@@ -1,10 +1,12 @@
 """The beat as a timeline: the prescribed posture, contact and gait at every step.
 
-Everything here depends only on the scene's actions and the performer's
-stature, never on the simulated state, so it is computed once with numpy and
-shared by every variant of a batch. Rows 0..T-1 are the steps; after them,
-two extra rows per action hold the fixed postures the engine switches to on
-its own: the posture in the air and the posture after a landing.
+Everything here depends only on the scene's actions, the consist's speed
+profile, the gusts and the performer's stature, never on the simulated state,
+so it is computed once with numpy and shared by every variant of a batch. It
+becomes the engine's input tables (physics.records STEP, POSTURE, ACTION):
+one STEP row per engine step, one POSTURE row per distinct posture (a step's
+posture, and for every action the posture held in the air and the one after a
+landing, which the engine switches to on its own).
 """
 
 from __future__ import annotations
@@ -13,10 +15,10 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from physics import body
+from physics import air, body, consist
+from physics.records import ACTION, POSTURE, STEP, ActionCode, Contact
 from physics.scene import Scene
 
-ACTION_CODES = {"posture": 0, "gait": 1, "jump": 2}
 # Stride length as a fraction of stature (from memory; only paces the animation
 # and the rhythm of the gait friction demand).
 STRIDE_FRACTION = {"walk": 0.83, "run": 1.4, "crawl": 0.35}
@@ -25,28 +27,17 @@ KNEECAP_REACH = 0.05  # m, support in front of the knee point when kneeling (fro
 
 @dataclass(frozen=True)
 class Timeline:
-    times: np.ndarray        # (T,) s
-    ends: np.ndarray         # (R, 12, 2, 2) endpoints relative to the pivot, car-frame x
-    com: np.ndarray          # (R, 2) centre of mass relative to the pivot
-    inertia: np.ndarray      # (R,) moment of inertia about the pivot per kg, m^2
-    support: np.ndarray      # (R, 2) heel-side and toe-side x of the support, relative to the pivot
-    contact: np.ndarray      # (R,) body.CONTACT_*
-    rotates: np.ndarray      # (R, 12) whether a segment is drawn rotated by the lean
-    drag_ratio: np.ndarray   # (R,) drag area in a headwind relative to standing (lumped body)
-    pivot_shift: np.ndarray  # (R,) how far the pivot moves at this step when its definition changes, m
-    reset: np.ndarray        # (T,) the pivot or facing changes at this step: balance restarts
-    settling: np.ndarray     # (T,) inside a posture transition: balance is not assessed
-    action: np.ndarray       # (T,) action index
-    gait_speed: np.ndarray   # (T,) commanded speed relative to the roof, m/s, signed (+ front)
-    gait_friction: np.ndarray  # (T,) peak gait horizontal force / weight
-    gait_rate: np.ndarray    # (T,) steps per second
-    act_code: np.ndarray     # (A,) ACTION_CODES
-    act_takeoff: np.ndarray  # (A, 4) take-off x, vx, vz (relative to roof), landing car (or nan)
-    act_rows: np.ndarray     # (A, 2) row index of the air posture and of the landed posture
+    steps: np.ndarray     # (T,) records.STEP
+    postures: np.ndarray  # (R,) records.POSTURE
+    actions: np.ndarray   # (A,) records.ACTION
 
     @property
-    def steps(self) -> int:
-        return self.times.size
+    def times(self) -> np.ndarray:
+        return self.steps["time"]
+
+    @property
+    def size(self) -> int:
+        return self.steps.size
 
 
 def _angles_for_steps(scene: Scene, times: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
@@ -123,14 +114,14 @@ def place(angles: np.ndarray, facing: np.ndarray, contact: np.ndarray, stature: 
     hi = np.maximum(np.nanmax(np.where(np.isnan(xs).all(1)[:, None], 0.0, xs), axis=1), 0.01)
     inertia = np.sum(constants.mass_fraction * (np.sum(seg_com**2, axis=-1) + constants.length**2 / 12), axis=1)
     rotates = np.ones((len(ends), body.N_SEGMENTS), dtype=bool)
-    rotates[np.ix_(contact == body.CONTACT_FEET, list(body.FEET))] = False
-    rotates[np.ix_(contact == body.CONTACT_KNEES, list(body.FEET + body.SHANKS))] = False
-    rotates[contact == body.CONTACT_BODY] = False
+    rotates[np.ix_(contact == Contact.FEET, list(body.FEET))] = False
+    rotates[np.ix_(contact == Contact.KNEES, list(body.FEET + body.SHANKS))] = False
+    rotates[contact == Contact.BODY] = False
     ratio = body.drag_area(ends, constants) / body.standing_drag_area(stature)
     foot = body.FOOT_LENGTH * stature
     lo = np.where(gait, -body.HEEL_TO_ANKLE * foot, lo)
     hi = np.where(gait, (1 - body.HEEL_TO_ANKLE) * foot, hi)
-    knees = contact == body.CONTACT_KNEES
+    knees = contact == Contact.KNEES
     knee_x = ends[:, [body.THIGH_N, body.THIGH_F], 1, 0]
     # The kneecaps bear on the roof too: the support reaches just past them.
     hi = np.where(knees, np.maximum(hi, knee_x.max(axis=1) + KNEECAP_REACH), hi)
@@ -146,7 +137,7 @@ def _pivot_x(ends, touching, contact, com) -> np.ndarray:
     knee_down = ends[:, [body.THIGH_N, body.THIGH_F], 1, 1] < body.CONTACT_TOLERANCE + 0.08
     feet = _masked_mean(ankle, foot_down)
     knees = _masked_mean(knee, knee_down)
-    return np.select([contact == body.CONTACT_FEET, contact == body.CONTACT_KNEES], [feet, knees], com[:, 0])
+    return np.select([contact == Contact.FEET, contact == Contact.KNEES], [feet, knees], com[:, 0])
 
 
 def _masked_mean(values, mask):
@@ -160,36 +151,71 @@ def build_timeline(scene: Scene) -> Timeline:
     times = np.arange(n) * scene.step
     angles, facing = _angles_for_steps(scene, times)
     contact = _contact_for_steps(scene, times)
-    extra_angles, extra_facing, extra_contact, act_rows = [], [], [], []
-    for a, action in enumerate(scene.actions):
-        air = action.air_posture if action.kind == "jump" else "upright"
-        extra_angles += [body.POSTURES[air], body.POSTURES["crouch" if action.kind == "jump" else "stand"]]
+    gait = _gait_rows(scene, times)
+    extra_angles, extra_facing = [], []
+    for action in scene.actions:
+        in_air = action.air_posture if action.kind == "jump" else "upright"
+        extra_angles += [body.POSTURES[in_air], body.POSTURES["crouch" if action.kind == "jump" else "stand"]]
         extra_facing += [action.toward if action.kind == "jump" else scene.performer.facing] * 2
-        extra_contact += [body.CONTACT_FEET, body.CONTACT_FEET]
-        act_rows.append((n + 2 * a, n + 2 * a + 1))
     all_angles = np.vstack([angles, np.array(extra_angles, float)])
     all_facing = np.concatenate([facing, np.array(extra_facing, float)])
-    all_contact = np.concatenate([contact, np.array(extra_contact, dtype=np.int64)])
-    gait = np.concatenate([_gait_rows(scene, times), np.zeros(len(extra_angles), dtype=bool)])
-    ends, com, inertia, support, rotates, ratio, hip = place(all_angles, all_facing, all_contact,
-                                                             scene.performer.stature, gait)
-    reset = np.zeros(n, dtype=np.bool_)
-    pivot_moves = (contact[1:] != contact[:-1]) | (gait[1:n] != gait[:n - 1])
-    reset[1:] = pivot_moves | (facing[1:] != facing[:-1])
+    all_contact = np.concatenate([contact, np.full(len(extra_angles), Contact.FEET, dtype=np.int64)])
+    all_gait = np.concatenate([gait, np.zeros(len(extra_angles), dtype=bool)])
+    # One posture row per distinct posture: a long stand is one row, not thousands.
+    key = np.column_stack([all_angles, all_facing, all_contact, all_gait])
+    unique, row_of = np.unique(key, axis=0, return_inverse=True)
+    row_of = row_of.reshape(-1)
+    postures, hip = _postures(unique[:, :body.N_SEGMENTS], unique[:, body.N_SEGMENTS],
+                              unique[:, body.N_SEGMENTS + 1].astype(np.int64), unique[:, body.N_SEGMENTS + 2] > 0.5,
+                              scene.performer.stature)
+    steps = _steps(scene, times, row_of[:n], hip[row_of[:n]], contact, gait, facing)
+    return Timeline(steps, postures, _action_table(scene, row_of[n:]))
+
+
+def _postures(angles, facing, contact, gait, stature) -> tuple[np.ndarray, np.ndarray]:
+    ends, com, inertia, support, rotates, ratio, hip = place(angles, facing, contact, stature, gait)
+    out = np.zeros(len(angles), POSTURE)
+    out["ends"] = ends
+    out["axes"] = segment_axes(ends)
+    out["rotates"] = rotates
+    out["com_x"], out["com_z"] = com[:, 0], com[:, 1]
+    out["inertia"] = inertia
+    out["support_lo"], out["support_hi"] = support[:, 0], support[:, 1]
+    out["contact"] = contact
+    out["drag_ratio"] = ratio
+    return out, hip
+
+
+def segment_axes(ends: np.ndarray) -> np.ndarray:
+    """(R, 12, 4): midpoint x, z and unit axis x, z of every segment of every row."""
+    mid = 0.5 * (ends[:, :, 0, :] + ends[:, :, 1, :])
+    axis = ends[:, :, 1, :] - ends[:, :, 0, :]
+    norm = np.linalg.norm(axis, axis=-1, keepdims=True)
+    unit = np.where(norm > 1e-9, axis / np.maximum(norm, 1e-9), 0.0)
+    return np.concatenate([mid, unit], axis=-1)
+
+
+def _steps(scene, times, rows, hip, contact, gait, facing) -> np.ndarray:
+    n = times.size
+    steps = np.zeros(n, STEP)
+    steps["time"] = times
+    steps["speed"] = consist.speed_at(scene.keyframes, times)
+    steps["accel"] = consist.acceleration_at(scene.keyframes, times)
+    steps["distance"] = consist.distance_travelled(scene.keyframes, times)
+    steps["gust_x"], steps["gust_y"] = air.gust_profile(times, scene.air.gusts)
+    steps["row"] = rows
+    pivot_moves = (contact[1:] != contact[:-1]) | (gait[1:] != gait[:-1])
+    steps["reset"][1:] = pivot_moves | (facing[1:] != facing[:-1])
     # A turn on the spot keeps the feet where they are; only a change of pivot
     # (feet to knees, ankle to hip) keeps the hip where it is instead.
-    pivot_shift = np.zeros(hip.shape)
-    pivot_shift[1:n] = np.where(pivot_moves, hip[:n - 1] - hip[1:n], 0.0)
-    action_idx, gait_speed, gait_friction, gait_rate = _gait(scene, times)
-    codes, takeoff = _action_table(scene)
-    settling = np.zeros(n, dtype=np.bool_)
+    steps["pivot_shift"][1:] = np.where(pivot_moves, hip[:-1] - hip[1:], 0.0)
+    settling = np.zeros(n, dtype=bool)
     for a, action in enumerate(scene.actions):
         if a > 0 and action.transition > 0:
             settling |= (times >= action.start - 1e-12) & (times < action.start + action.transition + 0.25)
-    return Timeline(times, ends, com, inertia, support, all_contact, rotates, ratio, pivot_shift, reset, settling,
-                    action_idx,
-                    gait_speed,
-                    gait_friction, gait_rate, codes, takeoff, np.array(act_rows, dtype=np.int64))
+    steps["settling"] = settling
+    steps["action"], steps["gait_speed"], steps["gait_friction"], steps["gait_rate"] = _gait(scene, times)
+    return steps
 
 
 def _gait_rows(scene: Scene, times: np.ndarray) -> np.ndarray:
@@ -220,15 +246,22 @@ def _gait(scene: Scene, times: np.ndarray):
     return idx, speed, friction, rate
 
 
-def _action_table(scene: Scene):
-    codes = np.zeros(len(scene.actions), dtype=np.int64)
-    takeoff = np.full((len(scene.actions), 4), np.nan)
+def _action_table(scene: Scene, extra_rows: np.ndarray) -> np.ndarray:
+    """extra_rows: for each action, the posture rows held in the air and after a landing."""
+    table = np.zeros(len(scene.actions), ACTION)
+    table["landing_car"] = -1
+    table["takeoff_x"] = np.nan
     for a, action in enumerate(scene.actions):
+        row = table[a:a + 1]
+        row["air_row"], row["landed_row"] = extra_rows[2 * a], extra_rows[2 * a + 1]
+        row["start"] = action.start
         if action.kind == "jump" and action.takeoff_x is not None:
-            codes[a] = ACTION_CODES["jump"]
             horizontal = action.speed + action.takeoff_speed * np.cos(action.takeoff_angle)
-            takeoff[a] = (action.takeoff_x, action.toward * horizontal,
-                          action.takeoff_speed * np.sin(action.takeoff_angle), action.landing_car)
+            row["code"] = ActionCode.JUMP
+            row["takeoff_x"] = action.takeoff_x
+            row["takeoff_vx"] = action.toward * horizontal
+            row["takeoff_vz"] = action.takeoff_speed * np.sin(action.takeoff_angle)
+            row["landing_car"] = action.landing_car
         elif action.kind in ("walk", "run", "crawl"):
-            codes[a] = ACTION_CODES["gait"]
-    return codes, takeoff
+            row["code"] = ActionCode.GAIT
+    return table

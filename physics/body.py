@@ -17,9 +17,11 @@ from dataclasses import dataclass
 
 import numpy as np
 
+from physics.records import N_SEGMENTS, Contact
+
 SEGMENTS = ("head", "trunk", "upper arm near", "forearm near", "upper arm far", "forearm far",
             "thigh near", "shank near", "foot near", "thigh far", "shank far", "foot far")
-N_SEGMENTS = len(SEGMENTS)
+assert len(SEGMENTS) == N_SEGMENTS
 HEAD, TRUNK, UARM_N, FARM_N, UARM_F, FARM_F, THIGH_N, SHANK_N, FOOT_N, THIGH_F, SHANK_F, FOOT_F = range(12)
 FEET = (FOOT_N, FOOT_F)
 SHANKS = (SHANK_N, SHANK_F)
@@ -78,10 +80,9 @@ POSTURES = {
 }
 GAIT_POSTURE = {"walk": "stand", "run": "stand", "crawl": "crawl"}
 # How the body touches the roof in each posture: feet, knees or the whole body.
-CONTACT_FEET, CONTACT_KNEES, CONTACT_BODY = 0, 1, 2
-CONTACT_OF = {"stand": CONTACT_FEET, "brace": CONTACT_FEET, "crouch": CONTACT_FEET, "duck": CONTACT_FEET,
-              "kneel": CONTACT_KNEES, "prone": CONTACT_BODY, "crawl": CONTACT_BODY,
-              "tuck": CONTACT_FEET, "spread": CONTACT_FEET, "upright": CONTACT_FEET}
+CONTACT_OF = {"stand": Contact.FEET, "brace": Contact.FEET, "crouch": Contact.FEET, "duck": Contact.FEET,
+              "kneel": Contact.KNEES, "prone": Contact.BODY, "crawl": Contact.BODY,
+              "tuck": Contact.FEET, "spread": Contact.FEET, "upright": Contact.FEET}
 CONTACT_TOLERANCE = 0.02  # m: a point this close to the roof counts as touching it
 
 
@@ -197,3 +198,23 @@ def drag_area(endpoints: np.ndarray, constants: BodyConstants, wind_dir=(1.0, 0.
     # The cross-flow force q A |w_n| w_n has the along-wind part A sin^3(beta);
     # the end-on force the along-wind part A |cos(beta)|^3.
     return np.sum(constants.crossflow_area * normal**3 + constants.axial_area * np.abs(along) ** 3, axis=-1)
+
+
+def segment_air_forces(axes: np.ndarray, lean: float, wind, q_cross: np.ndarray, q_axial: np.ndarray) -> np.ndarray:
+    """(12, 2) force (x, z) on each segment of a posture leaned by `lean`, N.
+
+    axes: (12, 4) midpoint and unit axis (x, z) of the unleaned segments; wind:
+    the apparent wind (x, y, z), m/s; q_cross, q_axial: 1/2 rho Cd A per segment.
+    The engine's cross-flow rule (physics/README.md, "Air loads") for display
+    and cross-checks.
+    """
+    c, s = np.cos(lean), np.sin(lean)
+    ex = axes[:, 2] * c + axes[:, 3] * s
+    ez = -axes[:, 2] * s + axes[:, 3] * c
+    wx, wy, wz = wind
+    along = wx * ex + wz * ez
+    nx, nz = wx - along * ex, wz - along * ez
+    nmag = np.sqrt(nx * nx + wy * wy + nz * nz)
+    fx = q_cross * nmag * nx + q_axial * np.abs(along) * along * ex
+    fz = q_cross * nmag * nz + q_axial * np.abs(along) * along * ez
+    return np.stack([fx, fz], axis=-1)

@@ -1,7 +1,7 @@
 """Overhead structures: how late a duck could start and still clear.
 
 Found by bisection on the duck's start time (the action before it lengthens,
-the duck shortens), re-simulating the whole beat each time, to half a frame.
+the duck shortens), re-simulating the whole beat each time (no record), to half a frame.
 """
 
 from __future__ import annotations
@@ -9,9 +9,9 @@ from __future__ import annotations
 import dataclasses
 import math
 
-from physics import engine
+from physics.records import Event
 from physics.scene import Scene
-from physics.simulation import simulate
+from physics.simulation import simulate_batch, variants
 
 
 def _shifted(scene: Scene, index: int, start: float) -> Scene:
@@ -23,8 +23,8 @@ def _shifted(scene: Scene, index: int, start: float) -> Scene:
 
 
 def _strikes(scene: Scene) -> bool:
-    events = simulate(scene).events
-    return not math.isnan(events[engine.EV_STRIKE, 0])
+    events = simulate_batch(scene, variants(scene)).events
+    return not math.isnan(events[0, Event.STRIKE]["time"])
 
 
 def latest_duck_starts(scene: Scene) -> list[dict]:

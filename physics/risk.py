@@ -16,11 +16,12 @@ from dataclasses import dataclass
 import numpy as np
 from scipy.stats import spearmanr
 
-from physics import engine
+from physics.records import EVENT_WORDS, FAILURES, empty_outcomes
 from physics.scene import Scene
-from physics.simulation import base_params, simulate_batch
+from physics.scene_load import ROOF_STATIC
+from physics.simulation import Variants, simulate_batch, variants
 from physics.sweep import apply, base_value
-from physics.verdict import FAILURE_KINDS, verdict_codes
+from physics.verdict import verdict_codes
 
 Z95 = 1.959963984540054  # two-sided 95 % standard normal quantile
 
@@ -47,47 +48,64 @@ class RiskResult:
     drivers: list           # (name, rho with failure, rho with grip ratio) sorted by |rho|
 
 
-def sample_params(scene: Scene, samples: int, seed: int) -> tuple[np.ndarray, dict]:
+def input_name(scene: Scene, key: str) -> str:
+    """What a person calls an uncertain input."""
+    if key.startswith(ROOF_STATIC):
+        return f"roof friction, {scene.cars[int(key[len(ROOF_STATIC):])].name}"
+    return key
+
+
+def sample_variants(scene: Scene, samples: int, seed: int) -> tuple[Variants, dict]:
+    """`samples` variants with every uncertain value drawn uniformly within its spread."""
     rng = np.random.default_rng(seed)
-    params = np.tile(base_params(scene), (samples, 1))
+    v = variants(scene, samples)
     inputs = {}
-    for name, spread in sorted(scene.uncertain.items()):
+    for key, spread in sorted(scene.uncertain.items()):
         if spread <= 0:
             continue
-        centre = scene.performer.reaction_time if name == "reaction_time" else base_value(scene, name)
-        values = rng.uniform(centre - spread, centre + spread, samples)
-        values = np.maximum(values, 0.0 if name in ("speed", "wind_speed", "reaction_time") else 1e-3)
-        if name == "reaction_time":
-            params[:, engine.V_["reaction_time"]] = np.minimum(values, 0.25)
+        if key.startswith(ROOF_STATIC):
+            car = int(key[len(ROOF_STATIC):])
+            centre = scene.cars[car].sole_static
+            values = np.maximum(rng.uniform(centre - spread, centre + spread, samples), 1e-3)
+            v.roof_scale[:, car] = values / centre
+        elif key == "reaction_time":
+            centre = scene.performer.reaction_time
+            values = np.clip(rng.uniform(centre - spread, centre + spread, samples), 0.0, 0.25)
+            v.params["reaction_time"] = values
         else:
-            apply(scene, params, name, values)
-        inputs[name] = values
+            centre = base_value(scene, key)
+            values = rng.uniform(centre - spread, centre + spread, samples)
+            values = np.maximum(values, 0.0 if key in ("speed", "wind_speed") else 1e-3)
+            apply(scene, v, key, values)
+        inputs[input_name(scene, key)] = values
     if scene.air.turbulence is not None:
-        params[:, engine.V_["turbulence_seed"]] = scene.air.turbulence.seed + np.arange(samples) * 7919.0
-    return params, inputs
+        v.params["turbulence_seed"] = scene.air.turbulence.seed + np.arange(samples) * 7919
+    return v, inputs
 
 
 def run_risk(scene: Scene, samples: int, seed: int = 0, batch: int = 2000, progress=None) -> RiskResult:
     if samples < 1:
         raise ValueError("samples must be at least 1")
-    params, inputs = sample_params(scene, samples, seed)
+    v, inputs = sample_variants(scene, samples, seed)
     codes = np.empty(samples, dtype=int)
-    events = np.empty((samples, len(engine.EVENT_KINDS), engine.EVENT_FIELDS))
-    margins = np.empty((samples, len(scene.actions), len(engine.MARGIN_KEYS)))
+    outcomes = empty_outcomes(samples, len(scene.actions))
+    event_chunks = []
     for start in range(0, samples, batch):
-        chunk = simulate_batch(scene, params[start:start + batch])
-        codes[start:start + batch] = verdict_codes(scene, chunk.events, chunk.margins)
-        events[start:start + batch] = chunk.events
-        margins[start:start + batch] = chunk.margins
+        stop = min(samples, start + batch)
+        chunk = simulate_batch(scene, Variants(v.params[start:stop], v.roof_scale[start:stop]))
+        codes[start:stop] = verdict_codes(scene, chunk.events, chunk.outcomes)
+        event_chunks.append(chunk.events)
+        outcomes[start:stop] = chunk.outcomes
         if progress:
-            progress(min(samples, start + batch), samples)
-    failed_kind = {k: ~np.isnan(events[:, engine.EVENT_KINDS.index(k), 0]) for k in FAILURE_KINDS}
+            progress(stop, samples)
+    events = np.concatenate(event_chunks)
+    failed_kind = {EVENT_WORDS[k]: ~np.isnan(events["time"][:, k]) for k in FAILURES}
     summary_margins = {
-        "grip_ratio_min": margins[:, :, engine.M_GRIP].min(axis=1),
-        "balance_margin_min_m": margins[:, :, engine.M_BAL].min(axis=1),
-        "lift_ratio_min": margins[:, :, engine.M_LIFT].min(axis=1),
-        "landing_margin_min_m": margins[:, :, engine.M_LAND].min(axis=1),
-        "clearance_min_m": margins[:, :, engine.M_CLEAR].min(axis=1),
+        "grip_ratio_min": outcomes["grip_ratio_min"].min(axis=1),
+        "balance_margin_min_m": outcomes["balance_margin_min"].min(axis=1),
+        "lift_ratio_min": outcomes["lift_ratio_min"].min(axis=1),
+        "landing_margin_min_m": outcomes["landing_margin_min"].min(axis=1),
+        "clearance_min_m": outcomes["clearance_min"].min(axis=1),
     }
     drivers = _drivers(inputs, codes == 2, summary_margins["grip_ratio_min"])
     return RiskResult(samples, seed, inputs, codes, failed_kind, summary_margins, drivers)

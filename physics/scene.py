@@ -137,7 +137,8 @@ class Scene:
     lines: tuple[Line, ...] = ()
     raw: dict = field(default_factory=dict, compare=False, repr=False)
     # Spread (SI, +/-) of values written with an uncertainty, by sweep parameter
-    # name (speed, wind_speed, mass, drag_area, friction, reaction_time).
+    # name (speed, wind_speed, mass, drag_area, reaction_time) or, for a car's
+    # roof_static, "roof_static@" and the car's index.
     uncertain: dict = field(default_factory=dict, compare=False)
 
     @property

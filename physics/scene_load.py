@@ -22,6 +22,8 @@ from physics.scene import (Action, Air, Car, Gust, Keyframe, Line, Performer, Sa
 from physics.surfaces import SURFACES
 from physics.units import QuantityError, parse_quantity, parse_uncertain
 
+ROOF_STATIC = "roof_static@"  # key of a car's roof friction spread in Scene.uncertain, then the car's index
+
 ACTION_KINDS = ("stand", "brace", "crouch", "duck", "kneel", "prone", "crawl", "walk", "run", "jump")
 GAIT_KINDS = ("walk", "run", "crawl")
 AIR_POSTURES = ("tuck", "spread", "upright")
@@ -318,12 +320,9 @@ def _build(raw: dict, r: _Reader, source: str) -> Scene | None:
     lines = _lines(raw, r)
     if r.problems:
         return None
-    uncertain = {k: v for k, v in r.uncertain.items() if not k.startswith("friction@")}
-    if f"friction@{start_car}" in r.uncertain:
-        uncertain["friction"] = r.uncertain[f"friction@{start_car}"]
     return Scene(title, source, units, frame_rate, tuple(cars), tuple(keyframes), air, performer, start_x,
                  start_car, tuple(actions), safety, 1.0 / rate, tuple(structures), tuple(lines), raw,
-                 uncertain)
+                 dict(r.uncertain))
 
 
 def _cars(consist: dict, r: _Reader) -> list[Car]:
@@ -341,7 +340,7 @@ def _cars(consist: dict, r: _Reader) -> list[Car]:
         surface_name = item.get("roof", default_roof)
         surface = SURFACES.get(surface_name) if isinstance(surface_name, str) else None
         explicit = {k: r.number(item, k, path, required=False, minimum=0.0, maximum=2.0,
-                                uncertain_as=f"friction@{n}" if k == "roof_static" else None)
+                                uncertain_as=f"{ROOF_STATIC}{n}" if k == "roof_static" else None)
                     for k in ("roof_static", "roof_kinetic", "body_static", "body_kinetic")}
         if surface is None and (surface_name is not None or explicit["roof_static"] is None):
             r.fail(f"{path}.roof", f"unknown roof surface {surface_name!r}; expected one of "

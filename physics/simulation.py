@@ -1,37 +1,72 @@
-"""Run a scene: build the shared timeline and per-variant parameters, call the kernel.
+"""Run a scene: build its input tables and per-variant parameters, call the kernel,
+and read the results by name.
 
-`simulate(scene)` returns a recorded Trajectory of one performer for the preview
-and the report; `simulate_batch(scene, overrides)` runs many variants at once
-(sweeps, Monte Carlo) and returns only events and margins.
+`simulate(scene)` returns a recorded Trajectory of one performer for the
+preview and the report; `simulate_batch(scene, variants)` runs many variants at
+once (sweeps, Monte Carlo, what-ifs) and returns only events and outcomes. Both
+call the same compiled kernel (physics.engine.driver.run_variants); batches run
+in chunks on a thread pool, since the kernel releases the GIL.
+
+The kernel records physical state, loads and its own assessment; geometry (the
+segment ends, the centre of mass on the roof, the support) and ratios are
+derived here in numpy.
 """
 
 from __future__ import annotations
 
 import functools
+import os
+from concurrent.futures import ThreadPoolExecutor
 from dataclasses import dataclass
 
 import numpy as np
 
-from physics import air, body, consist, engine
+from physics import G, air, body
 from physics.beat import Timeline, build_timeline
+from physics.engine import driver, jit
+from physics.records import BODY, CAR, LINE, PARAMS, RECORD, STRUCTURE, Inputs, empty_events, empty_outcomes
 from physics.scene import Scene
 
 
 @dataclass(frozen=True)
+class Variants:
+    """Rows of per-variant parameters (records.PARAMS) and roof friction multipliers per car."""
+
+    params: np.ndarray      # (B,) records.PARAMS
+    roof_scale: np.ndarray  # (B, cars)
+
+    def __len__(self) -> int:
+        return self.params.size
+
+    def row(self, b: int) -> "Variants":
+        return Variants(self.params[b:b + 1].copy(), self.roof_scale[b:b + 1].copy())
+
+
+@dataclass(frozen=True)
+class BatchResult:
+    events: np.ndarray    # (B, events) records.EVENT
+    outcomes: np.ndarray  # (B, actions) records.OUTCOME
+    variants: Variants
+    steps: int
+
+
+@dataclass(frozen=True)
 class Trajectory:
-    """Everything the preview draws, sampled at every engine step (car frame, SI)."""
+    """One recorded run: every step's state, loads and assessment (records.RECORD), car frame, SI."""
 
     scene: Scene
     timeline: Timeline
-    record: np.ndarray      # (T, len(engine.REC_FIELDS))
-    ends: np.ndarray        # (T, 12, 2, 2) segment endpoints, car frame
-    seg_force: np.ndarray   # (T, 12, 2) aerodynamic force per segment (x, z), N
-    events: np.ndarray      # (8, 6) first event of each kind, NaN when none
-    margins: np.ndarray     # (A, len(engine.MARGIN_KEYS)) per-action margins
-    params: np.ndarray      # (len(engine.VARIANT_FIELDS),)
+    record: np.ndarray    # (T,) records.RECORD
+    events: np.ndarray    # (events,) records.EVENT: the first of each kind
+    outcomes: np.ndarray  # (actions,) records.OUTCOME
+    variant: Variants     # the one variant that ran
 
     def field(self, name: str) -> np.ndarray:
-        return self.record[:, engine.R[name]]
+        return self.record[name]
+
+    @property
+    def params(self) -> np.void:
+        return self.variant.params[0]
 
     @property
     def times(self) -> np.ndarray:
@@ -40,54 +75,107 @@ class Trajectory:
     def index_at(self, t: float) -> int:
         return int(np.clip(round(t / self.scene.step), 0, self.times.size - 1))
 
+    @property
+    def on_roof(self) -> np.ndarray:
+        return np.isfinite(self.record["pivot_x"])
 
-@dataclass(frozen=True)
-class BatchResult:
-    events: np.ndarray   # (B, 8, 6)
-    margins: np.ndarray  # (B, A, len(engine.MARGIN_KEYS))
-    params: np.ndarray   # (B, len(engine.VARIANT_FIELDS))
-    steps: int
+    @functools.cached_property
+    def com_path(self) -> np.ndarray:
+        """(T, 2) centre of mass, car frame (m): the leaned posture on the roof, the flight state in the air."""
+        rec, postures = self.record, self.timeline.postures
+        c, s = np.cos(rec["lean"]), np.sin(rec["lean"])
+        cx, cz = postures["com_x"][rec["row"]], postures["com_z"][rec["row"]]
+        on_roof = self.on_roof
+        x = np.where(on_roof, rec["pivot_x"] + cx * c + cz * s, rec["flight_x"])
+        z = np.where(on_roof, rec["contact_z"] - cx * s + cz * c, rec["flight_z"])
+        return np.stack([x, z], axis=-1)
 
+    def ends(self, index=None) -> np.ndarray:
+        """Segment endpoints, car frame (m): (12, 2, 2) at one step index, or (T, 12, 2, 2) for all."""
+        idx = np.arange(self.times.size) if index is None else np.atleast_1d(index)
+        rec = self.record[idx]
+        posture = self.timeline.postures[rec["row"]]
+        c, s = np.cos(rec["lean"])[:, None, None], np.sin(rec["lean"])[:, None, None]
+        on_roof = np.isfinite(rec["pivot_x"])[:, None, None]
+        pts = posture["ends"]
+        # On the roof segments that lean turn about the pivot; in the air the
+        # whole posture turns about its centre of mass.
+        com0 = np.stack([posture["com_x"], posture["com_z"]], axis=-1)[:, None, None, :]
+        rel = np.where(on_roof[..., None], pts, pts - com0)
+        x = rel[..., 0] * c + rel[..., 1] * s
+        z = -rel[..., 0] * s + rel[..., 1] * c
+        stays = on_roof & (posture["rotates"][:, :, None] == 0)  # feet (and shanks) held on the roof
+        x = np.where(stays, rel[..., 0], x)
+        z = np.where(stays, rel[..., 1], z)
+        base_x = np.where(on_roof[:, 0, 0], rec["pivot_x"], rec["flight_x"])[:, None, None]
+        base_z = np.where(on_roof[:, 0, 0], rec["contact_z"], rec["flight_z"])[:, None, None]
+        out = np.stack([x + base_x, z + base_z], axis=-1)
+        return out[0] if index is not None and np.ndim(index) == 0 else out
 
-def base_params(scene: Scene) -> np.ndarray:
-    """The scene's own variant: one row of engine.VARIANT_FIELDS."""
-    p = np.zeros(len(engine.VARIANT_FIELDS))
-    wind_x, wind_y = air.wind_vector(scene.air.wind_speed, scene.air.wind_from)
-    turb = scene.air.turbulence
-    values = {
-        "speed_scale": 1.0, "wind_x": wind_x, "wind_y": wind_y, "density": scene.air.density,
-        "mass": scene.performer.mass, "drag_scale": drag_calibration(scene), "friction_scale": 1.0,
-        "reaction_time": scene.performer.reaction_time, "turbulence_sigma": turb.intensity if turb else 0.0,
-        "turbulence_seed": float(turb.seed) if turb else 0.0, "gust_scale": 1.0,
-        "max_lean": scene.performer.max_lean, "recovery_step": scene.performer.recovery_step,
-        "start_x": scene.start_x, "turbulence_length": turb.length_scale if turb else 1.0, "takeoff_scale": 1.0,
-    }
-    for name, value in values.items():
-        p[engine.V_[name]] = value
-    return p
+    def support(self) -> np.ndarray:
+        """(T, 2) rear and front edge of the support incl. a recovery step, car frame (m); NaN off the roof."""
+        return self.record["pivot_x"][:, None] + np.stack([self.record["support_lo"], self.record["support_hi"]], -1)
+
+    def segment_forces(self, index: int) -> np.ndarray:
+        """(12, 2) aerodynamic force on each segment (x, z), N, at one step: the kernel's cross-flow rule in numpy."""
+        r = self.record[index]
+        if not np.isfinite(r["app_x"]):
+            return np.zeros((body.N_SEGMENTS, 2))
+        p = self.params
+        constants = body.body_constants(self.scene.performer.stature)
+        posture = self.timeline.postures[r["row"]]
+        if self.scene.performer.body_model == "lumped":
+            return np.zeros((body.N_SEGMENTS, 2))
+        half = 0.5 * p["density"] * p["drag_scale"]
+        return body.segment_air_forces(posture["axes"], float(r["lean"]), (r["app_x"], r["app_y"], r["app_z"]),
+                                       half * constants.crossflow_area, half * constants.axial_area)
+
+    @functools.cached_property
+    def pseudo_force_path(self) -> np.ndarray:
+        """(T,) the car frame's pseudo-force on the whole body, -m dV/dt (N)."""
+        return -self.params["mass"] * self.timeline.steps["accel"] * self.params["speed_scale"]
+
+    @property
+    def weight(self) -> float:
+        return float(self.params["mass"] * G)
 
 
 def drag_calibration(scene: Scene) -> float:
     """Factor on the segment drag so the standing figure has the scene's drag area.
 
-    1.0 when the scene gives none (the segment table's own coefficients).
+    1.0 when the scene gives none (the segment table's own coefficients) and for
+    the lumped body, whose drag area is the scene's own.
     """
     if scene.performer.drag_area is None or scene.performer.body_model == "lumped":
         return 1.0
     return scene.performer.drag_area / body.standing_drag_area(scene.performer.stature)
 
 
-def segment_axes(ends: np.ndarray) -> np.ndarray:
-    """(R, 12, 4): midpoint x, z and unit axis x, z of every segment of every row."""
-    mid = 0.5 * (ends[:, :, 0, :] + ends[:, :, 1, :])
-    axis = ends[:, :, 1, :] - ends[:, :, 0, :]
-    norm = np.linalg.norm(axis, axis=-1, keepdims=True)
-    unit = np.where(norm > 1e-9, axis / np.maximum(norm, 1e-9), 0.0)
-    return np.ascontiguousarray(np.concatenate([mid, unit], axis=-1))
+def base_params(scene: Scene) -> np.ndarray:
+    """The scene's own variant: a (1,) records.PARAMS array."""
+    p = np.zeros(1, PARAMS)
+    wind_x, wind_y = air.wind_vector(scene.air.wind_speed, scene.air.wind_from)
+    turb = scene.air.turbulence
+    values = {
+        "speed_scale": 1.0, "wind_x": wind_x, "wind_y": wind_y, "density": scene.air.density,
+        "mass": scene.performer.mass, "drag_scale": drag_calibration(scene),
+        "reaction_time": scene.performer.reaction_time, "turbulence_sigma": turb.intensity if turb else 0.0,
+        "turbulence_length": turb.length_scale if turb else 1.0, "turbulence_seed": turb.seed if turb else 0,
+        "gust_scale": 1.0, "max_lean": scene.performer.max_lean, "recovery_step": scene.performer.recovery_step,
+        "start_x": scene.start_x, "takeoff_scale": 1.0,
+    }
+    for name in PARAMS.names:
+        p[name] = values[name]
+    return p
+
+
+def variants(scene: Scene, count: int = 1) -> Variants:
+    """`count` copies of the scene's own variant, to be changed by name."""
+    return Variants(np.repeat(base_params(scene), count), np.ones((count, len(scene.cars))))
 
 
 @functools.lru_cache(maxsize=16)
-def prepare(scene: Scene) -> tuple[Timeline, tuple]:
+def prepare(scene: Scene) -> tuple[Timeline, Inputs]:
     """The state-independent timeline and kernel inputs of a scene, built once.
 
     Sweeps, their root finding, Monte Carlo batches and the window's what-if keys
@@ -96,59 +184,78 @@ def prepare(scene: Scene) -> tuple[Timeline, tuple]:
     read by the kernel, never written.
     """
     timeline = build_timeline(scene)
-    return timeline, _kernel_inputs(scene, timeline)
-
-
-def _kernel_inputs(scene: Scene, timeline: Timeline):
-    times = timeline.times
-    speed = consist.speed_at(scene.keyframes, times)
-    accel = consist.acceleration_at(scene.keyframes, times)
-    dist = consist.distance_travelled(scene.keyframes, times)
-    gust_x, gust_y = air.gust_profile(times, scene.air.gusts)
-    cars = np.array([[c.front_x, c.rear_x, c.roof_height, c.sole_static, c.sole_kinetic, c.body_static,
-                      c.body_kinetic] for c in scene.cars], dtype=float)
+    cars = np.zeros(len(scene.cars), CAR)
+    for i, c in enumerate(scene.cars):
+        cars[i] = (c.front_x, c.rear_x, c.roof_height, c.sole_static, c.sole_kinetic, c.body_static, c.body_kinetic)
+    structures = np.array([(s.x_start, s.span, s.soffit) for s in scene.structures], STRUCTURE)
+    lines = np.array([(ln.x_start, ln.x_end, ln.wire_height, ln.exclusion) for ln in scene.lines], LINE)
     constants = body.body_constants(scene.performer.stature)
-    structures = np.array([[s.x_start, s.span, s.soffit] for s in scene.structures], dtype=float).reshape(-1, 3)
-    lines = np.array([[ln.x_start, ln.x_end, ln.wire_height, ln.exclusion] for ln in scene.lines],
-                     dtype=float).reshape(-1, 4)
-    act_start = np.array([a.start for a in scene.actions], dtype=float)
-    lumped = scene.performer.body_model == "lumped"
-    lumped_cda = scene.performer.drag_area if lumped else 0.0
-    return (times, speed, accel, dist, gust_x, gust_y, timeline.ends, segment_axes(timeline.ends), timeline.com,
-            timeline.inertia, timeline.support, timeline.contact, timeline.rotates, timeline.drag_ratio, timeline.pivot_shift,
-            timeline.reset, timeline.settling, timeline.action, timeline.gait_speed, timeline.gait_friction,
-            timeline.gait_rate, timeline.act_code, act_start,
-            timeline.act_takeoff, timeline.act_rows, cars, constants.crossflow_area, constants.axial_area, lumped,
-            float(lumped_cda), structures, lines)
+    drag = np.zeros(1, BODY)
+    drag["crossflow_area"] = constants.crossflow_area
+    drag["axial_area"] = constants.axial_area
+    drag["lumped"] = scene.performer.body_model == "lumped"
+    drag["lumped_drag_area"] = scene.performer.drag_area if scene.performer.body_model == "lumped" else 0.0
+    inputs = Inputs(timeline.steps, timeline.postures, timeline.actions, cars, structures, lines, drag)
+    for table in inputs:
+        table.flags.writeable = False
+    return timeline, inputs
 
 
-def _outputs(batch: int, n_actions: int):
-    events = np.full((batch, len(engine.EVENT_KINDS), engine.EVENT_FIELDS), np.nan)
-    margins = np.zeros((batch, n_actions, len(engine.MARGIN_KEYS)))
-    for key in (engine.M_GRIP, engine.M_BAL, engine.M_LIFT, engine.M_LAND, engine.M_CLEAR):
-        margins[:, :, key] = np.inf
-    return events, margins
+def _threads() -> int:
+    try:
+        return max(1, len(os.sched_getaffinity(0)))
+    except AttributeError:
+        return max(1, os.cpu_count() or 1)
 
 
-def simulate(scene: Scene, params: np.ndarray | None = None) -> Trajectory:
-    """Simulate one performer and record every step."""
+def _python_views(args):
+    """Structured arrays as recarrays, so the plain-Python engine reads fields by attribute as numba does."""
+    def view(a):
+        if isinstance(a, np.ndarray) and a.dtype.names:
+            return a.view(np.recarray)
+        if isinstance(a, Inputs):
+            return Inputs(*(view(x) for x in a))
+        return a
+    return [view(a) for a in args]
+
+
+def run_kernel(v: Variants, inputs: Inputs, events, outcomes, record, chunks: int = 1) -> None:
+    """Call the one compiled kernel over all variants, in `chunks` on a thread pool."""
+    if jit.will_compile(driver.run_variants):
+        jit.notice("preparing the engine (first run only, about ten seconds)")
+    jit.explain_plain_python()
+    params = np.ascontiguousarray(v.params)
+    roof_scale = np.ascontiguousarray(v.roof_scale, dtype=float)
+    count = params.size
+    if not jit.compiled():
+        with np.errstate(over="ignore"):
+            args = _python_views([params, roof_scale, inputs, 0, count, events, outcomes, record])
+            driver.run_variants(*args)
+        return
+    if chunks <= 1 or count < 2:
+        driver.run_variants(params, roof_scale, inputs, 0, count, events, outcomes, record)
+        return
+    bounds = np.linspace(0, count, min(chunks, count) + 1).astype(int)
+    with ThreadPoolExecutor(max_workers=_threads()) as pool:
+        jobs = [pool.submit(driver.run_variants, params, roof_scale, inputs, int(a), int(b), events, outcomes, record)
+                for a, b in zip(bounds[:-1], bounds[1:]) if b > a]
+        for job in jobs:
+            job.result()
+
+
+def simulate(scene: Scene, variant: Variants | None = None) -> Trajectory:
+    """Simulate one performer (the scene's own variant unless given) and record every step."""
     timeline, inputs = prepare(scene)
-    p = (base_params(scene) if params is None else np.asarray(params, float))[None, :]
-    events, margins = _outputs(1, len(scene.actions))
-    n = timeline.steps
-    rec = np.full((n, len(engine.REC_FIELDS)), np.nan)
-    rec_ends = np.zeros((n, body.N_SEGMENTS, 2, 2))
-    rec_force = np.zeros((n, body.N_SEGMENTS, 2))
-    engine.run_serial(p, inputs, events, margins, True, rec, rec_ends, rec_force)
-    return Trajectory(scene, timeline, rec, rec_ends, rec_force, events[0], margins[0], p[0])
+    v = variants(scene) if variant is None else variant.row(0)
+    events, outcomes = empty_events(1), empty_outcomes(1, len(scene.actions))
+    record = np.zeros(timeline.size, RECORD)
+    run_kernel(v, inputs, events, outcomes, record)
+    return Trajectory(scene, timeline, record, events[0], outcomes[0], v)
 
 
-def simulate_batch(scene: Scene, params: np.ndarray) -> BatchResult:
-    """Simulate many variants (rows of params) of one beat; no per-step record."""
+def simulate_batch(scene: Scene, v: Variants) -> BatchResult:
+    """Simulate many variants of one beat; no per-step record."""
     timeline, inputs = prepare(scene)
-    params = np.ascontiguousarray(params, dtype=float)
-    events, margins = _outputs(params.shape[0], len(scene.actions))
-    empty = np.zeros((1, len(engine.REC_FIELDS)))
-    engine.run_batch(params, inputs, events, margins, False, empty,
-                     np.zeros((1, body.N_SEGMENTS, 2, 2)), np.zeros((1, body.N_SEGMENTS, 2)))
-    return BatchResult(events, margins, params, timeline.steps)
+    events, outcomes = empty_events(len(v)), empty_outcomes(len(v), len(scene.actions))
+    run_kernel(v, inputs, events, outcomes, np.zeros(0, RECORD), chunks=4 * _threads())
+    return BatchResult(events, outcomes, v, timeline.size)

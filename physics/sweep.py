@@ -15,11 +15,10 @@ from dataclasses import dataclass
 import numpy as np
 from scipy.optimize import brentq
 
-from physics import engine
 from physics.air import wind_vector
 from physics.scene import Scene
-from physics.simulation import BatchResult, base_params, drag_calibration, simulate_batch
-from physics.verdict import TERMINAL_KINDS, first_failure_kinds, verdict_codes
+from physics.simulation import BatchResult, Variants, drag_calibration, simulate_batch, variants
+from physics.verdict import NAMES, first_failure_kinds, verdict_codes
 
 # name -> (dimension for parsing and display, description)
 PARAMETERS = {
@@ -65,30 +64,28 @@ def base_value(scene: Scene, name: str) -> float:
     raise SweepError(f"unknown parameter {name!r}; expected one of {', '.join(PARAMETERS)}")
 
 
-def apply(scene: Scene, params: np.ndarray, name: str, values: np.ndarray) -> None:
-    """Set parameter `name` to `values` (SI) in the rows of params, in place."""
+def apply(scene: Scene, v: Variants, name: str, values: np.ndarray) -> None:
+    """Set parameter `name` to `values` (SI) in the rows of v, in place."""
     base = base_value(scene, name)
-    col = engine.V_
+    p = v.params
     if name == "speed":
         if base <= 0:
             raise SweepError("speed cannot be varied for a consist that never moves")
-        params[:, col["speed_scale"]] = values / base
+        p["speed_scale"] = values / base
     elif name in ("wind_speed", "wind_from"):
         speed = values if name == "wind_speed" else scene.air.wind_speed
         direction = values if name == "wind_from" else scene.air.wind_from
-        params[:, col["wind_x"]], params[:, col["wind_y"]] = wind_vector(speed, direction)
+        p["wind_x"], p["wind_y"] = wind_vector(speed, direction)
     elif name == "friction":
-        params[:, col["friction_scale"]] = values / base
+        v.roof_scale[:] = (np.asarray(values, dtype=float) / base)[:, None]
     elif name == "mass":
-        params[:, col["mass"]] = values
+        p["mass"] = values
     elif name == "drag_area":
-        if scene.performer.body_model == "lumped":
-            raise SweepError("drag_area of a lumped body: vary it with --set performer.drag_area instead")
-        params[:, col["drag_scale"]] = drag_calibration(scene) * values / base
+        p["drag_scale"] = drag_calibration(scene) * values / base
     elif name == "gust":
-        params[:, col["gust_scale"]] = values / base
+        p["gust_scale"] = values / base
     elif name == "effort":
-        params[:, col["takeoff_scale"]] = np.sqrt(values / base)
+        p["takeoff_scale"] = np.sqrt(values / base)
 
 
 def health(scene: Scene, result: BatchResult, level: int) -> np.ndarray:
@@ -99,30 +96,30 @@ def health(scene: Scene, result: BatchResult, level: int) -> np.ndarray:
     level 1 (holds with the factors vs not): the smallest margin relative to
     its required factor; any failure counts as -1.
     """
-    m = result.margins
+    m = result.outcomes
     codes = verdict_codes(scene, result.events, m)
     kinds = first_failure_kinds(result.events)
     s = scene.safety
     out = np.empty(codes.shape)
     for b in range(codes.size):
-        grip = np.min(m[b, :, engine.M_GRIP])
+        grip = np.min(m[b]["grip_ratio_min"])
         if level == 2:
             if kinds[b] is None:
                 out[b] = min(1.0, grip - 1.0) if math.isfinite(grip) else 1.0
             elif kinds[b] == "slip":
                 out[b] = grip - 1.0
             elif kinds[b] == "lift":
-                out[b] = np.min(m[b, :, engine.M_LIFT])
+                out[b] = np.min(m[b]["lift_ratio_min"])
             else:
                 out[b] = -1.0
         else:
             if codes[b] == 2:
                 out[b] = -1.0
                 continue
-            terms = [grip / s.grip_ratio - 1.0, (np.min(m[b, :, engine.M_BAL]) - s.balance_margin) / 0.1,
-                     np.min(m[b, :, engine.M_LIFT]) / max(s.lift_ratio, 1e-9) - 1.0,
-                     (np.min(m[b, :, engine.M_LAND]) - s.landing_margin) / 0.5,
-                     (np.min(m[b, :, engine.M_CLEAR]) - s.clearance) / 0.5]
+            terms = [grip / s.grip_ratio - 1.0, (np.min(m[b]["balance_margin_min"]) - s.balance_margin) / 0.1,
+                     np.min(m[b]["lift_ratio_min"]) / max(s.lift_ratio, 1e-9) - 1.0,
+                     (np.min(m[b]["landing_margin_min"]) - s.landing_margin) / 0.5,
+                     (np.min(m[b]["clearance_min"]) - s.clearance) / 0.5]
             finite = [t for t in terms if math.isfinite(t)]
             out[b] = min(finite) if finite else 1.0
     return out
@@ -147,9 +144,6 @@ class Sweep:
     thresholds: list
 
 
-NAMES = ("holds", "marginal", "fails")
-
-
 def sweep_1d(scene: Scene, name: str, start: float, stop: float, points: int = 41,
              tolerance: float | None = None) -> Sweep:
     """Simulate `points` values of one parameter as one batch, then refine every
@@ -158,7 +152,7 @@ def sweep_1d(scene: Scene, name: str, start: float, stop: float, points: int = 4
         raise SweepError("a sweep needs FROM < TO and at least 3 points")
     values = np.linspace(start, stop, points)
     result = _run(scene, name, values)
-    codes = verdict_codes(scene, result.events, result.margins)
+    codes = verdict_codes(scene, result.events, result.outcomes)
     tol = tolerance or 1e-3 * (stop - start)
     thresholds = []
     for level, label in ((1, "holds with factors"), (2, "holds at all")):
@@ -169,9 +163,9 @@ def sweep_1d(scene: Scene, name: str, start: float, stop: float, points: int = 4
 
 
 def _run(scene: Scene, name: str, values: np.ndarray) -> BatchResult:
-    params = np.tile(base_params(scene), (len(values), 1))
-    apply(scene, params, name, np.asarray(values, dtype=float))
-    return simulate_batch(scene, params)
+    v = variants(scene, len(values))
+    apply(scene, v, name, np.asarray(values, dtype=float))
+    return simulate_batch(scene, v)
 
 
 def _refine(scene, name, a, b, level, label, tol) -> Threshold:
@@ -183,7 +177,7 @@ def _refine(scene, name, a, b, level, label, tol) -> Threshold:
     else:
         value = brentq(f, a, b, xtol=tol)
     just = _run(scene, name, np.array([value - tol, value + tol]))
-    codes = verdict_codes(scene, just.events, just.margins)
+    codes = verdict_codes(scene, just.events, just.outcomes)
     kinds = first_failure_kinds(just.events)
     return Threshold(label, value, tol, NAMES[codes[0]], NAMES[codes[1]], kinds[1] or kinds[0])
 
@@ -193,12 +187,8 @@ def sweep_2d(scene: Scene, first: tuple, second: tuple, points: int = 25):
     (n1, a1, b1), (n2, a2, b2) = first, second
     v1, v2 = np.linspace(a1, b1, points), np.linspace(a2, b2, points)
     grid1, grid2 = np.meshgrid(v1, v2)
-    params = np.tile(base_params(scene), (grid1.size, 1))
-    apply(scene, params, n1, grid1.ravel())
-    apply(scene, params, n2, grid2.ravel())
-    result = simulate_batch(scene, params)
-    return v1, v2, verdict_codes(scene, result.events, result.margins).reshape(grid1.shape), result
-
-
-def terminal(kind: str | None) -> bool:
-    return kind in TERMINAL_KINDS
+    v = variants(scene, grid1.size)
+    apply(scene, v, n1, grid1.ravel())
+    apply(scene, v, n2, grid2.ravel())
+    result = simulate_batch(scene, v)
+    return v1, v2, verdict_codes(scene, result.events, result.outcomes).reshape(grid1.shape), result

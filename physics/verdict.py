@@ -1,8 +1,14 @@
-"""From events and margins to verdicts: holds, marginal or fails, per action and overall.
+"""From events and outcomes to verdicts: holds, marginal or fails, per action and overall.
 
-A beat fails when any failure event happens. It is marginal when it holds but
-a margin is below the factor the scene requires (section [safety]). After a
-topple, a fall or a strike the rest of the beat is not reached and fails too.
+One rule, used by `check`, by batches (sweeps, Monte Carlo) and by the
+preview's running verdict:
+
+- the beat is assessed up to its first failure (physics.records.FAILURES);
+  an action that had not ended by then fails (the failure happened in it, or
+  before it and the action was never assessed);
+- an action that ended before any failure is marginal when one of its margins
+  is below the factor the scene requires ([safety]), else it holds;
+- the beat's verdict is its worst action's.
 """
 
 from __future__ import annotations
@@ -11,119 +17,186 @@ import math
 
 import numpy as np
 
-from physics import engine
+from physics.records import EVENT_WORDS, FAILURES, Event
 from physics.scene import Scene
 from physics.wind_scales import beaufort
 
-FAILURE_KINDS = ("slip", "topple", "lift", "fall", "strike", "line", "hard landing")
-TERMINAL_KINDS = ("topple", "fall", "strike")
-VERDICT_ORDER = {"holds": 0, "marginal": 1, "fails": 2}
+HOLDS, MARGINAL, FAILS = 0, 1, 2
+NAMES = ("holds", "marginal", "fails")
+
+# Margin (records.OUTCOME field) -> the [safety] factor it is held to and its words.
+FACTORS = (
+    ("grip_ratio_min", "grip_ratio", "grip ratio", ""),
+    ("balance_margin_min", "balance_margin", "balance margin", "m"),
+    ("lift_ratio_min", "lift_ratio", "lift ratio", ""),
+    ("landing_margin_min", "landing_margin", "landing margin", "m"),
+    ("clearance_min", "clearance", "overhead clearance", "m"),
+)
+_FAILURE_INDEX = [int(k) for k in FAILURES]
 
 
 def _finite(value: float) -> float | None:
     return float(value) if math.isfinite(value) else None
 
 
-def event_list(scene: Scene, events: np.ndarray) -> list[dict]:
-    """Events (first of each kind) in time order, as plain dicts."""
+def first_failure_time(events: np.ndarray) -> np.ndarray:
+    """Time of the first failure per variant (inf when none): events (..., kinds) -> (...)."""
+    times = events["time"][..., _FAILURE_INDEX]
+    return np.where(np.isnan(times), np.inf, times).min(axis=-1)
+
+
+def below_factors(safety, outcomes: np.ndarray) -> np.ndarray:
+    """Whether any margin is below the scene's required factor: outcomes (...) -> bool (...).
+
+    Margins never reached stay at +inf and so never count as below.
+    """
+    below = np.zeros(outcomes.shape, dtype=bool)
+    for field, factor, _, _ in FACTORS:
+        below |= outcomes[field] < getattr(safety, factor)
+    return below
+
+
+def action_codes(scene: Scene, events: np.ndarray, outcomes: np.ndarray, until: float = math.inf) -> np.ndarray:
+    """Verdict code per action: events (..., kinds), outcomes (..., actions) -> (..., actions).
+
+    `until`: judge the beat as far as time `until` only (the preview's running
+    verdict): later failures and actions not yet started do not count.
+    """
+    first = first_failure_time(events)
+    first = np.where(first <= until, first, np.inf)[..., None]
+    ends = np.array([a.end for a in scene.actions])
+    ends[-1] = np.inf  # a failure after the last action's planned end still belongs to it
+    starts = np.array([a.start for a in scene.actions])
+    codes = np.where(below_factors(scene.safety, outcomes), MARGINAL, HOLDS)
+    codes = np.where(starts > until, HOLDS, codes)
+    return np.where(first < ends, FAILS, codes)
+
+
+def verdict_codes(scene: Scene, events: np.ndarray, outcomes: np.ndarray, until: float = math.inf) -> np.ndarray:
+    """The beat's verdict code per variant (the worst action's)."""
+    return action_codes(scene, events, outcomes, until).max(axis=-1)
+
+
+def first_failure_kinds(events: np.ndarray) -> list[str | None]:
+    """The earliest failure kind per variant of a batch, or None."""
+    times = events["time"][:, _FAILURE_INDEX]
+    return [None if np.all(np.isnan(row)) else EVENT_WORDS[FAILURES[int(np.nanargmin(row))]] for row in times]
+
+
+def shortfalls(safety, outcome) -> list[dict]:
+    """The margins of one action below their required factors: why it is marginal."""
     out = []
-    for kind_index, kind in enumerate(engine.EVENT_KINDS):
-        row = events[kind_index]
-        if math.isnan(row[0]):
+    for field, factor, words, unit in FACTORS:
+        value, required = float(outcome[field]), float(getattr(safety, factor))
+        if value < required:
+            out.append({"margin": words, "value": value, "required": required, "unit": unit})
+    return out
+
+
+def event_list(scene: Scene, events: np.ndarray) -> list[dict]:
+    """Events (the first of each kind) in time order, as plain dicts."""
+    out = []
+    for kind in Event:
+        row = events[kind]
+        if math.isnan(row["time"]):
             continue
-        car = int(row[2])
+        car = int(row["car"])
         out.append({
-            "kind": kind,
-            "failure": kind in FAILURE_KINDS,
-            "time_s": float(row[0]),
+            "kind": EVENT_WORDS[kind],
+            "failure": kind in FAILURES,
+            "time_s": float(row["time"]),
             "car": car + 1 if car >= 0 else None,
             "car_name": scene.cars[car].name if car >= 0 else None,
-            "x_car_m": float(row[1]),
-            "x_ground_m": float(row[5]),
-            "demand": float(row[3]),
-            "available": float(row[4]),
-            "detail": describe(kind, float(row[3]), float(row[4])),
+            "x_car_m": float(row["x_car"]),
+            "x_ground_m": float(row["x_ground"]),
+            "demand": float(row["demand"]),
+            "available": float(row["available"]),
+            "detail": describe(scene, kind, row),
         })
     return sorted(out, key=lambda e: e["time_s"])
 
 
-def describe(kind: str, demand: float, available: float) -> str:
+def describe(scene: Scene, kind: Event, row) -> str:
     """The numbers behind an event in plain words (SI)."""
-    if kind == "slip":
+    demand, available = float(row["demand"]), float(row["available"])
+    if kind == Event.SLIP:
         return f"grip needed {demand:.3f}, roof gives {available:.3f}"
-    if kind in ("topple", "recovery step"):
+    if kind in (Event.TOPPLE, Event.RECOVERY_STEP):
         return f"extrapolated centre of mass {abs(demand - available):.3f} m outside the support"
-    if kind == "lift":
+    if kind == Event.LIFT:
         return f"the roof no longer bears the body: contact force {-demand:.0f} N (wind lifting or tipping it off)"
-    if kind == "fall":
+    if kind == Event.FALL:
         return "came down off the roof (gap or car end)"
-    if kind == "strike":
+    if kind == Event.STRIKE:
         return f"body point {demand - available:.2f} m above the soffit at {available:.2f} m"
-    if kind == "line":
+    if kind == Event.LINE:
         return f"{demand:.2f} m from the wire, exclusion distance {available:.2f} m"
-    if kind == "hard landing":
+    if kind == Event.HARD_LANDING:
         return f"touchdown {demand:.2f} m/s relative to the roof, friction and a step absorb {available:.2f} m/s"
+    if kind == Event.MISSED_LANDING:
+        return _missed_landing(scene, row)
+    if kind == Event.TAKEOFF:
+        return f"take-off at {demand:.2f} m/s relative to the roof"
+    if kind == Event.TOUCHDOWN:
+        return f"touchdown at {demand:.2f} m/s along and {available:.2f} m/s down, relative to the roof"
     return ""
 
 
-def summarise(scene: Scene, events: np.ndarray, margins: np.ndarray) -> dict:
+def _missed_landing(scene: Scene, row) -> str:
+    target = scene.cars[int(row["target_car"])]
+    landed = scene.cars[int(row["car"])].name if row["car"] >= 0 else "no roof"
+    x = float(row["x_car"])
+    # Cars run front (x = 0) to rear (negative x): ahead of the target is past it for a rearward jump.
+    ahead = x > target.front_x
+    jump = next((a for a in scene.actions if a.kind == "jump" and a.landing_car is not None
+                 and scene.cars[a.landing_car] is target), None)
+    toward_front = jump is None or jump.toward > 0
+    words = "past" if ahead == toward_front else "short of"
+    return f"came down on {landed}, {float(row['demand']):.2f} m {words} {target.name}"
+
+
+def summarise(scene: Scene, events: np.ndarray, outcomes: np.ndarray) -> dict:
     """Verdict per action and overall, first failure, events (JSON-ready)."""
     evs = event_list(scene, events)
     failures = [e for e in evs if e["failure"]]
-    terminal_time = min((e["time_s"] for e in failures if e["kind"] in TERMINAL_KINDS), default=math.inf)
+    first_time = failures[0]["time_s"] if failures else math.inf
+    codes = action_codes(scene, events, outcomes)
     actions = []
     for a, action in enumerate(scene.actions):
-        m = margins[a]
+        m = outcomes[a]
         row = {
             "name": action.label,
             "kind": action.kind,
             "start_s": action.start,
             "end_s": action.end,
-            "reached": action.start <= terminal_time,
-            "grip_ratio_min": _finite(m[engine.M_GRIP]),
-            "grip_demand_max": float(m[engine.M_DEMAND]),
-            "balance_margin_min_m": _finite(m[engine.M_BAL]),
-            "lift_ratio_min": _finite(m[engine.M_LIFT]),
-            "lean_max_deg": math.degrees(m[engine.M_LEAN]),
-            "apparent_wind_max_ms": float(m[engine.M_WIND]),
-            "beaufort_max": beaufort(float(m[engine.M_WIND])),
-            "drag_max_n": float(m[engine.M_DRAG]),
-            "landing_margin_min_m": _finite(m[engine.M_LAND]),
-            "clearance_min_m": _finite(m[engine.M_CLEAR]),
+            "assessed": action.start <= first_time,
+            "verdict": NAMES[codes[a]],
+            "failures": [e["kind"] for e in failures if action.start <= e["time_s"] < action.end
+                         or (a == len(scene.actions) - 1 and e["time_s"] >= action.end)],
+            "marginal_because": shortfalls(scene.safety, m) if codes[a] == MARGINAL else [],
+            "grip_ratio_min": _finite(m["grip_ratio_min"]),
+            "grip_demand_max": float(m["grip_demand_max"]),
+            "balance_margin_min_m": _finite(m["balance_margin_min"]),
+            "lift_ratio_min": _finite(m["lift_ratio_min"]),
+            "lean_max_deg": math.degrees(m["lean_max"]),
+            "apparent_wind_max_ms": float(m["apparent_wind_max"]),
+            "beaufort_max": beaufort(float(m["apparent_wind_max"])),
+            "drag_max_n": float(m["drag_max"]),
+            "landing_margin_min_m": _finite(m["landing_margin_min"]),
+            "clearance_min_m": _finite(m["clearance_min"]),
+            "takeoff_s": _finite(m["takeoff_time"]),
+            "touchdown_s": _finite(m["touchdown_time"]),
         }
-        inside = [e["kind"] for e in failures if action.start <= e["time_s"] < action.end
-                  or (a == len(scene.actions) - 1 and e["time_s"] >= action.end)]
-        row["failures"] = inside
-        row["verdict"] = "fails" if inside or not row["reached"] else (
-            "marginal" if below_factors(scene.safety, m) else "holds")
         actions.append(row)
-    overall = max((r["verdict"] for r in actions), key=VERDICT_ORDER.get, default="holds")
-    first = failures[0] if failures else None
-    return {"verdict": overall, "first_failure": first, "events": evs, "actions": actions}
+    overall = NAMES[int(codes.max())] if len(codes) else "holds"
+    return {"verdict": overall, "first_failure": failures[0] if failures else None, "events": evs,
+            "actions": actions, "required_factors": required_factors(scene.safety)}
 
 
-def below_factors(safety, margins: np.ndarray) -> np.ndarray:
-    """Whether any margin is below the scene's required factor: margins (..., MARGIN_KEYS) -> bool (...).
-
-    Margins never reached stay at +inf and so never count as below.
-    """
-    m = margins
-    return ((m[..., engine.M_GRIP] < safety.grip_ratio) | (m[..., engine.M_BAL] < safety.balance_margin)
-            | (m[..., engine.M_LIFT] < safety.lift_ratio) | (m[..., engine.M_LAND] < safety.landing_margin)
-            | (m[..., engine.M_CLEAR] < safety.clearance))
+def required_factors(safety) -> dict:
+    return {words: {"value": float(getattr(safety, factor)), "unit": unit} for _, factor, words, unit in FACTORS}
 
 
-_FAILURE_INDEX = [engine.EVENT_KINDS.index(k) for k in FAILURE_KINDS]
-
-
-def verdict_codes(scene: Scene, events: np.ndarray, margins: np.ndarray) -> np.ndarray:
-    """Overall verdict per variant as 0 holds, 1 marginal, 2 fails (the rules of summarise, on a batch)."""
-    failed = np.any(~np.isnan(events[:, _FAILURE_INDEX, 0]), axis=1)
-    below = below_factors(scene.safety, margins).any(axis=1)
-    return np.where(failed, 2, np.where(below, 1, 0))
-
-
-def first_failure_kinds(events: np.ndarray) -> list[str | None]:
-    """The earliest failure kind per variant of a batch, or None."""
-    times = events[:, _FAILURE_INDEX, 0]
-    return [None if np.all(np.isnan(row)) else FAILURE_KINDS[int(np.nanargmin(row))] for row in times]
+def running_verdict(scene: Scene, events: np.ndarray, outcomes: np.ndarray, t: float) -> str:
+    """The verdict of one run as far as time t (the preview's running verdict): the same rule."""
+    return NAMES[int(verdict_codes(scene, events[None], outcomes[None], until=t)[0])]

@@ -51,16 +51,16 @@ def display(name: str, value: float, system: str) -> str:
 
 
 def envelope_summary(scene, sweep) -> dict:
-    from physics.engine import M_BAL, M_GRIP, M_LIFT, M_WIND
-    from physics.sweep import NAMES
-    from physics.verdict import first_failure_kinds
+    from physics.verdict import NAMES, first_failure_kinds
     kinds = first_failure_kinds(sweep.result.events)
-    m = sweep.result.margins
+    m = sweep.result.outcomes
     rows = []
     for i, value in enumerate(sweep.values):
         rows.append({"value": float(value), "verdict": NAMES[sweep.codes[i]], "first_failure": kinds[i],
-                     "grip_ratio_min": _f(m[i, :, M_GRIP].min()), "balance_margin_min_m": _f(m[i, :, M_BAL].min()),
-                     "lift_ratio_min": _f(m[i, :, M_LIFT].min()), "apparent_wind_max_ms": float(m[i, :, M_WIND].max())})
+                     "grip_ratio_min": _f(m[i]["grip_ratio_min"].min()),
+                     "balance_margin_min_m": _f(m[i]["balance_margin_min"].min()),
+                     "lift_ratio_min": _f(m[i]["lift_ratio_min"].min()),
+                     "apparent_wind_max_ms": float(m[i]["apparent_wind_max"].max())})
     holding = [t for t in sweep.thresholds]
     return {
         "scene": scene.title, "parameter": sweep.name, "units": "SI", "rows": rows,
@@ -112,7 +112,7 @@ def envelope_text(scene, summary: dict) -> str:
 
 def cmd_envelope(args) -> int:
     from physics.sweep import SweepError, sweep_1d
-    from preview.cli import OutputError, load
+    from preview.session import OutputError, load
     scene = load(args)
     try:
         varies = [parse_vary(v) for v in args.vary]
@@ -133,7 +133,8 @@ def cmd_envelope(args) -> int:
 
 
 def _map(scene, varies, args) -> int:
-    from physics.sweep import NAMES, sweep_2d
+    from physics.sweep import sweep_2d
+    from physics.verdict import NAMES
     v1, v2, codes, result = sweep_2d(scene, varies[0], varies[1], points=min(args.points, 41))
     summary = {"scene": scene.title, "parameters": [varies[0][0], varies[1][0]], "units": "SI",
                "values_1": v1.tolist(), "values_2": v2.tolist(),
@@ -180,8 +181,8 @@ def risk_text(scene, summary: dict) -> str:
 
 def cmd_risk(args) -> int:
     from physics.risk import run_risk, summarise_risk
-    from preview.cli import OutputError, load
     from preview.export import Progress
+    from preview.session import OutputError, load
     scene = load(args)
     if args.samples < 1 or args.samples > 2_000_000:
         raise OutputError("--samples must be 1 to 2,000,000")

@@ -70,9 +70,8 @@ def key_times(playback) -> list[tuple[str, float]]:
     first = playback.summary["first_failure"]
     demand = tr.field("grip_demand")
     critical = float(tr.times[int(np.nanargmax(np.where(np.isfinite(demand), demand, -1)))])
-    mode = tr.field("mode")
-    from physics import engine
-    flying = np.nonzero(mode == engine.FLIGHT)[0]
+    from physics.records import Mode
+    flying = np.nonzero(tr.field("mode") == Mode.FLIGHT)[0]
     if first:
         times.append(("just before", max(0.0, first["time_s"] - 0.5)))
         times.append((f"{first['kind']} at {first['time_s']:.2f} s", first["time_s"] + 0.2))
@@ -93,7 +92,8 @@ def write_brief(scene, out: Path, paper: str = "a4") -> dict:
 
     from physics.sweep import SweepError, sweep_1d
     from preview.analysis import envelope_summary
-    from preview.export import frame_pixels, make_playback
+    from preview.export import frame_pixels
+    from preview.session import make_playback
     from preview.frame import ViewSettings
     from preview.plots import draw_envelope
 
@@ -163,9 +163,9 @@ def _tables(fig, scene, content) -> None:
     for a in content["actions"]:
         y -= 0.015
         fig.text(0.05, y, a["name"][:22], fontsize=7.5)
-        if not a["reached"]:
+        if not a["assessed"]:
             fig.text(0.22, y, f"{a['start_s']:.1f}-{a['end_s']:.1f}", fontsize=7.5)
-            fig.text(0.31, y, "FAILS (not reached)", fontsize=7.5, weight="bold")
+            fig.text(0.31, y, "FAILS (after the first failure)", fontsize=7.5, weight="bold")
             continue
         cells = [f"{a['start_s']:.1f}-{a['end_s']:.1f}", a["verdict"].upper(), _n(a["grip_ratio_min"]),
                  _n(a["balance_margin_min_m"]), _n(a["lift_ratio_min"]), f"{a['lean_max_deg']:.1f}",
@@ -204,7 +204,7 @@ def _footer(fig, content) -> None:
 
 
 def cmd_brief(args) -> int:
-    from preview.cli import OutputError, load
+    from preview.session import OutputError, load
     scene = load(args)
     out = Path(args.output)
     if out.suffix.lower() != ".pdf":

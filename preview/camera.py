@@ -58,7 +58,7 @@ def _smooth_car_x(trajectory, index: int, window: float = 1.0) -> float:
     # Follow the contact point (still while the feet are planted), the centre of
     # mass only when there is no contact (flight).
     x = trajectory.field("pivot_x")
-    x = np.where(np.isnan(x), trajectory.field("com_x"), x)
+    x = np.where(np.isnan(x), trajectory.com_path[:, 0], x)
     half = max(1, int(window / trajectory.scene.step / 2))
     lo, hi = max(0, index - half), min(x.size, index + half + 1)
     chunk = x[lo:hi]

@@ -9,19 +9,8 @@ from __future__ import annotations
 
 import argparse
 import sys
-from pathlib import Path
 
-EXIT_SCENE = 3
-EXIT_RUNTIME = 4
-DEFAULT_SCENE = "heritage_excursion.toml"
-
-
-def scenes_folder() -> Path:
-    return Path(__file__).resolve().parent.parent / "scenes"
-
-
-def default_scene() -> Path:
-    return scenes_folder() / DEFAULT_SCENE
+from preview.session import DEFAULT_SCENE, EXIT_RUNTIME, EXIT_SCENE, OutputError, load
 
 
 def _add_scene_args(p: argparse.ArgumentParser) -> None:
@@ -66,13 +55,8 @@ def build_parser() -> argparse.ArgumentParser:
     _add_scene_args(brief)
     brief.add_argument("-o", "--output", required=True, metavar="BRIEF.pdf")
     brief.add_argument("--paper", choices=("a4", "letter"), default="a4")
+    sub.add_parser("scenes", help="list the bundled demo scenes")
     return parser
-
-
-def load(args) -> "object":
-    from physics.scene_load import load_scene
-    path = Path(args.scene) if args.scene else default_scene()
-    return load_scene(path, args.overrides)
 
 
 def cmd_check(args) -> int:
@@ -81,7 +65,7 @@ def cmd_check(args) -> int:
     from preview.report import json_report, text_report
     scene = load(args)
     trajectory = simulate(scene)
-    summary = summarise(scene, trajectory.events, trajectory.margins)
+    summary = summarise(scene, trajectory.events, trajectory.outcomes)
     from physics.hazards import latest_duck_starts
     summary["ducks"] = latest_duck_starts(scene)
     print(json_report(scene, summary) if args.json else text_report(scene, summary))
@@ -113,7 +97,21 @@ def cmd_brief(args) -> int:
     return run(args)
 
 
-COMMANDS = {"check": cmd_check, "play": cmd_play, "render": cmd_render, "envelope": cmd_envelope,
+def cmd_scenes(args) -> int:
+    """One line per bundled scene: file name, title and the first line of its comment."""
+    import tomllib
+
+    from preview.session import bundled_scenes
+    for path in bundled_scenes():
+        text = path.read_text(encoding="utf-8")
+        title = tomllib.loads(text).get("title", "")
+        note = next((line.lstrip("# ").strip() for line in text.splitlines() if line.startswith("#")), "")
+        default = " (default)" if path.name == DEFAULT_SCENE else ""
+        print(f"{path.stem:<24} {title}{default}" + (f" - {note}" if note else ""))
+    return 0
+
+
+COMMANDS = {"scenes": cmd_scenes, "check": cmd_check, "play": cmd_play, "render": cmd_render, "envelope": cmd_envelope,
             "risk": cmd_risk, "brief": cmd_brief}
 
 
@@ -137,10 +135,6 @@ def main(argv: list[str] | None = None) -> int:
         print(f"roofbeat: internal error ({type(exc).__name__}: {exc}); please report it with the scene file",
               file=sys.stderr)
         return EXIT_RUNTIME
-
-
-class OutputError(Exception):
-    """An output that could not be written; the message says which and why."""
 
 
 if __name__ == "__main__":

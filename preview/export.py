@@ -17,14 +17,8 @@ from pathlib import Path
 
 import numpy as np
 
-from preview.frame import Playback, ViewSettings, draw_frame
-
-
-def make_playback(scene, params=None) -> Playback:
-    from physics.simulation import simulate
-    from physics.verdict import summarise
-    trajectory = simulate(scene, params)
-    return Playback(trajectory, summarise(scene, trajectory.events, trajectory.margins))
+from preview.frame import ViewSettings, draw_frame
+from preview.session import OutputError, Playback, make_playback
 
 
 def _pygame():
@@ -186,7 +180,6 @@ def parse_size(text: str) -> tuple[int, int]:
 
 def render(scene, args) -> int:
     """`roofbeat render`: export the preview headless."""
-    from preview.cli import OutputError
     try:
         size = parse_size(args.size)
         fps = args.fps or scene.frame_rate

@@ -12,11 +12,14 @@ from dataclasses import dataclass, field, replace
 
 import numpy as np
 
-from physics import body, engine
+from physics import body
+from physics.records import Mode
+from physics.verdict import running_verdict
 from physics.units import to_display
 from physics.wind_scales import beaufort
 from preview.camera import CAR, GROUND, Camera, camera_for
 from preview.caution import CAUTION_SHORT
+from preview.session import Playback
 from preview.timecode import timecode
 
 # A calm production palette of our own.
@@ -63,18 +66,6 @@ class ViewSettings:
 
     def toggled(self, key: str) -> "ViewSettings":
         return replace(self, vectors=self.vectors ^ {key})
-
-
-@dataclass(frozen=True)
-class Playback:
-    """A trajectory with its summary (verdicts, events), computed once."""
-
-    trajectory: object
-    summary: dict
-
-    @property
-    def scene(self):
-        return self.trajectory.scene
 
 
 def main_area(size: tuple[int, int]) -> tuple[int, int]:
@@ -195,7 +186,7 @@ def draw_consist(canvas, scene, cam: Camera) -> None:
 
 def _screen_ends(tr, i, cam: Camera, pinned: bool = False) -> np.ndarray:
     """Segment endpoints in pixels; `pinned` keeps a past pose where it was in the ground frame."""
-    ends = tr.ends[i]
+    ends = tr.ends(i)
     shift = float(tr.field("distance")[i]) if pinned and cam.frame == GROUND else None
     out = np.empty(ends.shape)
     for s in range(ends.shape[0]):
@@ -208,9 +199,9 @@ def _screen_ends(tr, i, cam: Camera, pinned: bool = False) -> np.ndarray:
 def draw_figure(canvas, tr, i: int, cam: Camera, ghost: bool = False) -> None:
     """Stick figure: far limbs lighter and thinner, near limbs in ink, head as a ring."""
     canvas.tag = "ghost" if ghost else "figure"
-    if not np.isfinite(tr.ends[i]).all() or not np.any(tr.ends[i]):
+    if not np.isfinite(tr.ends(i)).all():
         return
-    if not ghost and tr.field("mode")[i] == engine.GONE:
+    if not ghost and tr.field("mode")[i] == Mode.GONE:
         return  # struck or fallen: the ghost at the failure shows the last pose
     pts = _screen_ends(tr, i, cam, pinned=ghost)
     stature_px = tr.scene.performer.stature * cam.scale
@@ -234,11 +225,11 @@ def draw_trail(canvas, tr, i: int, view: ViewSettings, cam: Camera) -> None:
     n = max(1, int(view.trail_seconds / tr.scene.step))
     mode = tr.field("mode")
     start = max(0, i - n)
-    if mode[i] == engine.FLIGHT:
-        grounded = np.nonzero(mode[:i + 1] != engine.FLIGHT)[0]
+    if mode[i] == Mode.FLIGHT:
+        grounded = np.nonzero(mode[:i + 1] != Mode.FLIGHT)[0]
         start = min(start, int(grounded[-1]) + 1 if grounded.size else 0)
-    xs = tr.field("com_x")[start:i + 1:4]
-    zs = tr.field("com_z")[start:i + 1:4]
+    xs = tr.com_path[start:i + 1:4, 0]
+    zs = tr.com_path[start:i + 1:4, 1]
     dist = tr.field("distance")[start:i + 1:4]
     points = []
     for x, z, s in zip(xs, zs, dist):
@@ -261,30 +252,31 @@ def _force_arrow(canvas, cam, origin, force, color, tag, push=False):
 
 
 def draw_vectors(canvas, tr, i: int, view: ViewSettings, cam: Camera) -> None:
-    f = lambda name: float(tr.record[i, engine.R[name]])  # noqa: E731
-    com = (f("com_x"), f("com_z"))
+    f = lambda name: float(tr.record[name][i])  # noqa: E731
+    com = tuple(tr.com_path[i])
     if not all(map(math.isfinite, com)):
         return
     mode = int(f("mode"))
-    if mode == engine.GONE:
+    if mode == Mode.GONE:
         return
-    on_roof = mode in (engine.PLANTED, engine.SLIDING, engine.DOWN)
+    on_roof = mode in (Mode.PLANTED, Mode.SLIDING, Mode.DOWN)
     if "weight" in view.vectors:
-        _force_arrow(canvas, cam, com, (0.0, -f("weight") if on_roof else -tr.params[engine.V_["mass"]] * 9.80665),
-                     WEIGHT, "weight")
+        _force_arrow(canvas, cam, com, (0.0, -tr.weight), WEIGHT, "weight")
     if "aero" in view.vectors:
         _force_arrow(canvas, cam, com, (f("aero_x"), f("aero_z")), AERO, "aero")
     if "segments" in view.vectors:
-        ends = tr.ends[i]
+        ends = tr.ends(i)
+        forces = tr.segment_forces(i)
         for s in range(body.N_SEGMENTS):
             mid = (ends[s, :, 0].mean(), ends[s, :, 1].mean())
-            _force_arrow(canvas, cam, mid, tr.seg_force[i, s] * 3.0, AERO, "segments")
+            _force_arrow(canvas, cam, mid, forces[s] * 3.0, AERO, "segments")
     if on_roof and "reaction" in view.vectors:
-        base = (f("pivot_x"), f("roof_z"))
+        base = (f("pivot_x"), f("contact_z"))
         _force_arrow(canvas, cam, base, (0.0, f("normal")), REACTION, "normal", push=True)
-        _force_arrow(canvas, cam, base, (f("friction_x"), 0.0), REACTION, "friction", push=True)
-    if "pseudo" in view.vectors and cam.frame == CAR and abs(f("pseudo_x")) > 1.0:
-        _force_arrow(canvas, cam, com, (f("pseudo_x"), 0.0), PSEUDO, "pseudo")
+        _force_arrow(canvas, cam, base, (f("need_x"), 0.0), REACTION, "friction", push=True)
+    pseudo = float(tr.pseudo_force_path[i])
+    if "pseudo" in view.vectors and cam.frame == CAR and abs(pseudo) > 1.0:
+        _force_arrow(canvas, cam, com, (pseudo, 0.0), PSEUDO, "pseudo")
     if "wind" in view.vectors:
         canvas.tag = "wind"
         head = (com[0], com[1] + 1.3)
@@ -294,10 +286,11 @@ def draw_vectors(canvas, tr, i: int, view: ViewSettings, cam: Camera) -> None:
     if on_roof and "balance" in view.vectors:
         canvas.tag = "balance"
         canvas.circle(cam.to_screen(*com), 5, INK, 0)
-        lo, hi, roof = f("support_lo"), f("support_hi"), f("roof_z")
+        pivot, roof = f("pivot_x"), f("contact_z")
+        lo, hi = pivot + f("support_lo"), pivot + f("support_hi")
         if math.isfinite(lo):
             canvas.line(cam.to_screen(lo, roof - 0.03), cam.to_screen(hi, roof - 0.03), HOLDS, 4)
-        xcom = f("xcom")
+        xcom = pivot + f("xcom")
         if math.isfinite(xcom):
             px, py = cam.to_screen(xcom, roof - 0.03)
             color = HOLDS if lo <= xcom <= hi else FAILURE
@@ -309,7 +302,7 @@ def draw_failure_marker(canvas, playback, failure, cam: Camera) -> None:
     canvas.tag = "failure"
     tr = playback.trajectory
     i = tr.index_at(failure["time_s"])
-    z = tr.field("com_z")[i]
+    z = tr.com_path[i, 1]
     z = z if math.isfinite(z) else playback.scene.cars[0].roof_height + 1.0
     x = failure["x_car_m"]
     if cam.frame == GROUND:
@@ -341,20 +334,12 @@ def draw_legend(canvas, cam: Camera) -> None:
     canvas.text((x + 18 + bar, y + 12), "400 N", INK, 12)
 
 
-def _verdict_so_far(playback, t: float) -> str:
-    failures = [e for e in playback.summary["events"] if e["failure"] and e["time_s"] <= t]
-    if failures:
-        return "fails"
-    done = [a for a in playback.summary["actions"] if a["start_s"] <= t]
-    return "marginal" if any(a["verdict"] == "marginal" for a in done) else "holds"
-
-
 def draw_readout(canvas, playback: Playback, t: float, view: ViewSettings) -> None:
     canvas.tag = "readout"
     tr = playback.trajectory
     scene = tr.scene
     i = tr.index_at(t)
-    f = lambda name: float(tr.record[i, engine.R[name]])  # noqa: E731
+    f = lambda name: float(tr.record[name][i])  # noqa: E731
     system = scene.units
     speed, speed_u = to_display(f("speed"), "speed", system)
     app = math.hypot(f("app_x"), f("app_y")) if math.isfinite(f("app_x")) else float("nan")
@@ -365,8 +350,8 @@ def draw_readout(canvas, playback: Playback, t: float, view: ViewSettings) -> No
     bal = f"{to_display(mos, 'length', system)[0]:+.2f} {to_display(0, 'length', system)[1]}" \
         if math.isfinite(mos) else "n/a"
     lean = f"{math.degrees(f('lean')):+.1f}°" if math.isfinite(f("lean")) else "n/a"
-    verdict = _verdict_so_far(playback, t)
-    action = scene.actions[int(f("action"))].label if math.isfinite(f("action")) else ""
+    verdict = running_verdict(scene, tr.events, tr.outcomes, t)
+    action = scene.actions[int(tr.timeline.steps["action"][i])].label
     rows = [
         ("timecode", f"{timecode(t, scene.frame_rate)}   {t:6.2f} s"),
         ("action", action),

@@ -34,9 +34,9 @@ def _x_display(scene, name, values):
 
 def draw_envelope(ax, scene, sweep, summary) -> None:
     """Margins against the varied value, Beaufort bands of the apparent wind behind."""
-    from physics import engine
     x, label = _x_display(scene, sweep.name, sweep.values)
-    wind = sweep.result.margins[:, :, engine.M_WIND].max(axis=1)
+    m = sweep.result.outcomes
+    wind = m["apparent_wind_max"].max(axis=1)
     forces = np.array([beaufort(w) for w in wind])
     for k in range(len(x) - 1):
         shade = 0.97 - 0.035 * (forces[k] % 2)
@@ -45,9 +45,9 @@ def draw_envelope(ax, scene, sweep, summary) -> None:
         idx = np.nonzero(forces == f)[0]
         ax.text(x[idx].mean(), 0.02, f"Bft {f}", transform=ax.get_xaxis_transform(), ha="center", fontsize=7,
                 color="#555")
-    grip = sweep.result.margins[:, :, engine.M_GRIP].min(axis=1)
-    bal = sweep.result.margins[:, :, engine.M_BAL].min(axis=1)
-    lift = sweep.result.margins[:, :, engine.M_LIFT].min(axis=1)
+    grip = m["grip_ratio_min"].min(axis=1)
+    bal = m["balance_margin_min"].min(axis=1)
+    lift = m["lift_ratio_min"].min(axis=1)
     ax.plot(x, np.where(np.isfinite(grip), np.minimum(grip, 5), np.nan), color="#1f7a8c", label="grip ratio (min)")
     ax.plot(x, lift, color="#6a4c93", label="lift ratio N/W (min)")
     ax.axhline(scene.safety.grip_ratio, color="#1f7a8c", ls=":", lw=1)

@@ -37,9 +37,9 @@ def text_report(scene, summary: dict) -> str:
               f"{'lean':>7}{'wind':>13}{'Bft':>4}{'drag':>9}")
     lines += [header, "-" * len(header)]
     for row in summary["actions"]:
-        if not row["reached"]:
+        if not row["assessed"]:
             lines.append(f"{row['name'][:15]:<16}{row['start_s']:5.1f}-{row['end_s']:<6.1f} {'fails':<9}"
-                         "not reached: the beat failed before this action")
+                         "not assessed: the beat failed before this action")
             continue
         wind, wind_unit = to_display(row["apparent_wind_max_ms"], "wind", system)
         drag, drag_unit = to_display(row["drag_max_n"], "force", system)

@@ -15,7 +15,8 @@ import time
 from dataclasses import dataclass, replace
 from pathlib import Path
 
-from preview.frame import Playback, ViewSettings, draw_frame, timeline_rect
+from preview.frame import ViewSettings, draw_frame, timeline_rect
+from preview.session import Playback, make_playback
 
 RATES = (0.1, 0.25, 0.5, 1.0, 1.5, 2.0)
 FRAMES = ("car", "ground", "split")
@@ -37,23 +38,19 @@ class PlayerState:
     screenshots: int = 0
 
 
-def what_if_params(scene, speed_delta: float, wind_delta: float):
-    """Engine parameters for the scene with the consist speed and ambient wind shifted."""
-    import numpy as np
-
-    from physics import engine
+def what_if_variant(scene, speed_delta: float, wind_delta: float):
+    """The scene's variant with the consist speed and ambient wind shifted."""
     from physics.air import wind_vector
-    from physics.simulation import base_params
-    p = base_params(scene)
+    from physics.simulation import variants
+    v = variants(scene)
     top = max(k.speed for k in scene.keyframes)
     if top > 0:
-        p[engine.V_["speed_scale"]] = max(0.0, (top + speed_delta) / top)
-    direction = scene.air.wind_from
-    dx, dy = wind_vector(1.0, direction)
+        v.params["speed_scale"] = max(0.0, (top + speed_delta) / top)
+    dx, dy = wind_vector(1.0, scene.air.wind_from)
     new = max(0.0, scene.air.wind_speed + wind_delta)
-    p[engine.V_["wind_x"]] += (new - scene.air.wind_speed) * dx
-    p[engine.V_["wind_y"]] += (new - scene.air.wind_speed) * dy
-    return np.asarray(p)
+    v.params["wind_x"] += (new - scene.air.wind_speed) * dx
+    v.params["wind_y"] += (new - scene.air.wind_speed) * dy
+    return v
 
 
 def what_if_label(state: PlayerState, system: str) -> str:
@@ -69,9 +66,8 @@ def what_if_label(state: PlayerState, system: str) -> str:
 
 
 def resimulate(state: PlayerState) -> None:
-    from preview.export import make_playback
     scene = state.playback.scene
-    state.playback = make_playback(scene, what_if_params(scene, state.speed_delta, state.wind_delta))
+    state.playback = make_playback(scene, what_if_variant(scene, state.speed_delta, state.wind_delta))
     state.view = replace(state.view, what_if=what_if_label(state, scene.units) + (
         f" -> verdict {state.playback.summary['verdict']}" if (state.speed_delta or state.wind_delta) else ""))
 
@@ -165,10 +161,9 @@ class SceneWatcher:
             return
         self.mtime = mtime
         from physics.scene_load import SceneError, load_scene
-        from preview.export import make_playback
         try:
             scene = load_scene(self.path, self.overrides)
-            playback = make_playback(scene, what_if_params(scene, state.speed_delta, state.wind_delta))
+            playback = make_playback(scene, what_if_variant(scene, state.speed_delta, state.wind_delta))
         except SceneError as exc:
             state.view = replace(state.view, message="scene not re-loaded, still playing the last good one:\n"
                                  + exc.render())
@@ -185,7 +180,6 @@ def run_window(scene, scene_path: Path | None, overrides: list[str], size=(1280,
     import pygame
 
     from preview.canvas import PygameCanvas
-    from preview.export import make_playback
     pygame.display.init()
     pygame.font.init()
     screen = pygame.display.set_mode(size, pygame.RESIZABLE)
@@ -247,7 +241,7 @@ def play(scene, args) -> int:
     os.environ.setdefault("PYGAME_HIDE_SUPPORT_PROMPT", "1")
     path = Path(args.scene) if args.scene else None
     if path is None:
-        from preview.cli import default_scene
+        from preview.session import default_scene
         path = default_scene()
     if not display_available():
         return _clip_instead(scene, args)

@@ -5,6 +5,7 @@ import pytest
 
 from physics import body
 from physics.beat import place
+from physics.records import Contact
 from physics.scene_load import ACTION_KINDS
 
 STATURE = 1.80
@@ -64,7 +65,7 @@ def test_every_action_posture_exists():
 
 def test_placement_puts_feet_on_roof_and_support_under_them():
     angles = np.array([body.POSTURES["stand"], body.POSTURES["kneel"], body.POSTURES["prone"]], float)
-    contact = np.array([body.CONTACT_FEET, body.CONTACT_KNEES, body.CONTACT_BODY])
+    contact = np.array([Contact.FEET, Contact.KNEES, Contact.BODY])
     ends, com, inertia, support, rotates, ratio, hip = place(angles, np.ones(3), contact, STATURE)
     assert ends[..., 1].min(axis=(1, 2)) == pytest.approx(0.0)
     # Standing: the support runs from the heel (behind the ankle) to the toe.

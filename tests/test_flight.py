@@ -6,8 +6,13 @@ import numpy as np
 import pytest
 from scipy.integrate import solve_ivp
 
-from physics import G, body, engine
-from physics.simulation import segment_axes, simulate
+from physics import G, body
+from physics.beat import segment_axes
+from physics.engine import flight
+from physics.engine.air_load import Drag
+from physics.engine.jit import plain_python
+from physics.records import POSTURE, Event, Mode
+from physics.simulation import simulate
 from physics.verdict import summarise
 from tests.conftest import make_scene
 
@@ -15,12 +20,32 @@ DT = 1 / 240
 RHO = 1.225
 
 
-def lumped_fly(mass, cda, vz0, seconds, rho=RHO, dt=DT, vx0=0.0, V=0.0, wind=0.0):
-    axes = np.zeros((1, body.N_SEGMENTS, 4))
-    zeros = np.zeros(body.N_SEGMENTS)
+def posture_record(ends=None):
+    """A records.POSTURE row (a lumped body has no segments to speak of)."""
+    row = np.zeros(1, POSTURE).view(np.recarray)
+    row.drag_ratio = 1.0
+    if ends is not None:
+        row.ends[0] = ends
+        row.axes[0] = segment_axes(ends[None])[0]
+    return row[0]
+
+
+def fly(posture, drag, mass, vx0, vz0, seconds, dt=DT, V=0.0, wind=0.0):
+    """The engine's own RK4 flight step, run at float level: (n + 1, 4) x, z, vx, vz in the car frame."""
     n = int(round(seconds / dt))
-    return engine.fly(axes, 0, 1.0, 0.0, 0.0, 0.0, vx0, vz0, V, wind, 0.0, zeros, zeros, True,
-                      0.5 * rho * cda, mass, dt, n)
+    out = np.empty((n + 1, 4))
+    with plain_python():
+        fl = flight.Flight(0.0, 0.0, vx0, vz0, 0, 0.0, 0.0, 0.0, False)
+        out[0] = fl.x, fl.z, fl.vx, fl.vz
+        for k in range(n):
+            fl = flight.rk4(fl, posture, V, V, 0.0, wind, 0.0, drag, mass, dt)
+            out[k + 1] = fl.x, fl.z, fl.vx, fl.vz
+    return out
+
+
+def lumped_fly(mass, cda, vz0, seconds, rho=RHO, dt=DT, vx0=0.0, V=0.0, wind=0.0):
+    zeros = np.zeros(body.N_SEGMENTS)
+    return fly(posture_record(), Drag(zeros, zeros, True, 0.5 * rho * cda), mass, vx0, vz0, seconds, dt, V, wind)
 
 
 def test_falling_from_rest_matches_closed_form():
@@ -94,9 +119,8 @@ def test_segmented_flight_against_solve_ivp(vx0, vz0, V, wind):
                     events=lambda t, y: y[1] if t > 0.05 else 1.0)
     t_land = ref.t_events[0][0]
     x_ref = ref.sol(t_land)[0]
-    out = engine.fly(segment_axes(ends), 0, 1.0, 0.0, 0.0, 0.0, vx0, vz0, V, wind, 0.0,
-                     0.5 * rho * constants.crossflow_area,
-                     0.5 * rho * constants.axial_area, False, 0.0, mass, DT, int(t_land / DT) + 5)
+    drag = Drag(0.5 * rho * constants.crossflow_area, 0.5 * rho * constants.axial_area, False, 0.0)
+    out = fly(posture_record(ends[0]), drag, mass, vx0, vz0, (int(t_land / DT) + 5) * DT, V=V, wind=wind)
     z = out[:, 1]
     k = np.nonzero((z[:-1] > 0) & (z[1:] <= 0))[0][-1]
     x_engine = np.interp(0.0, [z[k + 1], z[k]], [out[k + 1, 0], out[k, 0]])
@@ -115,8 +139,8 @@ def landing_offset(speed_kmh, angle=90, v=2.8, toward="front", extra_air="0 m/s"
                        start='car = 1\nposition = "10 m"\nfrom = "rear"', wind=extra_air, wind_from="180 deg")
     tr = simulate(scene)
     mode = tr.field("mode")
-    takeoff = np.argmax(mode == engine.FLIGHT)
-    land = takeoff + np.argmax(mode[takeoff:] != engine.FLIGHT)
+    takeoff = np.argmax(mode == Mode.FLIGHT)
+    land = takeoff + np.argmax(mode[takeoff:] != Mode.FLIGHT)
     return tr.field("pivot_x")[land] - tr.field("pivot_x")[takeoff - 1], tr, scene
 
 
@@ -140,7 +164,7 @@ def test_stopped_consist_jump_matches_projectile_with_drag():
     # With the consist stopped and no wind the jump is plain projectile motion
     # with drag; compare against solve_ivp of the lumped body (rho 1.225, CdA scaled by posture).
     d, tr, scene = landing_offset(0, angle=40, v=4.0)
-    ratio = tr.timeline.drag_ratio[tr.timeline.act_rows[0, 0]]
+    ratio = tr.timeline.postures["drag_ratio"][tr.timeline.actions["air_row"][0]]
     k = 0.5 * 1.225 * 0.7 * ratio / 75.0
     v0 = np.array([4.0 * math.cos(math.radians(40)), 4.0 * math.sin(math.radians(40))])
 
@@ -151,9 +175,9 @@ def test_stopped_consist_jump_matches_projectile_with_drag():
     # back to it: the com returns to its take-off height.
     ref = solve_ivp(rhs, (0, 2), [0, 0, *v0], rtol=1e-10, atol=1e-12, events=lambda t, y: y[1] if t > 0.05 else 1)
     mode = tr.field("mode")
-    takeoff = np.argmax(mode == engine.FLIGHT)
-    land = takeoff + np.argmax(mode[takeoff:] != engine.FLIGHT)
-    flight_x = tr.field("com_x")[land - 1] - tr.field("com_x")[takeoff]
+    takeoff = np.argmax(mode == Mode.FLIGHT)
+    land = takeoff + np.argmax(mode[takeoff:] != Mode.FLIGHT)
+    flight_x = tr.com_path[land - 1, 0] - tr.com_path[takeoff, 0]
     assert flight_x == pytest.approx(ref.y_events[0][0][0] + 0, abs=0.05)
     # Ground and car frames coincide when the consist is stopped.
     assert np.all(tr.field("distance") == 0.0)
@@ -171,7 +195,7 @@ def test_heritage_gap_is_cleared_standing_still():
                        start='car = 1\nposition = "0.3 m"\nfrom = "rear"',
                        performer_extra='standing_long_jump = "2.2 m"\nrecovery_step = "0.6 m"\nfacing = "rear"')
     tr = simulate(scene)
-    summary = summarise(scene, tr.events, tr.margins)
+    summary = summarise(scene, tr.events, tr.outcomes)
     assert summary["first_failure"] is None
     assert summary["actions"][0]["landing_margin_min_m"] > 0.3
 
@@ -189,7 +213,7 @@ def test_frontward_crossing_fails_above_a_speed_where_rearward_holds():
         from physics.scene_load import load_scene as ls
         s = ls(scene.source, [f"motion.speed={kmh} km/h"])
         tr = simulate(s)
-        return any(e["kind"] == "fall" for e in summarise(s, tr.events, tr.margins)["events"])
+        return any(e["kind"] == "fall" for e in summarise(s, tr.events, tr.outcomes)["events"])
     lo, hi = 0.0, 90.0
     assert not fails(front, lo) and fails(front, hi)
     for _ in range(12):

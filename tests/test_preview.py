@@ -11,7 +11,8 @@ import pytest
 from physics.scene_load import load_scene
 from preview.camera import CAR, GROUND, camera_for
 from preview.canvas import RecordingCanvas
-from preview.export import frame_pixels, make_playback, write_frames
+from preview.export import frame_pixels, write_frames
+from preview.session import make_playback
 from preview.frame import AERO, CAR_BODY, FAILURE, INK, ViewSettings, cameras, draw_frame
 from tests.conftest import REPO
 
@@ -53,7 +54,7 @@ def test_recording_canvas_sees_figure_where_the_trajectory_says(heritage):
     draw_frame(canvas, heritage, t, view)
     cam = cameras(heritage, t, view, SIZE)[0]
     i = heritage.trajectory.index_at(t)
-    trunk = heritage.trajectory.ends[i, 1]
+    trunk = heritage.trajectory.ends(i)[1]
     expected = (cam.to_screen(*trunk[0]), cam.to_screen(*trunk[1]))
     lines = [c[1] for c in canvas.tagged("figure") if c[0] == "line"]
     assert any(np.allclose(np.array(line), np.array(expected), atol=1e-6) for line in lines)
@@ -80,16 +81,16 @@ def test_pixels_show_figure_vector_and_failure_marker(late_duck):
     pixels = frame_pixels(late_duck, t, view, SIZE)
     cam = cameras(late_duck, t, view, SIZE)[0]
     i = tr.index_at(t)
-    trunk_mid = tr.ends[i, 1].mean(axis=0)
+    trunk_mid = tr.ends(i)[1].mean(axis=0)
     assert near(pixels, cam.to_screen(*trunk_mid), INK)
-    com = (tr.field("com_x")[i], tr.field("com_z")[i])
+    com = tuple(tr.com_path[i])
     aero = (tr.field("aero_x")[i], tr.field("aero_z")[i])
     tip = cam.to_screen(com[0] + 0.8 * aero[0] / 400, com[1] + 0.8 * aero[1] / 400)
     assert near(pixels, tip, AERO, radius=4)
     # The failure marker appears at the failure place once its time has come, and not before.
     after = failure["time_s"] + 0.3
     cam = cameras(late_duck, after, view, SIZE)[0]
-    marker = cam.to_screen(failure["x_car_m"], tr.field("com_z")[tr.index_at(failure["time_s"])])
+    marker = cam.to_screen(failure["x_car_m"], tr.com_path[tr.index_at(failure["time_s"]), 1])
     assert near(frame_pixels(late_duck, after, view, SIZE), marker, FAILURE, radius=18, tolerance=30)
     assert not near(pixels, marker, FAILURE, radius=18, tolerance=30)
 

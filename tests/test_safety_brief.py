@@ -21,7 +21,7 @@ from tests.conftest import REPO, SCENES, make_scene
 def verdict_at(path, kmh):
     scene = load_scene(path, [f"motion.speed={kmh} km/h"])
     tr = simulate(scene)
-    return summarise(scene, tr.events, tr.margins)["verdict"]
+    return summarise(scene, tr.events, tr.outcomes)["verdict"]
 
 
 def test_envelope_thresholds_agree_with_direct_checks():
@@ -51,7 +51,7 @@ def test_monte_carlo_without_uncertainty_reproduces_the_deterministic_verdict():
         scene = load_scene(path)
         assert not scene.uncertain
         tr = simulate(scene)
-        expected = {"holds": 0, "marginal": 1, "fails": 2}[summarise(scene, tr.events, tr.margins)["verdict"]]
+        expected = {"holds": 0, "marginal": 1, "fails": 2}[summarise(scene, tr.events, tr.outcomes)["verdict"]]
         result = run_risk(scene, samples=40, seed=1)
         assert np.all(result.codes == expected)
 
@@ -61,7 +61,7 @@ def test_monte_carlo_is_reproducible_and_finds_the_driver():
     a = summarise_risk(scene, run_risk(scene, 300, seed=9))
     b = summarise_risk(scene, run_risk(scene, 300, seed=9))
     assert a == b
-    assert a["drivers"][0]["input"] == "friction"
+    assert a["drivers"][0]["input"] == "roof friction, box wagon"
     assert a["drivers"][0]["rank_correlation_with_failure"] < -0.3
     c = summarise_risk(scene, run_risk(scene, 300, seed=10))
     assert c != a

@@ -4,7 +4,7 @@ import math
 
 import pytest
 
-from physics import engine
+from physics.records import Event
 from physics.hazards import latest_duck_starts
 from physics.scene_load import load_scene
 from physics.simulation import simulate
@@ -20,7 +20,7 @@ def run(kind, extra=BRIDGE, transition="0 s"):
                        cars=['length = "20 m"\nroof_height = "4.0 m"'],
                        actions=[f'do = "{kind}"\nduration = "5 s"\ntransition = "{transition}"'])
     tr = simulate(scene)
-    return scene, tr, summarise(scene, tr.events, tr.margins)
+    return scene, tr, summarise(scene, tr.events, tr.outcomes)
 
 
 def test_standing_performer_strikes_a_low_bridge():
@@ -42,8 +42,8 @@ def test_prone_performer_clears_the_same_bridge():
 def test_late_duck_strikes_and_the_latest_start_is_reported():
     early = load_scene(REPO / "scenes" / "footbridge_duck.toml")
     late = load_scene(REPO / "scenes" / "footbridge_late_duck.toml")
-    assert math.isnan(simulate(early).events[engine.EV_STRIKE, 0])
-    assert not math.isnan(simulate(late).events[engine.EV_STRIKE, 0])
+    assert math.isnan(simulate(early).events[Event.STRIKE]["time"])
+    assert not math.isnan(simulate(late).events[Event.STRIKE]["time"])
     latest = latest_duck_starts(early)[0]["latest_start_s"]
     assert early.actions[1].start < latest < late.actions[1].start
     assert latest_duck_starts(late)[0]["latest_start_s"] == pytest.approx(latest, abs=1 / 24)

@@ -23,7 +23,7 @@ def steady(trajectory, name, t=2.0):
 def run(**kwargs):
     scene = make_scene(**kwargs)
     trajectory = simulate(scene)
-    return scene, trajectory, summarise(scene, trajectory.events, trajectory.margins)
+    return scene, trajectory, summarise(scene, trajectory.events, trajectory.outcomes)
 
 
 def test_145_kmh_standing_fails():
@@ -117,5 +117,9 @@ def test_braking_pushes_toward_the_front():
              '{ time = "3 s", speed = "10 km/h" }]'
     scene, tr, summary = run(motion=motion)
     decel = (20 / 3.6) / 2.0
-    assert steady(tr, "pseudo_x", 2.0) == pytest.approx(75 * decel, rel=1e-3)
-    assert steady(tr, "pseudo_x", 0.5) == pytest.approx(0.0, abs=1e-9)
+    pseudo = tr.pseudo_force_path
+    assert pseudo[tr.index_at(2.0)] == pytest.approx(75 * decel, rel=1e-3)
+    assert pseudo[tr.index_at(0.5)] == pytest.approx(0.0, abs=1e-9)
+    # The roof must hold it with the air load: friction needed = -(air + pseudo-force).
+    k = tr.index_at(2.0)
+    assert tr.field("need_x")[k] == pytest.approx(-(tr.field("aero_x")[k] + pseudo[k]), rel=1e-9)

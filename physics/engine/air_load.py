@@ -1,0 +1,79 @@
+"""Aerodynamic load on a posture by the cross-flow principle.
+
+Each segment sees the component of the apparent wind normal to its axis and
+takes F = 1/2 rho Cd d L |w_n| w_n at its midpoint; blunt segments (head,
+trunk, feet) add an end-on term 1/2 rho Cd_end A_end |w_a| w_a along their axis
+so a body lying along the flow is not drag-free (physics/README.md, "Air
+loads"). The lumped body is one drag area at the centre of mass, scaled by the
+posture's drag area relative to standing. The apparent wind is taken uniform
+over the body.
+"""
+
+from __future__ import annotations
+
+import math
+from collections import namedtuple
+
+import numpy as np
+
+from physics.engine.jit import kernel, small
+
+# Total force (N) and its torque about the pivot as a function of the lean:
+# torque(lean) = torque_cos cos(lean) + torque_sin sin(lean), from the
+# unrotated points (N m).
+AirLoad = namedtuple("AirLoad", "fx fy fz torque_cos torque_sin")
+
+# Per-variant drag of the body: 1/2 rho Cd A per segment (cross-flow and
+# end-on) or of the whole lumped body, kg/m.
+Drag = namedtuple("Drag", "q_cross q_axial lumped q_lumped")
+
+
+@kernel
+def body_drag(body, density, drag_scale):
+    """The body's drag factors at this variant's air density and drag scale."""
+    half = 0.5 * density * drag_scale
+    q_cross = np.empty(body.crossflow_area.shape[0])
+    q_axial = np.empty(body.axial_area.shape[0])
+    for i in range(q_cross.shape[0]):
+        q_cross[i] = half * body.crossflow_area[i]
+        q_axial[i] = half * body.axial_area[i]
+    return Drag(q_cross, q_axial, body.lumped != 0, half * body.lumped_drag_area)
+
+
+@small
+def rotate(x0, z0, c, s):
+    """A body-frame offset leaned by the angle with cosine c and sine s (top toward +x)."""
+    return x0 * c + z0 * s, -x0 * s + z0 * c
+
+
+@kernel
+def air_load(posture, c, s, wx, wy, wz, drag):
+    """Force and pivot torque of the apparent wind (wx, wy, wz) on `posture` leaned by (cos c, sin s)."""
+    if drag.lumped:
+        q = drag.q_lumped * posture.drag_ratio
+        speed = math.sqrt(wx * wx + wy * wy + wz * wz)
+        fx = q * speed * wx
+        fz = q * speed * wz
+        return AirLoad(fx, q * speed * wy, fz, posture.com_z * fx - posture.com_x * fz,
+                       -posture.com_x * fx - posture.com_z * fz)
+    fx_t = 0.0
+    fy_t = 0.0
+    fz_t = 0.0
+    a = 0.0
+    b = 0.0
+    for i in range(posture.axes.shape[0]):
+        mx = posture.axes[i, 0]
+        mz = posture.axes[i, 1]
+        ex, ez = rotate(posture.axes[i, 2], posture.axes[i, 3], c, s)
+        along = wx * ex + wz * ez
+        nx = wx - along * ex
+        nz = wz - along * ez
+        nmag = math.sqrt(nx * nx + wy * wy + nz * nz)
+        fx = drag.q_cross[i] * nmag * nx + drag.q_axial[i] * abs(along) * along * ex
+        fz = drag.q_cross[i] * nmag * nz + drag.q_axial[i] * abs(along) * along * ez
+        fx_t += fx
+        fy_t += drag.q_cross[i] * nmag * wy
+        fz_t += fz
+        a += mz * fx - mx * fz
+        b += -mx * fx - mz * fz
+    return AirLoad(fx_t, fy_t, fz_t, a, b)

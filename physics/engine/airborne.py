@@ -1,0 +1,108 @@
+"""One step of a body in the air: record it, advance it, find its touchdown or its fall."""
+
+from __future__ import annotations
+
+import math
+
+from physics.engine.air_load import rotate
+from physics.engine.beat_state import Beat, State, failed, travel, with_mode
+from physics.engine.flight import Flight, crossing, inside_margin, land, rk4, take_off, touchdown_car
+from physics.engine.jit import kernel, small
+from physics.engine.outcome import note_event, note_landing_margin, note_touchdown
+from physics.engine.overhead import anything_overhead, overhead_step
+from physics.engine.recording import record_flight
+from physics.engine.roof import car_at
+from physics.engine.sliding import Slide
+from physics.engine.stance import after_landing
+from physics.records import Event, Mode
+
+
+@kernel
+def flight_iteration(v, inputs, env, state, act, out):
+    """Assess and record the body in the air at t_k, then one RK4 step with touchdown inside it."""
+    fl = state.flight
+    beat = state.beat
+    if beat.leaves_now:
+        beat = with_mode(beat, Mode.FLIGHT)
+    posture = inputs.postures[fl.row]
+    if anything_overhead(inputs):
+        cx, cz = rotate(posture.com_x, posture.com_z, math.cos(fl.lean), math.sin(fl.lean))
+        beat = overhead_step(v, inputs, env, beat, posture, fl.lean, fl.x - cx, fl.z - cz, act, out)
+    if out.recording:
+        record_flight(out.record[env.k], env, fl, posture, v.drag, beat.mode)
+    if beat.mode == Mode.GONE or env.last:
+        return State(beat, state.slide, state.balance, fl)
+    new = rk4(fl, posture, env.speed, env.next_speed, env.accel, env.wind_x, env.wind_y, v.drag, v.mass, v.dt)
+    car, cross = touchdown_car(inputs.cars, fl, new)
+    if car >= 0:
+        return touch_down(v, inputs, env, State(beat, state.slide, state.balance, fl), car, cross, act, out)
+    beat, new = check_fall(v, inputs, env, beat, fl, new, act, out)
+    if new.z + new.low_dz <= 0.0:
+        beat = with_mode(beat, Mode.GONE)  # on the ground beside or between the cars
+    return State(beat, state.slide, state.balance, new)
+
+
+@small
+def lowest_roof(cars):
+    low = math.inf
+    for i in range(cars.shape[0]):
+        low = min(low, cars[i].roof_height)
+    return low
+
+
+@kernel
+def check_fall(v, inputs, env, beat, before, after, act, out):
+    """Below every roof with none beneath: a fall. A descent through the declared
+    landing car's roof level outside it sets the landing margin (the miss)."""
+    cars = inputs.cars
+    declared = inputs.actions[act].landing_car
+    if declared >= 0 and beat.assessing:
+        cross = crossing(before, after, cars[declared].roof_height)
+        if cross.frac >= 0.0:
+            note_landing_margin(out.outcomes[v.b, act], inside_margin(cars, declared, cross.x + before.low_dx))
+    if before.fallen or car_at(cars, after.x + after.low_dx) >= 0:
+        return beat, after
+    low = lowest_roof(cars)
+    cross = crossing(before, after, low)
+    if cross.frac < 0.0:
+        return beat, after
+    tau = cross.frac * v.dt
+    note_event(out.events, v.b, Event.FALL, env.t + tau, cross.x + before.low_dx, travel(env, tau), cars,
+               low - (after.z + after.low_dz), 0.0, declared)
+    fallen = Flight(after.x, after.z, after.vx, after.vz, after.row, after.lean, after.low_dx, after.low_dz, True)
+    return failed(beat), fallen
+
+
+@kernel
+def touch_down(v, inputs, env, state, car, cross, act, out):
+    """The landing rule at touchdown; notes the touchdown, the landing margin, a missed or hard landing, or a fall."""
+    cars = inputs.cars
+    action = inputs.actions[act]
+    beat = state.beat
+    ld = land(cars, car, cross, state.flight, inputs.postures[action.landed_row], v.roof_scale,
+              v.params.recovery_step)
+    tau = cross.frac * v.dt
+    t = env.t + tau
+    s = travel(env, tau)
+    declared = action.landing_car if action.landing_car >= 0 else car
+    margin = inside_margin(cars, declared, ld.pivot)
+    note_event(out.events, v.b, Event.TOUCHDOWN, t, ld.pivot, s, cars, abs(cross.vx), abs(cross.vz), -1)
+    note_touchdown(out.outcomes[v.b, act], t, ld.pivot, ld.car, abs(cross.vx))
+    if beat.assessing:
+        note_landing_margin(out.outcomes[v.b, act], margin)
+    if ld.car < 0:
+        # The lowest point touched a roof but the feet stand over a gap or past an end.
+        note_event(out.events, v.b, Event.FALL, t, ld.pivot, s, cars, margin, 0.0, declared)
+        fl = take_off(inputs.postures[action.landed_row], action.landed_row, 0.0, ld.pivot, cars[car].roof_height,
+                      0.0, 0.0)
+        return State(with_mode(failed(beat), Mode.GONE), state.slide, state.balance, fl)
+    if ld.car != declared:
+        note_event(out.events, v.b, Event.MISSED_LANDING, t, ld.pivot, s, cars, -margin, 0.0, declared)
+        beat = failed(beat)
+    if ld.hard:
+        note_event(out.events, v.b, Event.HARD_LANDING, t, ld.pivot, s, cars, abs(cross.vx), ld.absorb, -1)
+        beat = failed(beat)
+    mode = Mode.SLIDING.value if ld.hard else Mode.PLANTED.value
+    slide = Slide(ld.pivot, ld.speed if ld.hard else 0.0, 0.0, state.slide.gait_phase)
+    return State(Beat(mode, beat.jumped, act, beat.assessing, False), slide, after_landing(state.balance),
+                 state.flight)

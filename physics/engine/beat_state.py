@@ -1,0 +1,55 @@
+"""The carried state of one variant's run, grouped by concern, and the step's surroundings.
+
+Each concern's own state lives with it (stance.Balance, sliding.Slide,
+flight.Flight, turbulence.Turbulence); here are the records that tie them
+together in the step driver.
+"""
+
+from __future__ import annotations
+
+from collections import namedtuple
+
+from physics.engine.jit import kernel, small
+from physics.records import Mode
+
+# What stays fixed through one variant's run: its index b and parameters (a
+# records.PARAMS row), its roof friction multiplier per car, the body's drag
+# factors, mass (kg) and weight (N), the engine step (s), and the delay lines
+# of the balance controller.
+Variant = namedtuple("Variant", "b params roof_scale drag mass weight dt buf_err buf_rate")
+# Where the results go; `recording` when this variant fills `record`.
+Outputs = namedtuple("Outputs", "events outcomes record recording")
+# Progress of the beat: the body's Mode, the last jump taken and landed (action
+# indices, -1 none), whether the beat is still assessed (no failure yet), and
+# whether the body left the roof at t_k itself (a lift), so its flight starts
+# within this step.
+Beat = namedtuple("Beat", "mode jumped landed assessing leaves_now")
+State = namedtuple("State", "beat slide balance flight")
+# Step k: its time (s), the consist's speed (m/s), acceleration (m/s^2) and
+# travel (m), the ambient wind (m/s), the next step's speed and whether this is
+# the last step.
+Env = namedtuple("Env", "k t speed accel distance wind_x wind_y next_speed last")
+
+
+@small
+def with_mode(beat, mode):
+    """The beat with the body in `mode` (a records.Mode)."""
+    return Beat(mode.value, beat.jumped, beat.landed, beat.assessing, False)
+
+
+@small
+def failed(beat):
+    """The beat after a failure: no longer assessed."""
+    return Beat(beat.mode, beat.jumped, beat.landed, False, beat.leaves_now)
+
+
+@small
+def lifted(beat):
+    """The beat with the body lifted off the roof at t_k: a failure, in the air from this step."""
+    return Beat(Mode.FLIGHT.value, beat.jumped, beat.landed, False, True)
+
+
+@small
+def travel(env, tau):
+    """Consist travel (m) a time tau (s) into step k: constant acceleration within a step."""
+    return env.distance + env.speed * tau + 0.5 * env.accel * tau * tau

@@ -1,0 +1,87 @@
+"""The step driver: one compiled kernel runs every variant of a batch.
+
+Each iteration k takes the carried state at time t_k, meets the air and the
+consist's motion of that step, assesses and records the state at t_k, then
+advances it to t_(k+1): on the roof the contact model (stance and balance, grip
+and sliding), in the air one Runge-Kutta step with touchdown found inside it.
+Events are stamped when they happen. A failure ends the assessment (margins
+stop there) while the body's motion goes on.
+"""
+
+from __future__ import annotations
+
+import numpy as np
+
+from physics import G
+from physics.engine.air_load import body_drag
+from physics.engine.airborne import flight_iteration
+from physics.engine.beat_state import Beat, Env, Outputs, State, Variant
+from physics.engine.flight import Flight
+from physics.engine.jit import entry, kernel, small
+from physics.engine.on_roof import roof_iteration
+from physics.engine.recording import record_flight
+from physics.engine.sliding import Slide
+from physics.engine.stance import restart, upright
+from physics.engine.turbulence import advance_turbulence, start_turbulence
+from physics.records import ActionCode, Mode
+
+
+@kernel
+def environment(p, step, next_step, tb, k, last):
+    """The consist's motion and the ambient wind (mean, gusts, turbulence) at step k."""
+    speed = step.speed * p.speed_scale
+    tb = advance_turbulence(tb, step.time, abs(speed - p.wind_x), p.turbulence_sigma, p.turbulence_length)
+    env = Env(k, step.time, speed, step.accel * p.speed_scale, step.distance * p.speed_scale,
+              p.wind_x + step.gust_x * p.gust_scale + tb.value, p.wind_y + step.gust_y * p.gust_scale,
+              next_step.speed * p.speed_scale, last)
+    return env, tb
+
+
+@small
+def start_state(p):
+    return State(Beat(Mode.PLANTED.value, -1, -1, True, False), Slide(p.start_x, 0.0, 0.0, 0.0), upright(),
+                 Flight(0.0, 0.0, 0.0, 0.0, 0, 0.0, 0.0, 0.0, False))
+
+
+@entry
+def run_variants(params, roof_scale, inputs, first, last, events, outcomes, record):
+    """Run variants first..last-1 (rows of params) through the whole beat.
+
+    The one compiled entry point: a single recorded run calls it with one
+    variant and a record of one row per step; batches with an empty record, in
+    chunks on a thread pool (it releases the GIL). For each step k: the posture
+    row and any restart, then the body on the roof or in the air.
+    """
+    steps = inputs.steps
+    n = steps.shape[0]
+    dt = steps[1].time - steps[0].time
+    for b in range(first, last):
+        p = params[b]
+        out = Outputs(events, outcomes, record, record.shape[0] > 0 and b == first)
+        delay = int(round(p.reaction_time / dt))
+        v = Variant(b, p, roof_scale[b], body_drag(inputs.body[0], p.density, p.drag_scale), p.mass, p.mass * G, dt,
+                    np.zeros(delay + 1), np.zeros(delay + 1))
+        tb = start_turbulence(p.turbulence_seed, p.turbulence_sigma)
+        state = start_state(p)
+        for k in range(n):
+            step = steps[k]
+            env, tb = environment(p, step, steps[min(k + 1, n - 1)], tb, k, k == n - 1)
+            act = step.action
+            row = step.row
+            beat = state.beat
+            if beat.landed == act and inputs.actions[act].code == ActionCode.JUMP:
+                row = inputs.actions[act].landed_row
+            elif step.reset and (beat.mode == Mode.PLANTED or beat.mode == Mode.SLIDING):
+                # The pivot moves within the body (feet to knees) or the
+                # performer turns: keep the hip where it was, restart the balance.
+                s = state.slide
+                state = State(beat, Slide(s.x + step.pivot_shift, s.u, s.udot, s.gait_phase), restart(state.balance),
+                              state.flight)
+            if beat.mode == Mode.GONE:
+                if out.recording:
+                    record_flight(record[k], env, state.flight, inputs.postures[state.flight.row], v.drag, beat.mode)
+                continue
+            if beat.mode != Mode.FLIGHT:
+                state = roof_iteration(v, inputs, env, state, row, step, act, out)
+            if state.beat.mode == Mode.FLIGHT and (beat.mode == Mode.FLIGHT or state.beat.leaves_now):
+                state = flight_iteration(v, inputs, env, state, act, out)

@@ -1,0 +1,132 @@
+"""Flight and landing.
+
+In the air the body keeps the posture it left with, as a rigid body under
+gravity, the car frame's pseudo-force and quadratic drag relative to the air,
+integrated by the classical Runge-Kutta method in the car frame. Touchdown is
+when its lowest point comes down through the roof of the car beneath it.
+
+Landing rule: the legs flex for LANDING_ABSORB_TIME, pressing the feet down
+hard, so static friction takes out up to mu_s (|vz| + g t) of the horizontal
+speed over the roof; what is left must skid out within one recovery step
+(or MIN_SKID) under kinetic friction, v^2 = 2 mu_k g d, else it is a hard
+landing and the body slides on.
+"""
+
+from __future__ import annotations
+
+import math
+from collections import namedtuple
+
+from physics import G
+from physics.engine.air_load import air_load, rotate
+from physics.engine.jit import kernel, small
+from physics.engine.roof import car_at, roof_friction
+from physics.records import Contact
+
+LANDING_ABSORB_TIME = 0.2  # s of leg flexion in a landing (from memory; drop-landing studies ~0.1-0.3 s)
+MIN_SKID = 0.25            # m a landing can skid without a step (about a foot length, from memory)
+
+# Carried state in the air: centre of mass (car frame, m) and its velocity
+# relative to the roof (m/s); the posture row held and its lean (rad); the
+# lowest body point relative to the centre of mass (m); whether the body has
+# already come down off the roof.
+Flight = namedtuple("Flight", "x z vx vz row lean low_dx low_dz fallen")
+
+# Where the lowest point came down through a roof level during a step: the
+# fraction of the step, the centre of mass and its velocity then.
+Crossing = namedtuple("Crossing", "frac x vx vz")
+
+# The outcome of a touchdown on car `car`: the pivot where the landed posture
+# stands (m), speed left over the roof (m/s), the friction's absorbing capacity
+# (m/s) and whether it is a hard landing.
+Landing = namedtuple("Landing", "car pivot speed absorb hard")
+
+
+@kernel
+def flight_accel(posture, lean, vx, vz, speed, accel, wind_x, wind_y, drag, mass):
+    """Acceleration (car frame, m/s^2) of a rigid posture: drag relative to the air, gravity, pseudo-force."""
+    air = air_load(posture, math.cos(lean), math.sin(lean), wind_x - (speed + vx), wind_y, -vz, drag)
+    return air.fx / mass - accel, air.fz / mass - G
+
+
+@kernel
+def rk4(fl, posture, speed0, speed1, accel, wind_x, wind_y, drag, mass, dt):
+    """One classical Runge-Kutta step of the centre of mass from consist speed speed0 to speed1."""
+    mid = 0.5 * (speed0 + speed1)
+    k1x, k1z = flight_accel(posture, fl.lean, fl.vx, fl.vz, speed0, accel, wind_x, wind_y, drag, mass)
+    k2x, k2z = flight_accel(posture, fl.lean, fl.vx + 0.5 * dt * k1x, fl.vz + 0.5 * dt * k1z, mid, accel, wind_x,
+                            wind_y, drag, mass)
+    k3x, k3z = flight_accel(posture, fl.lean, fl.vx + 0.5 * dt * k2x, fl.vz + 0.5 * dt * k2z, mid, accel, wind_x,
+                            wind_y, drag, mass)
+    k4x, k4z = flight_accel(posture, fl.lean, fl.vx + dt * k3x, fl.vz + dt * k3z, speed1, accel, wind_x, wind_y,
+                            drag, mass)
+    x = fl.x + dt * (fl.vx + dt / 6.0 * (k1x + k2x + k3x))
+    z = fl.z + dt * (fl.vz + dt / 6.0 * (k1z + k2z + k3z))
+    vx = fl.vx + dt / 6.0 * (k1x + 2.0 * k2x + 2.0 * k3x + k4x)
+    vz = fl.vz + dt / 6.0 * (k1z + 2.0 * k2z + 2.0 * k3z + k4z)
+    return Flight(x, z, vx, vz, fl.row, fl.lean, fl.low_dx, fl.low_dz, fl.fallen)
+
+
+@kernel
+def lowest_point(posture, lean, about_x, about_z):
+    """Lowest body point of the posture leaned about (about_x, about_z), relative to that point (m)."""
+    c = math.cos(lean)
+    s = math.sin(lean)
+    best_z = math.inf
+    best_x = 0.0
+    for i in range(posture.ends.shape[0]):
+        for j in range(2):
+            x, z = rotate(posture.ends[i, j, 0] - about_x, posture.ends[i, j, 1] - about_z, c, s)
+            if z < best_z:
+                best_z = z
+                best_x = x
+    return best_x, best_z
+
+
+@kernel
+def take_off(posture, row, lean, pivot_x, roof_z, vx, vz):
+    """Freeze `posture` (row), leaned by `lean` about its pivot at (pivot_x, roof_z), into flight."""
+    cx, cz = rotate(posture.com_x, posture.com_z, math.cos(lean), math.sin(lean))
+    low_dx, low_dz = lowest_point(posture, lean, posture.com_x, posture.com_z)
+    return Flight(pivot_x + cx, roof_z + cz, vx, vz, row, lean, low_dx, low_dz, False)
+
+
+@kernel
+def crossing(before, after, level):
+    """Where the lowest point went down through height `level` (m) in a step, frac -1 if it did not."""
+    z0 = before.z + before.low_dz
+    z1 = after.z + after.low_dz
+    if not (after.vz < 0.0 and z1 <= level < z0 + 1e-9):
+        return Crossing(-1.0, 0.0, 0.0, 0.0)
+    frac = (z0 - level) / max(z0 - z1, 1e-12)
+    return Crossing(frac, before.x + frac * (after.x - before.x), before.vx + frac * (after.vx - before.vx),
+                    before.vz + frac * (after.vz - before.vz))
+
+
+@kernel
+def touchdown_car(cars, before, after):
+    """(car, crossing) of a touchdown this step, car -1 if the body did not come down onto a roof."""
+    car = car_at(cars, after.x + after.low_dx)
+    if car < 0 or before.fallen:
+        return -1, Crossing(-1.0, 0.0, 0.0, 0.0)
+    cross = crossing(before, after, cars[car].roof_height)
+    return (car if cross.frac >= 0.0 else -1), cross
+
+
+@kernel
+def land(cars, car, cross, fl, landed, roof_scale, step_length):
+    """The landing rule on car `car`, the feet of the `landed` posture where the lowest point touched."""
+    low_x, unused = lowest_point(landed, 0.0, 0.0, 0.0)
+    pivot = cross.x + fl.low_dx - low_x
+    mu_s, mu_k = roof_friction(cars, car, Contact.FEET, roof_scale)
+    impact = mu_s * (abs(cross.vz) + G * LANDING_ABSORB_TIME)
+    residual = max(abs(cross.vx) - impact, 0.0)
+    skid = math.sqrt(2.0 * mu_k * G * max(step_length, MIN_SKID))
+    return Landing(car_at(cars, pivot), pivot, residual if cross.vx > 0 else -residual, impact + skid,
+                   residual > skid)
+
+
+@small
+def inside_margin(cars, car, x):
+    """Distance (m) from x to the nearer end of `car`, inward positive, outward negative."""
+    return min(x - cars[car].rear_x, cars[car].front_x - x)

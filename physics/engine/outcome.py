@@ -1,0 +1,65 @@
+"""Writing what a run found: the first event of each kind, and per action the
+extremes of the margins (records of physics.records EVENT and OUTCOME)."""
+
+from __future__ import annotations
+
+import math
+
+from physics.engine.jit import kernel, small
+from physics.engine.roof import car_at
+from physics.records import Contact
+
+
+@kernel
+def note_event(events, b, kind, t, x_car, distance, cars, demand, available, target_car):
+    """Keep the first event of `kind` for variant b; distance = consist travel at t (m)."""
+    ev = events[b, kind]
+    if math.isnan(ev.time):
+        ev.time = t
+        ev.x_car = x_car
+        ev.x_ground = x_car + distance
+        ev.car = car_at(cars, x_car)
+        ev.demand = demand
+        ev.available = available
+        ev.target_car = target_car
+
+
+@kernel
+def note_stance(out, mu_static, demand, margin, lift_ratio, lean_required, wind, drag, contact):
+    """Margins of a step on the roof into the action's outcome record `out`."""
+    if demand > 1e-12:
+        out.grip_ratio_min = min(out.grip_ratio_min, mu_static / demand)
+    out.grip_demand_max = max(out.grip_demand_max, demand)
+    if contact != Contact.BODY:
+        if margin == margin:  # not judged (NaN) during deliberate posture changes
+            out.balance_margin_min = min(out.balance_margin_min, margin)
+        out.lean_max = max(out.lean_max, lean_required)
+    out.lift_ratio_min = min(out.lift_ratio_min, lift_ratio)
+    out.apparent_wind_max = max(out.apparent_wind_max, wind)
+    out.drag_max = max(out.drag_max, drag)
+
+
+@small
+def note_clearance(out, gap):
+    out.clearance_min = min(out.clearance_min, gap)
+
+
+@small
+def note_landing_margin(out, margin):
+    out.landing_margin_min = min(out.landing_margin_min, margin)
+
+
+@small
+def note_takeoff(out, t, x):
+    if math.isnan(out.takeoff_time):
+        out.takeoff_time = t
+        out.takeoff_x = x
+
+
+@small
+def note_touchdown(out, t, x, car, speed):
+    if math.isnan(out.touchdown_time):
+        out.touchdown_time = t
+        out.touchdown_x = x
+        out.touchdown_car = car
+        out.touchdown_speed = speed

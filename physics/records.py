@@ -1,0 +1,226 @@
+"""The named vocabulary of the engine: every record, column and code that crosses
+into or out of the compiled kernel, defined once here and read and written by
+name everywhere (numpy structured dtypes, named tuples and IntEnum codes, all of
+which numba compiles).
+
+Inside the kernel every number is SI. Positions along the consist are in the
+car frame (x = 0 at the lead car's front end, negative toward the rear) unless a
+name says ground.
+"""
+
+from __future__ import annotations
+
+from collections import namedtuple
+from enum import IntEnum
+
+import numpy as np
+
+N_SEGMENTS = 12  # the stick figure's segments (physics.body.SEGMENTS)
+
+
+class Mode(IntEnum):
+    """What the body is doing on a step."""
+
+    PLANTED = 0   # feet, knees or body held on the roof by static friction
+    SLIDING = 1   # the contact slides under kinetic friction
+    FLIGHT = 2    # airborne: a rigid posture under gravity and drag
+    DOWN = 3      # toppled: falls over without control, then lies on the roof
+    GONE = 4      # off the consist or struck: nothing more is simulated
+
+
+class Contact(IntEnum):
+    """How a posture touches the roof."""
+
+    FEET = 0
+    KNEES = 1
+    BODY = 2      # prone, crawling, or lying after a topple
+
+
+class ActionCode(IntEnum):
+    POSTURE = 0   # stand, brace, crouch, duck, kneel, prone
+    GAIT = 1      # walk, run, crawl
+    JUMP = 2
+
+
+class Event(IntEnum):
+    """Event kinds; the first of each kind in a run is kept."""
+
+    SLIP = 0
+    TOPPLE = 1
+    LIFT = 2
+    FALL = 3
+    STRIKE = 4
+    LINE = 5
+    HARD_LANDING = 6
+    MISSED_LANDING = 7
+    RECOVERY_STEP = 8
+    TAKEOFF = 9
+    TOUCHDOWN = 10
+
+
+# Plain words shown to people, and which kinds are failures. A failure ends the
+# assessment of the beat: margins stop at it and later actions are not assessed.
+EVENT_WORDS = {
+    Event.SLIP: "slip", Event.TOPPLE: "topple", Event.LIFT: "lift", Event.FALL: "fall",
+    Event.STRIKE: "strike", Event.LINE: "line", Event.HARD_LANDING: "hard landing",
+    Event.MISSED_LANDING: "missed landing", Event.RECOVERY_STEP: "recovery step",
+    Event.TAKEOFF: "take-off", Event.TOUCHDOWN: "touchdown",
+}
+FAILURES = (Event.SLIP, Event.TOPPLE, Event.LIFT, Event.FALL, Event.STRIKE, Event.LINE, Event.HARD_LANDING,
+            Event.MISSED_LANDING)
+N_EVENTS = len(Event)
+
+# ---------------------------------------------------------------- per variant
+# One row per variant of a batch (a sweep value, a Monte Carlo sample, a
+# what-if). Roof friction varies per car and so lives in its own (B, cars)
+# array of multipliers, `roof_scale`.
+PARAMS = np.dtype([
+    ("speed_scale", "f8"),        # multiplies the whole speed profile
+    ("wind_x", "f8"),             # ambient mean wind, along the track (+ toward the front), m/s
+    ("wind_y", "f8"),             # ambient mean wind, lateral (+ left), m/s
+    ("density", "f8"),            # air density, kg/m^3
+    ("mass", "f8"),               # performer mass, kg
+    ("drag_scale", "f8"),         # multiplies the body's drag areas (segment table or lumped)
+    ("reaction_time", "f8"),      # postural reaction latency, s
+    ("turbulence_sigma", "f8"),   # standard deviation of the along-track turbulence, m/s (0 = none)
+    ("turbulence_length", "f8"),  # turbulence length scale, m
+    ("turbulence_seed", "i8"),
+    ("gust_scale", "f8"),         # multiplies every discrete gust
+    ("max_lean", "f8"),           # largest lean the performer will hold, rad
+    ("recovery_step", "f8"),      # length of the one recovery step, m (0 = none)
+    ("start_x", "f8"),            # starting pivot position, car frame, m
+    ("takeoff_scale", "f8"),      # multiplies every take-off velocity
+])
+
+# -------------------------------------------------------------- shared inputs
+# Per engine step: the consist's motion, the discrete gusts and the beat's
+# prescribed timeline (state-independent, shared by every variant).
+STEP = np.dtype([
+    ("time", "f8"), ("speed", "f8"), ("accel", "f8"), ("distance", "f8"),
+    ("gust_x", "f8"), ("gust_y", "f8"),
+    ("action", "i8"),             # index of the action under way
+    ("row", "i8"),                # posture row of this step
+    ("reset", "u1"),              # the pivot or facing changes here: balance restarts
+    ("settling", "u1"),           # inside a deliberate posture change: balance not assessed
+    ("pivot_shift", "f8"),        # how far the pivot moves within the body at a reset, m
+    ("gait_speed", "f8"),         # commanded speed relative to the roof, m/s, signed (+ front)
+    ("gait_friction", "f8"),      # peak horizontal gait force / body weight
+    ("gait_rate", "f8"),          # steps per second
+])
+
+# One posture (a row): the figure relative to its pivot (the contact point on
+# the roof), body frame turned to the car frame by the facing.
+POSTURE = np.dtype([
+    ("ends", "f8", (N_SEGMENTS, 2, 2)),  # segment endpoints [segment, proximal/distal, x/z], m
+    ("axes", "f8", (N_SEGMENTS, 4)),     # segment midpoint x, z and unit axis x, z
+    ("rotates", "u1", (N_SEGMENTS,)),    # whether the segment leans with the body (1) or stays put on the roof
+    ("com_x", "f8"), ("com_z", "f8"),    # centre of mass, m
+    ("inertia", "f8"),                   # moment of inertia about the pivot per kg of body mass, m^2
+    ("support_lo", "f8"), ("support_hi", "f8"),  # rear-most and front-most support, m
+    ("contact", "i8"),                   # Contact
+    ("drag_ratio", "f8"),                # drag area in a headwind relative to standing
+])
+
+ACTION = np.dtype([
+    ("code", "i8"),               # ActionCode
+    ("start", "f8"),              # s
+    ("takeoff_x", "f8"),          # jumps: take-off pivot position, car frame, m
+    ("takeoff_vx", "f8"),         # take-off velocity relative to the roof, m/s
+    ("takeoff_vz", "f8"),
+    ("landing_car", "i8"),        # declared landing car (0-based), -1 for none
+    ("air_row", "i8"),            # posture row held in the air
+    ("landed_row", "i8"),         # posture row after a landing
+])
+
+CAR = np.dtype([
+    ("front_x", "f8"), ("rear_x", "f8"), ("roof_height", "f8"),
+    ("sole_static", "f8"), ("sole_kinetic", "f8"),   # footwear on the roof
+    ("body_static", "f8"), ("body_kinetic", "f8"),   # clothing and pads (knees, prone, lying)
+])
+
+STRUCTURE = np.dtype([("x_start", "f8"), ("span", "f8"), ("soffit", "f8")])  # ground frame; soffit above rail
+LINE = np.dtype([("x_start", "f8"), ("x_end", "f8"), ("wire_height", "f8"), ("exclusion", "f8")])
+
+BODY = np.dtype([
+    ("crossflow_area", "f8", (N_SEGMENTS,)),  # Cd * breadth * length per segment, m^2 (before drag_scale)
+    ("axial_area", "f8", (N_SEGMENTS,)),      # Cd * end area per segment, m^2
+    ("lumped", "u1"),                         # 1: one drag area at the centre of mass (a hand calculation)
+    ("lumped_drag_area", "f8"),               # standing Cd*A of the lumped body, m^2
+])
+
+Inputs = namedtuple("Inputs", "steps postures actions cars structures lines body")
+
+# -------------------------------------------------------------------- outputs
+EVENT = np.dtype([
+    ("time", "f8"),               # s (NaN: did not happen)
+    ("x_car", "f8"),              # where, car frame, m
+    ("x_ground", "f8"),           # where, ground frame, m
+    ("car", "i8"),                # car index under it, -1 for none
+    ("demand", "f8"),             # the numbers behind it (see verdict.describe)
+    ("available", "f8"),
+    ("target_car", "i8"),         # a missed landing: the car declared for it; else -1
+])
+
+# Per action: extremes of the margins while the beat is assessed, and the
+# facts of a jump. Minima start at +inf, maxima at 0, times at NaN.
+OUTCOME = np.dtype([
+    ("grip_ratio_min", "f8"),          # static friction available / needed
+    ("grip_demand_max", "f8"),         # friction needed (horizontal load / net normal load)
+    ("balance_margin_min", "f8"),      # margin of stability, m
+    ("lift_ratio_min", "f8"),          # normal force / weight, quasi-static
+    ("lean_max", "f8"),                # lean needed to balance the load, rad
+    ("apparent_wind_max", "f8"),       # m/s
+    ("drag_max", "f8"),                # aerodynamic force, N
+    ("landing_margin_min", "f8"),      # distance inside the declared landing car's nearest end, m (negative: missed)
+    ("clearance_min", "f8"),           # overhead clearance (structures, line exclusion zones), m
+    ("takeoff_time", "f8"), ("takeoff_x", "f8"),
+    ("touchdown_time", "f8"), ("touchdown_x", "f8"), ("touchdown_car", "i8"),
+    ("touchdown_speed", "f8"),         # horizontal speed relative to the roof at touchdown, m/s
+])
+OUTCOME_MINIMA = ("grip_ratio_min", "balance_margin_min", "lift_ratio_min", "landing_margin_min", "clearance_min")
+OUTCOME_TIMES = ("takeoff_time", "takeoff_x", "touchdown_time", "touchdown_x", "touchdown_speed")
+
+# Per recorded step: physical state, the air it met, the loads on it and the
+# kernel's own assessment. Geometry (segment ends, centre of mass on the roof,
+# support) and ratios are derived from these in numpy (physics.simulation).
+RECORD = np.dtype([
+    ("mode", "i8"),               # Mode
+    ("row", "i8"),                # posture row drawn and loaded
+    ("pivot_x", "f8"),            # contact point, car frame, m (NaN in flight)
+    ("contact_z", "f8"),          # roof height under the contact, m
+    ("lean", "f8"),               # whole-body lean about the pivot (in flight: of the frozen posture), rad
+    ("lean_rate", "f8"),          # rad/s
+    ("slide_speed", "f8"),        # speed of the contact over the roof, m/s
+    ("flight_x", "f8"), ("flight_z", "f8"),    # in flight: centre of mass, car frame, m (NaN on the roof)
+    ("flight_vx", "f8"), ("flight_vz", "f8"),  # in flight: its velocity relative to the roof, m/s
+    ("speed", "f8"),              # consist speed, m/s
+    ("distance", "f8"),           # consist travel since t = 0, m
+    ("wind_x", "f8"), ("wind_y", "f8"),  # ambient wind incl. gusts and turbulence, m/s
+    ("app_x", "f8"), ("app_y", "f8"), ("app_z", "f8"),  # apparent wind on the body, m/s
+    ("aero_x", "f8"), ("aero_y", "f8"), ("aero_z", "f8"),  # aerodynamic force, N
+    ("normal", "f8"),             # roof's normal force, N
+    ("need_x", "f8"), ("need_y", "f8"),  # horizontal force the roof must supply by friction, N
+    ("grip_demand", "f8"),        # friction needed (quasi-static)
+    ("grip_available", "f8"),     # static friction of the roof under the contact
+    ("xcom", "f8"),               # extrapolated centre of mass relative to the pivot, m
+    ("support_lo", "f8"), ("support_hi", "f8"),  # support incl. a recovery step, relative to the pivot, m
+    ("balance_margin", "f8"),     # margin of stability, m
+    ("lean_required", "f8"),      # rad
+])
+
+
+def empty_outcomes(batch: int, actions: int) -> np.ndarray:
+    out = np.zeros((batch, actions), OUTCOME)
+    for name in OUTCOME_MINIMA:
+        out[name] = np.inf
+    for name in OUTCOME_TIMES:
+        out[name] = np.nan
+    out["touchdown_car"] = -1
+    return out
+
+
+def empty_events(batch: int) -> np.ndarray:
+    out = np.zeros((batch, N_EVENTS), EVENT)
+    for name in EVENT.names:
+        out[name] = -1 if name in ("car", "target_car") else np.nan
+    return out

@@ -1,0 +1,62 @@
+"""What every command shares: the bundled scenes, loading a scene from the
+command line, the errors a command reports, and turning a scene into a
+playback (a recorded run and its verdicts).
+
+Exit codes: 0 the job ran (a failing beat is a result, not an error); 2 a
+usage error; 3 the scene has problems; 4 an output could not be written or
+another run-time problem.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+from importlib import resources
+from pathlib import Path
+
+EXIT_USAGE = 2
+EXIT_SCENE = 3
+EXIT_RUNTIME = 4
+DEFAULT_SCENE = "heritage_excursion.toml"
+
+
+class OutputError(Exception):
+    """An output that could not be written, or a run-time problem; the message says which and why."""
+
+
+def scenes_folder() -> Path:
+    """The bundled scenes, wherever roofbeat is installed."""
+    return Path(str(resources.files("scenes")))
+
+
+def default_scene() -> Path:
+    return scenes_folder() / DEFAULT_SCENE
+
+
+def bundled_scenes() -> list[Path]:
+    return sorted(scenes_folder().glob("*.toml"))
+
+
+def load(args):
+    """The scene named on the command line (or the default), with its --set overrides."""
+    from physics.scene_load import load_scene
+    path = Path(args.scene) if args.scene else default_scene()
+    return load_scene(path, args.overrides)
+
+
+@dataclass(frozen=True)
+class Playback:
+    """A recorded run with its summary (verdicts, events), computed once."""
+
+    trajectory: object
+    summary: dict
+
+    @property
+    def scene(self):
+        return self.trajectory.scene
+
+
+def make_playback(scene, variant=None) -> Playback:
+    from physics.simulation import simulate
+    from physics.verdict import summarise
+    trajectory = simulate(scene, variant)
+    return Playback(trajectory, summarise(scene, trajectory.events, trajectory.outcomes))

@@ -1,0 +1,1 @@
+"""Bundled demo scenes, shipped with roofbeat. Every scenario and number in them is invented."""
