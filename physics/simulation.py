@@ -227,18 +227,24 @@ def run_kernel(v: Variants, inputs: Inputs, events, outcomes, record, chunks: in
     params = np.ascontiguousarray(v.params)
     roof_scale = np.ascontiguousarray(v.roof_scale, dtype=float)
     count = params.size
+    step = float(inputs.steps["time"][1] - inputs.steps["time"][0])
+    delays = int(np.max(np.round(params["reaction_time"] / step))) + 1
+    width = max(delays, inputs.body["crossflow_area"].shape[1])
+
+    def scratch():
+        return np.zeros((4, width))
     if not jit.compiled():
         with np.errstate(over="ignore"):
-            args = _python_views([params, roof_scale, inputs, 0, count, events, outcomes, record])
+            args = _python_views([params, roof_scale, inputs, 0, count, events, outcomes, record, scratch()])
             driver.run_variants(*args)
         return
     if chunks <= 1 or count < 2:
-        driver.run_variants(params, roof_scale, inputs, 0, count, events, outcomes, record)
+        driver.run_variants(params, roof_scale, inputs, 0, count, events, outcomes, record, scratch())
         return
     bounds = np.linspace(0, count, min(chunks, count) + 1).astype(int)
     with ThreadPoolExecutor(max_workers=_threads()) as pool:
-        jobs = [pool.submit(driver.run_variants, params, roof_scale, inputs, int(a), int(b), events, outcomes, record)
-                for a, b in zip(bounds[:-1], bounds[1:]) if b > a]
+        jobs = [pool.submit(driver.run_variants, params, roof_scale, inputs, int(a), int(b), events, outcomes, record,
+                            scratch()) for a, b in zip(bounds[:-1], bounds[1:]) if b > a]
         for job in jobs:
             job.result()
 

@@ -123,3 +123,51 @@ def test_halving_the_step_moves_events_less_than_a_frame_and_landings_less_than_
             land1 = r1.outcomes["landing_margin_min"]
             finite = np.isfinite(land0)
             assert np.allclose(land0[finite], land1[finite], atol=0.01), path.name
+
+
+def test_first_step_loads_the_body_at_the_lean_it_takes():
+    # At 110 km/h a standing performer leans about 24 deg into the wind from
+    # the first step. The first step's loads are those of the leaning body (as
+    # recorded and drawn), so it does not set the action's grip demand.
+    scene = make_scene(speed="110 km/h", body="segmented",
+                       actions=['do = "stand"\nduration = "3 s"\ntransition = "0 s"'])
+    tr = simulate(scene)
+    demand = tr.field("grip_demand")
+    assert demand[0] == pytest.approx(demand[tr.index_at(1.0)], rel=0.01)
+    assert tr.outcomes[0]["grip_demand_max"] == pytest.approx(demand[tr.index_at(1.0)], rel=0.01)
+    forces = tr.segment_forces(0).sum(axis=0)
+    assert forces == pytest.approx([tr.field("aero_x")[0], tr.field("aero_z")[0]], rel=1e-9)
+
+
+def test_margins_stop_at_the_first_failure():
+    # Night freight slips at 5.54 s: the action's grip ratio is the one at the
+    # slip, not the lower ones of the slide after it, and the action after it
+    # is not assessed.
+    from physics.records import Event
+    from physics.scene_load import load_scene
+    from physics.verdict import summarise
+    from tests.conftest import REPO
+    scene = load_scene(REPO / "scenes" / "night_freight.toml")
+    tr = simulate(scene)
+    slip = tr.index_at(tr.events[Event.SLIP]["time"])
+    ratio = tr.field("grip_available") / tr.field("grip_demand")
+    summary = summarise(scene, tr.events, tr.outcomes)
+    action = summary["actions"][1]
+    assert action["grip_ratio_min"] == pytest.approx(ratio[slip], rel=1e-12)
+    assert np.nanmin(ratio[slip + 1:]) < action["grip_ratio_min"]
+    after = summary["actions"][2]
+    assert not after["assessed"] and after["verdict"] == "fails" and after["grip_ratio_min"] is None
+
+
+def test_an_envelope_row_meets_the_air_that_check_meets():
+    # The default scene has turbulence. A sweep row at a speed gives the margins
+    # a `check --set motion.speed=...` gives at that speed (the same air).
+    from physics.scene_load import load_scene
+    from physics.sweep import sweep_1d
+    from tests.conftest import REPO
+    path = REPO / "scenes" / "heritage_excursion.toml"
+    sweep = sweep_1d(load_scene(path), "speed", 20 / 3.6, 60 / 3.6, points=5)
+    for i, kmh in enumerate((20, 30, 40, 50, 60)):
+        single = simulate(load_scene(path, [f"motion.speed={kmh} km/h"]))
+        for name in ("grip_ratio_min", "balance_margin_min", "lift_ratio_min", "apparent_wind_max"):
+            assert sweep.result.outcomes[i][name] == pytest.approx(single.outcomes[name], rel=1e-6), (kmh, name)

@@ -223,3 +223,103 @@ def test_frontward_crossing_fails_above_a_speed_where_rearward_holds():
     assert 20.0 < threshold < 90.0
     assert not fails(rear, threshold + 1.0)
     print(f"frontward crossing falls above {threshold:.1f} km/h; rearward still lands there")
+
+
+def test_landing_time_and_place_match_an_independent_solve_ivp():
+    # A lumped body jumps on a braking consist in a quartering wind. From the
+    # engine's take-off state, scipy's solve_ivp (DOP853, rtol 1e-11) of the
+    # same forces finds when the lowest body point reaches the roof: the
+    # engine's touchdown must be within a millisecond, and its ground x the
+    # car-frame x plus the consist's travel at that very moment.
+    from physics import consist
+    motion = 'keyframes = [{ time = "0 s", speed = "60 km/h" }, { time = "10 s", speed = "20 km/h" }]'
+    jump = ('do = "jump"\ntoward = "front"\ntakeoff_car = 1\ntakeoff_position = "10 m"\ntakeoff_from = "rear"\n'
+            'takeoff_speed = "3.2 m/s"\ntakeoff_angle = "50 deg"\nair_posture = "tuck"\nlanding_car = 1\n'
+            'duration = "2 s"\ntransition = "0 s"')
+    scene = make_scene(motion=motion, body="lumped", actions=[jump], wind="5 m/s", wind_from="30 deg",
+                       start='car = 1\nposition = "10 m"\nfrom = "rear"')
+    tr = simulate(scene)
+    k = int(np.argmax(tr.field("mode") == Mode.FLIGHT))
+    r = tr.record[k]
+    t0 = tr.times[k]
+    air_row = tr.timeline.actions["air_row"][0]
+    posture = tr.timeline.postures[air_row]
+    low_dz = posture["ends"][..., 1].min() - posture["com_z"]
+    q = 0.5 * scene.air.density * 0.7 * posture["drag_ratio"]
+    ux, uy = r["wind_x"], r["wind_y"]
+    mass = scene.performer.mass
+    accel = (20 - 60) / 3.6 / 10.0
+
+    def rhs(t, y):
+        V = 60 / 3.6 + accel * (t0 + t)
+        w = np.array([ux - (V + y[2]), uy, -y[3]])
+        speed = np.linalg.norm(w)
+        return [y[2], y[3], q * speed * w[0] / mass - accel, q * speed * w[2] / mass - G]
+
+    def touch(t, y):
+        return y[1] + low_dz - scene.cars[0].roof_height
+    touch.terminal, touch.direction = True, -1
+    ref = solve_ivp(rhs, (0, 3), [r["flight_x"], r["flight_z"], r["flight_vx"], r["flight_vz"]], method="DOP853",
+                    rtol=1e-11, atol=1e-12, events=touch)
+    t_ref = t0 + ref.t_events[0][0]
+    out = tr.outcomes[0]
+    assert out["touchdown_time"] == pytest.approx(t_ref, abs=1e-3)
+    event = tr.events[Event.TOUCHDOWN]
+    assert event["time"] == out["touchdown_time"]
+    travel = float(consist.distance_travelled(scene.keyframes, event["time"]))
+    assert event["x_ground"] - event["x_car"] == pytest.approx(travel, abs=1e-6)
+
+
+def test_the_landing_roof_friction_decides_the_landing():
+    # The landing check uses the friction of the roof it lands on, as scaled by
+    # sweeps and Monte Carlo: with coach B's roof at 1.0, 0.2 and 0.05 of its
+    # value the same touchdown holds, then is a hard landing, and the friction's
+    # absorbing capacity mu_s (|vz| + g t) + sqrt(2 mu_k g d) shrinks with it.
+    from physics.scene_load import load_scene
+    from physics.simulation import simulate_batch, variants
+    from tests.conftest import REPO
+    scene = load_scene(REPO / "scenes" / "gap_crossing_rearward.toml")
+    v = variants(scene, 3)
+    v.roof_scale[:, 1] = [1.0, 0.2, 0.05]
+    result = simulate_batch(scene, v)
+    touch = result.events[:, Event.TOUCHDOWN]
+    assert np.all(touch["time"] == touch["time"][0])          # the same flight each time
+    hard = result.events[:, Event.HARD_LANDING]
+    assert np.isnan(hard["time"][0]) and not np.isnan(hard["time"][1:]).any()
+    vz = touch["available"][0]
+    car = scene.cars[1]
+    for row, scale in ((1, 0.2), (2, 0.05)):
+        expected = (car.sole_static * scale * (vz + G * flight.LANDING_ABSORB_TIME)
+                    + math.sqrt(2 * car.sole_kinetic * scale * G * max(scene.performer.recovery_step,
+                                                                       flight.MIN_SKID)))
+        assert hard["available"][row] == pytest.approx(expected, rel=1e-9)
+
+
+def short_jump(landing_car, speed="2.0 m/s"):
+    cars = ['name = "A"\nlength = "18 m"\nroof_height = "3.9 m"\ngap = "1.0 m"',
+            'name = "B"\nlength = "18 m"\nroof_height = "3.9 m"']
+    jump = ('do = "jump"\ntoward = "rear"\ntakeoff_car = 1\ntakeoff_position = "0.5 m"\ntakeoff_from = "rear"\n'
+            f'takeoff_speed = "{speed}"\ntakeoff_angle = "35 deg"\nlanding_car = {landing_car}\n'
+            'duration = "3 s"\ntransition = "0.3 s"')
+    scene = make_scene(speed="0 km/h", body="segmented", cars=cars, actions=[jump],
+                       start='car = 1\nposition = "0.5 m"\nfrom = "rear"',
+                       performer_extra='recovery_step = "0.6 m"\nfacing = "rear"')
+    tr = simulate(scene)
+    return scene, tr, summarise(scene, tr.events, tr.outcomes)
+
+
+def test_a_jump_that_comes_down_short_of_its_landing_car_fails():
+    # Declared for car B, the weak jump comes back down on car A: a missed
+    # landing that says where it came down and by how much it missed.
+    scene, tr, summary = short_jump(landing_car=2)
+    assert tr.outcomes[0]["touchdown_car"] == 0
+    first = summary["first_failure"]
+    assert first["kind"] == "missed landing"
+    miss = first["x_car_m"] - scene.cars[1].front_x  # car B lies behind car A (toward -x)
+    assert miss > 0 and first["demand"] == pytest.approx(miss)
+    assert first["detail"] == f"came down on A, {miss:.2f} m short of B"
+    assert summary["actions"][0]["landing_margin_min_m"] == pytest.approx(-miss)
+    assert summary["verdict"] == "fails"
+    # Declared for car A, the same jump holds.
+    _, _, same = short_jump(landing_car=1)
+    assert same["first_failure"] is None

@@ -28,12 +28,10 @@ AirLoad = namedtuple("AirLoad", "fx fy fz torque_cos torque_sin")
 Drag = namedtuple("Drag", "q_cross q_axial lumped q_lumped")
 
 
-@kernel
-def body_drag(body, density, drag_scale):
-    """The body's drag factors at this variant's air density and drag scale."""
+@small
+def body_drag(body, density, drag_scale, q_cross, q_axial):
+    """The body's drag factors at this variant's air density and drag scale, written into q_cross, q_axial."""
     half = 0.5 * density * drag_scale
-    q_cross = np.empty(body.crossflow_area.shape[0])
-    q_axial = np.empty(body.axial_area.shape[0])
     for i in range(q_cross.shape[0]):
         q_cross[i] = half * body.crossflow_area[i]
         q_axial[i] = half * body.axial_area[i]

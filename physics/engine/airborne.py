@@ -8,7 +8,7 @@ from physics.engine.air_load import rotate
 from physics.engine.beat_state import Beat, State, failed, travel, with_mode
 from physics.engine.flight import Flight, crossing, inside_margin, land, rk4, take_off, touchdown_car
 from physics.engine.jit import kernel, small
-from physics.engine.outcome import note_event, note_landing_margin, note_touchdown
+from physics.engine.outcome import note_event, note_landing_margin, note_target, note_touchdown
 from physics.engine.overhead import anything_overhead, overhead_step
 from physics.engine.recording import record_flight
 from physics.engine.roof import car_at
@@ -68,7 +68,8 @@ def check_fall(v, inputs, env, beat, before, after, act, out):
         return beat, after
     tau = cross.frac * v.dt
     note_event(out.events, v.b, Event.FALL, env.t + tau, cross.x + before.low_dx, travel(env, tau), cars,
-               low - (after.z + after.low_dz), 0.0, declared)
+               low - (after.z + after.low_dz), 0.0)
+    note_target(out.events, v.b, Event.FALL, env.t + tau, declared)
     fallen = Flight(after.x, after.z, after.vx, after.vz, after.row, after.lean, after.low_dx, after.low_dz, True)
     return failed(beat), fallen
 
@@ -86,21 +87,23 @@ def touch_down(v, inputs, env, state, car, cross, act, out):
     s = travel(env, tau)
     declared = action.landing_car if action.landing_car >= 0 else car
     margin = inside_margin(cars, declared, ld.pivot)
-    note_event(out.events, v.b, Event.TOUCHDOWN, t, ld.pivot, s, cars, abs(cross.vx), abs(cross.vz), -1)
+    note_event(out.events, v.b, Event.TOUCHDOWN, t, ld.pivot, s, cars, abs(cross.vx), abs(cross.vz))
     note_touchdown(out.outcomes[v.b, act], t, ld.pivot, ld.car, abs(cross.vx))
     if beat.assessing:
         note_landing_margin(out.outcomes[v.b, act], margin)
     if ld.car < 0:
         # The lowest point touched a roof but the feet stand over a gap or past an end.
-        note_event(out.events, v.b, Event.FALL, t, ld.pivot, s, cars, margin, 0.0, declared)
+        note_event(out.events, v.b, Event.FALL, t, ld.pivot, s, cars, margin, 0.0)
+        note_target(out.events, v.b, Event.FALL, t, declared)
         fl = take_off(inputs.postures[action.landed_row], action.landed_row, 0.0, ld.pivot, cars[car].roof_height,
                       0.0, 0.0)
         return State(with_mode(failed(beat), Mode.GONE), state.slide, state.balance, fl)
     if ld.car != declared:
-        note_event(out.events, v.b, Event.MISSED_LANDING, t, ld.pivot, s, cars, -margin, 0.0, declared)
+        note_event(out.events, v.b, Event.MISSED_LANDING, t, ld.pivot, s, cars, -margin, 0.0)
+        note_target(out.events, v.b, Event.MISSED_LANDING, t, declared)
         beat = failed(beat)
     if ld.hard:
-        note_event(out.events, v.b, Event.HARD_LANDING, t, ld.pivot, s, cars, abs(cross.vx), ld.absorb, -1)
+        note_event(out.events, v.b, Event.HARD_LANDING, t, ld.pivot, s, cars, abs(cross.vx), ld.absorb)
         beat = failed(beat)
     mode = Mode.SLIDING.value if ld.hard else Mode.PLANTED.value
     slide = Slide(ld.pivot, ld.speed if ld.hard else 0.0, 0.0, state.slide.gait_phase)

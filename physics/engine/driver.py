@@ -26,7 +26,7 @@ from physics.engine.turbulence import advance_turbulence, start_turbulence
 from physics.records import ActionCode, Mode
 
 
-@kernel
+@small
 def environment(p, step, next_step, tb, k, last):
     """The consist's motion and the ambient wind (mean, gusts, turbulence) at step k."""
     speed = step.speed * p.speed_scale
@@ -44,13 +44,17 @@ def start_state(p):
 
 
 @entry
-def run_variants(params, roof_scale, inputs, first, last, events, outcomes, record):
+def run_variants(params, roof_scale, inputs, first, last, events, outcomes, record, scratch):
     """Run variants first..last-1 (rows of params) through the whole beat.
 
     The one compiled entry point: a single recorded run calls it with one
     variant and a record of one row per step; batches with an empty record, in
     chunks on a thread pool (it releases the GIL). For each step k: the posture
     row and any restart, then the body on the roof or in the air.
+
+    scratch: (4, n) working memory of this call (the engine allocates
+    nothing): the two delay lines of the balance controller and the body's
+    drag factors.
     """
     steps = inputs.steps
     n = steps.shape[0]
@@ -59,8 +63,10 @@ def run_variants(params, roof_scale, inputs, first, last, events, outcomes, reco
         p = params[b]
         out = Outputs(events, outcomes, record, record.shape[0] > 0 and b == first)
         delay = int(round(p.reaction_time / dt))
-        v = Variant(b, p, roof_scale[b], body_drag(inputs.body[0], p.density, p.drag_scale), p.mass, p.mass * G, dt,
-                    np.zeros(delay + 1), np.zeros(delay + 1))
+        n_seg = inputs.body[0].crossflow_area.shape[0]
+        drag = body_drag(inputs.body[0], p.density, p.drag_scale, scratch[2, :n_seg], scratch[3, :n_seg])
+        v = Variant(b, p, roof_scale[b], drag, p.mass, p.mass * G, dt, scratch[0, :delay + 1],
+                    scratch[1, :delay + 1])
         tb = start_turbulence(p.turbulence_seed, p.turbulence_sigma)
         state = start_state(p)
         for k in range(n):

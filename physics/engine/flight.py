@@ -20,8 +20,7 @@ from collections import namedtuple
 from physics import G
 from physics.engine.air_load import air_load, rotate
 from physics.engine.jit import kernel, small
-from physics.engine.roof import car_at, roof_friction
-from physics.records import Contact
+from physics.engine.roof import car_at, feet_friction
 
 LANDING_ABSORB_TIME = 0.2  # s of leg flexion in a landing (from memory; drop-landing studies ~0.1-0.3 s)
 MIN_SKID = 0.25            # m a landing can skid without a step (about a foot length, from memory)
@@ -118,7 +117,7 @@ def land(cars, car, cross, fl, landed, roof_scale, step_length):
     """The landing rule on car `car`, the feet of the `landed` posture where the lowest point touched."""
     low_x, unused = lowest_point(landed, 0.0, 0.0, 0.0)
     pivot = cross.x + fl.low_dx - low_x
-    mu_s, mu_k = roof_friction(cars, car, Contact.FEET, roof_scale)
+    mu_s, mu_k = feet_friction(cars, car, roof_scale)
     impact = mu_s * (abs(cross.vz) + G * LANDING_ABSORB_TIME)
     residual = max(abs(cross.vx) - impact, 0.0)
     skid = math.sqrt(2.0 * mu_k * G * max(step_length, MIN_SKID))

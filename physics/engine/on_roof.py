@@ -9,7 +9,7 @@ from collections import namedtuple
 
 from physics.engine.beat_state import Beat, State, failed, lifted, travel, with_mode
 from physics.engine.flight import take_off
-from physics.engine.jit import kernel
+from physics.engine.jit import kernel, small
 from physics.engine.outcome import note_event, note_stance, note_takeoff
 from physics.engine.overhead import anything_overhead, overhead_step
 from physics.engine.recording import record_roof
@@ -32,7 +32,7 @@ Seen = namedtuple("Seen", "mode row x roof_z lean rate u wx air normal grip mu_s
                           "lean_required")
 
 
-@kernel
+@small
 def footing(v, inputs, beat, bal, slide, row, step):
     posture = inputs.postures[row]
     cars = inputs.cars
@@ -81,11 +81,11 @@ def roof_iteration(v, inputs, env, state, row, step, act, out):
     return leave_roof(v, inputs, env, State(beat, moved, bal, state.flight), load, ft, step, act, out)
 
 
-@kernel
+@small
 def lift_off(v, inputs, env, state, ft, load, out):
     """The roof no longer bears the body: it flies from where it stands, at its own velocity, from t_k."""
     bal, slide = state.balance, state.slide
-    note_event(out.events, v.b, Event.LIFT, env.t, slide.x, env.distance, inputs.cars, -load.normal, v.weight, -1)
+    note_event(out.events, v.b, Event.LIFT, env.t, slide.x, env.distance, inputs.cars, -load.normal, v.weight)
     fl = take_off(inputs.postures[ft.row], ft.row, bal.lean, slide.x, ft.roof_z,
                   slide.u + ft.gait_v + bal.rate * load.com_z, -bal.rate * load.com_x)
     return State(lifted(state.beat), slide, bal, fl)
@@ -109,9 +109,9 @@ def balance(v, inputs, env, beat, bal, load, target, ft, settling, x, out):
                            v.params.recovery_step, v.dt)
     bal = judged.balance
     if judged.happened == 1:
-        note_event(out.events, v.b, Event.RECOVERY_STEP, env.t, x, env.distance, inputs.cars, xcom, judged.bound, -1)
+        note_event(out.events, v.b, Event.RECOVERY_STEP, env.t, x, env.distance, inputs.cars, xcom, judged.bound)
     elif judged.happened == 2:
-        note_event(out.events, v.b, Event.TOPPLE, env.t, x, env.distance, inputs.cars, xcom, judged.bound, -1)
+        note_event(out.events, v.b, Event.TOPPLE, env.t, x, env.distance, inputs.cars, xcom, judged.bound)
         beat = with_mode(failed(beat), Mode.DOWN)
     if beat.mode == Mode.DOWN:
         bal = lie_down(bal)
@@ -128,8 +128,7 @@ def grip_and_slide(v, inputs, env, beat, bal, load, ft, step, slide, out):
     x, u, udot = slide.x, slide.u, slide.udot
     if beat.mode == Mode.PLANTED or (beat.mode == Mode.DOWN and bal.lying and u == 0.0):
         if grip.demand > ft.mu_static:
-            note_event(out.events, v.b, Event.SLIP, env.t, x, env.distance, inputs.cars, grip.demand, ft.mu_static,
-                       -1)
+            note_event(out.events, v.b, Event.SLIP, env.t, x, env.distance, inputs.cars, grip.demand, ft.mu_static)
             beat = failed(beat)
             if beat.mode == Mode.PLANTED:
                 beat = with_mode(beat, Mode.SLIDING)
@@ -170,6 +169,6 @@ def leave_roof(v, inputs, env, state, load, ft, step, act, out):
     fl = take_off(inputs.postures[action.air_row], action.air_row, 0.0, slide.x, ft.roof_z, action.takeoff_vx * scale,
                   action.takeoff_vz * scale)
     speed = math.hypot(action.takeoff_vx, action.takeoff_vz) * scale
-    note_event(out.events, v.b, Event.TAKEOFF, t_next, slide.x, travel(env, v.dt), inputs.cars, speed, 0.0, -1)
+    note_event(out.events, v.b, Event.TAKEOFF, t_next, slide.x, travel(env, v.dt), inputs.cars, speed, 0.0)
     note_takeoff(out.outcomes[v.b, act], t_next, slide.x)
     return State(Beat(Mode.FLIGHT.value, act, beat.landed, beat.assessing, False), slide, bal, fl)

@@ -11,7 +11,7 @@ from physics.records import Contact
 
 
 @kernel
-def note_event(events, b, kind, t, x_car, distance, cars, demand, available, target_car):
+def note_event(events, b, kind, t, x_car, distance, cars, demand, available):
     """Keep the first event of `kind` for variant b; distance = consist travel at t (m)."""
     ev = events[b, kind]
     if math.isnan(ev.time):
@@ -21,10 +21,16 @@ def note_event(events, b, kind, t, x_car, distance, cars, demand, available, tar
         ev.car = car_at(cars, x_car)
         ev.demand = demand
         ev.available = available
-        ev.target_car = target_car
 
 
-@kernel
+@small
+def note_target(events, b, kind, t, target_car):
+    """The car a landing was declared for, on the event of `kind` noted at time t."""
+    if events[b, kind].time == t:
+        events[b, kind].target_car = target_car
+
+
+@small
 def note_stance(out, mu_static, demand, margin, lift_ratio, lean_required, wind, drag, contact):
     """Margins of a step on the roof into the action's outcome record `out`."""
     if demand > 1e-12:

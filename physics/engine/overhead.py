@@ -25,7 +25,7 @@ Overhead = namedtuple("Overhead", "clearance struck strike_x strike_z soffit in_
                                   "exclusion")
 
 
-@kernel
+@small
 def body_point(posture, i, j, c, s, base_x, base_z, rotates_all):
     """Endpoint j of segment i, car frame (m): segments that lean turn with the body.
 
@@ -86,11 +86,11 @@ def overhead_step(v, inputs, env, beat, posture, lean, base_x, base_z, act, out)
         note_clearance(out.outcomes[v.b, act], ov.clearance)
     if ov.in_zone:
         note_event(out.events, v.b, Event.LINE, env.t, ov.line_x, env.distance, inputs.cars, ov.line_distance,
-                   ov.exclusion, -1)
+                   ov.exclusion)
         beat = failed(beat)
     if ov.struck:
         note_event(out.events, v.b, Event.STRIKE, env.t, ov.strike_x, env.distance, inputs.cars, ov.strike_z,
-                   ov.soffit, -1)
+                   ov.soffit)
         beat = with_mode(failed(beat), Mode.GONE)
     return beat
 

@@ -2,7 +2,7 @@
 
 from __future__ import annotations
 
-from physics.engine.jit import kernel
+from physics.engine.jit import kernel, small
 from physics.records import Contact
 
 EDGE_TOLERANCE = 1e-9  # m: a point this close past a car end still counts as on it
@@ -17,6 +17,12 @@ def car_at(cars, x):
     return -1
 
 
+@small
+def feet_friction(cars, car, roof_scale):
+    """(static, kinetic) friction of footwear on car `car`'s roof, with this variant's multiplier."""
+    return cars[car].sole_static * roof_scale[car], cars[car].sole_kinetic * roof_scale[car]
+
+
 @kernel
 def roof_friction(cars, car, contact, roof_scale):
     """(static, kinetic) friction coefficients for `contact` on car `car`; (0, 0) off the roof.
@@ -26,8 +32,7 @@ def roof_friction(cars, car, contact, roof_scale):
     """
     if car < 0:
         return 0.0, 0.0
-    scale = roof_scale[car]
     if contact == Contact.FEET:
-        return cars[car].sole_static * scale, cars[car].sole_kinetic * scale
-    return cars[car].body_static * scale, cars[car].body_kinetic * scale
+        return feet_friction(cars, car, roof_scale)
+    return cars[car].body_static * roof_scale[car], cars[car].body_kinetic * roof_scale[car]
 

@@ -30,7 +30,7 @@ def gait_force(phase, gait_friction, weight):
     return gait_friction * weight * math.sin(phase)
 
 
-@kernel
+@small
 def grip_demand(air, mass, frame_accel, push):
     """What the roof must hold: the air load, the pseudo-force -m a and the gait's push."""
     need_x = -(air.fx - mass * frame_accel + push)
@@ -46,7 +46,7 @@ def slide_direction(need_x):
     return -1e-9 if need_x > 0 else 1e-9
 
 
-@kernel
+@small
 def slide_step(u, air_fx, mass, frame_accel, mu_kinetic, normal, com_accel_x, dt):
     """Advance a slide's speed u (m/s) one step: (u, du/dt, stopped)."""
     direction = 1.0 if u > 0 else -1.0

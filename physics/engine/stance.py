@@ -80,7 +80,7 @@ def wrap(angle):
     return angle
 
 
-@kernel
+@small
 def solve_lean(alpha, beta, target):
     """Lean theta (rad) with alpha cos(theta) + beta sin(theta) = target, nearest upright.
 
@@ -184,7 +184,7 @@ def settle(bal, posture, wx, wy, mass, frame_accel, drag, max_lean, dt, leans):
     return bal, load, target
 
 
-@kernel
+@small
 def delayed_cop(bal, target, posture, mode, lo, hi, buf_err, buf_rate, k):
     """Centre of pressure (m from the pivot) the ankle strategy commands now.
 
@@ -202,7 +202,7 @@ def delayed_cop(bal, target, posture, mode, lo, hi, buf_err, buf_rate, k):
     return min(max(cop, lo), hi)
 
 
-@kernel
+@small
 def balance_step(bal, load, target, posture, mode, cop, lo, hi, mass, dt):
     """Advance the lean one step about the pivot with the centre of pressure at `cop`.
 
@@ -221,7 +221,7 @@ def balance_step(bal, load, target, posture, mode, cop, lo, hi, mass, dt):
     return with_lean(bal, lean, rate, accel), xcom, margin
 
 
-@kernel
+@small
 def judge_support(bal, mode, contact_feet, xcom, margin, lo, hi, recovery_step, dt):
     """Recovery step or topple when the extrapolated centre of mass leaves the support.
 

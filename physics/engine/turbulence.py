@@ -21,7 +21,7 @@ from collections import namedtuple
 
 import numpy as np
 
-from physics.engine.jit import kernel
+from physics.engine.jit import kernel, small
 
 TURBULENCE_STEP = 1.0 / 60.0   # s between samples of the process
 START_CORRELATION = 0.9        # correlation of the first two samples (any value in (0, 1) keeps the variance)
@@ -32,27 +32,33 @@ _MASK = 0xFFFFFFFFFFFFFFFF
 Turbulence = namedtuple("Turbulence", "rng knot_time knot_prev knot_next spare has_spare value")
 
 
-@kernel
+@small
 def splitmix64(state):
-    """Next state and a uniform deviate in (0, 1)."""
+    """Next state and the generator's 64-bit output (uint64 arithmetic wraps)."""
     state = (state + np.uint64(0x9E3779B97F4A7C15)) & np.uint64(_MASK)
     z = state
     z = ((z ^ (z >> np.uint64(30))) * np.uint64(0xBF58476D1CE4E5B9)) & np.uint64(_MASK)
     z = ((z ^ (z >> np.uint64(27))) * np.uint64(0x94D049BB133111EB)) & np.uint64(_MASK)
-    z = z ^ (z >> np.uint64(31))
+    return state, z ^ (z >> np.uint64(31))
+
+
+@small
+def uniform(state):
+    """Next state and a uniform deviate in (0, 1) from the top 53 bits of the output."""
+    state, z = splitmix64(state)
     return state, (float(z >> np.uint64(11)) + 0.5) * (1.0 / 9007199254740992.0)
 
 
-@kernel
+@small
 def normal_pair(state):
     """Next state and two independent standard normal deviates (Box-Muller)."""
-    state, u1 = splitmix64(state)
-    state, u2 = splitmix64(state)
+    state, u1 = uniform(state)
+    state, u2 = uniform(state)
     r = math.sqrt(-2.0 * math.log(u1))
     return state, r * math.cos(2.0 * math.pi * u2), r * math.sin(2.0 * math.pi * u2)
 
 
-@kernel
+@small
 def start_turbulence(seed, sigma):
     """The process at t = 0 for a scene's seed and intensity (sigma 0: still)."""
     rng = np.uint64(seed) * np.uint64(2654435761) + np.uint64(12345)
