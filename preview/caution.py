@@ -1,4 +1,4 @@
-"""The caution every screen, export and brief carries (DESIGN 5b)."""
+"""The caution every screen, export and brief carries."""
 
 CAUTION = (
     "Planning aid on simplified physics, not a safety certificate. Stunts must be planned, rehearsed and "

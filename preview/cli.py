@@ -14,7 +14,8 @@ from preview.session import DEFAULT_SCENE, EXIT_RUNTIME, EXIT_SCENE, OutputError
 
 
 def _add_scene_args(p: argparse.ArgumentParser) -> None:
-    p.add_argument("scene", nargs="?", help=f"scene file (TOML); default: the bundled {DEFAULT_SCENE}")
+    p.add_argument("scene", nargs="?", help=f"scene file (TOML) or a bundled scene's name (see `roofbeat "
+                   f"scenes`); default: the bundled {DEFAULT_SCENE}")
     p.add_argument("--set", dest="overrides", action="append", default=[], metavar="PATH=VALUE",
                    help='override a scene value, e.g. --set motion.speed="110 km/h" (repeatable)')
 
@@ -98,16 +99,15 @@ def cmd_brief(args) -> int:
 
 
 def cmd_scenes(args) -> int:
-    """One line per bundled scene: file name, title and the first line of its comment."""
+    """One line per bundled scene: its name (for `roofbeat check NAME.toml`) and title."""
     import tomllib
 
     from preview.session import bundled_scenes
     for path in bundled_scenes():
-        text = path.read_text(encoding="utf-8")
-        title = tomllib.loads(text).get("title", "")
-        note = next((line.lstrip("# ").strip() for line in text.splitlines() if line.startswith("#")), "")
-        default = " (default)" if path.name == DEFAULT_SCENE else ""
-        print(f"{path.stem:<24} {title}{default}" + (f" - {note}" if note else ""))
+        title = tomllib.loads(path.read_text(encoding="utf-8")).get("title", "")
+        default = "  (the default)" if path.name == DEFAULT_SCENE else ""
+        print(f"{path.name:<28} {title}{default}")
+    print(f"\nfolder: {bundled_scenes()[0].parent}" if bundled_scenes() else "no bundled scenes found")
     return 0
 
 

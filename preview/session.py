@@ -36,10 +36,27 @@ def bundled_scenes() -> list[Path]:
     return sorted(scenes_folder().glob("*.toml"))
 
 
+def scene_path(name: str | None) -> Path:
+    """The scene file a command names: a path, or the name of a bundled scene (with or without
+    .toml) when no such file exists here; the default scene when none is named."""
+    if not name:
+        return default_scene()
+    path = Path(name)
+    if not path.exists() and path.name == name:
+        for candidate in (scenes_folder() / name, scenes_folder() / f"{name}.toml"):
+            if candidate.is_file():
+                return candidate
+    return path
+
+
 def load(args):
     """The scene named on the command line (or the default), with its --set overrides."""
-    from physics.scene_load import load_scene
-    path = Path(args.scene) if args.scene else default_scene()
+    from physics.scene_load import Problem, SceneError, load_scene
+    path = scene_path(args.scene)
+    if not path.exists():
+        bare = args.scene is not None and Path(args.scene).name == args.scene
+        words = ", and no bundled scene of that name (`roofbeat scenes` lists them)" if bare else ""
+        raise SceneError(str(path), [Problem("(file)", f"cannot read the file: no such file{words}", None)])
     return load_scene(path, args.overrides)
 
 

@@ -239,10 +239,8 @@ def display_available() -> bool:
 def play(scene, args) -> int:
     """`roofbeat play`: open the window, or write a short clip when there is no display."""
     os.environ.setdefault("PYGAME_HIDE_SUPPORT_PROMPT", "1")
-    path = Path(args.scene) if args.scene else None
-    if path is None:
-        from preview.session import default_scene
-        path = default_scene()
+    from preview.session import scene_path
+    path = scene_path(args.scene)
     if not display_available():
         return _clip_instead(scene, args)
     import pygame

@@ -13,7 +13,7 @@ from physics.wind_scales import beaufort, pedestrian_threshold, saffir_simpson
 
 @pytest.mark.parametrize("altitude, rho", [(0.0, 1.2250), (1000.0, 1.11166), (2000.0, 1.00655)])
 def test_isa_density_table(altitude, rho):
-    # US Standard Atmosphere 1976 table values (DESIGN section 5).
+    # US Standard Atmosphere 1976 table values.
     assert air.density(altitude) == pytest.approx(rho, abs=5e-5)
 
 
@@ -28,7 +28,7 @@ def test_isa_against_fluids_library(altitude):
 
 @pytest.mark.parametrize("celsius, rho", [(0.0, 1.2923), (20.0, 1.2041), (30.0, 1.1644)])
 def test_ideal_gas_density_at_sea_level_pressure(celsius, rho):
-    # Ideal gas, R = 287.053 J/(kg K), p = 101325 Pa (DESIGN section 5).
+    # Ideal gas, R = 287.053 J/(kg K), p = 101325 Pa.
     assert air.density(0.0, celsius + 273.15) == pytest.approx(rho, abs=1e-4)
 
 
@@ -55,7 +55,7 @@ def test_wind_direction_convention():
     (24.5, 10), (28.4, 10), (28.5, 11), (32.6, 11), (32.7, 12), (60.0, 12),
 ])
 def test_beaufort_bands(speed, force):
-    # WMO Beaufort scale band edges in m/s (DESIGN section 5).
+    # WMO Beaufort scale band edges in m/s (secondary copy of the WMO table).
     assert beaufort(speed) == force
 
 

@@ -104,11 +104,11 @@ def test_without_numba_the_engine_runs_as_python_with_a_notice(tmp_path):
 def test_bundled_scenes_are_listed_one_line_each():
     run = roofbeat("scenes")
     assert run.returncode == 0
-    lines = run.stdout.strip().splitlines()
-    assert len(lines) == len(SCENES)
+    lines = run.stdout.strip().splitlines()[:len(SCENES)]
     for path, line in zip(SCENES, lines):
-        assert line.startswith(path.stem)
-    assert sum("(default)" in line for line in lines) == 1
+        assert line.startswith(path.name)
+    assert sum("(the default)" in line for line in lines) == 1
+    assert run.stdout.strip().splitlines()[-1] == f"folder: {SCENES[0].parent}"
 
 
 def test_an_installed_copy_finds_its_default_scene(tmp_path):
@@ -126,3 +126,10 @@ def test_an_installed_copy_finds_its_default_scene(tmp_path):
     run = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, cwd=tmp_path, timeout=300)
     assert run.returncode == 0, run.stderr
     assert "Heritage excursion" in run.stdout and "verdict: HOLDS" in run.stdout
+
+
+def test_a_bundled_scene_is_found_by_name_from_any_folder(tmp_path):
+    run = roofbeat("check", "night_freight", cwd=tmp_path)
+    assert run.returncode == 0 and "Night freight" in run.stdout
+    missing = roofbeat("check", "no_such_scene", cwd=tmp_path)
+    assert missing.returncode == 3 and "no_such_scene" in missing.stderr

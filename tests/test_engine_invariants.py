@@ -110,7 +110,7 @@ def test_generated_scenes_never_crash_or_nan(speed, wind, wind_from, mass, statu
 
 
 def test_halving_the_step_moves_events_less_than_a_frame_and_landings_less_than_a_centimetre():
-    # DESIGN section 4 accuracy target, on every bundled scene.
+    # The accuracy target (physics/README.md, "Numerics"), on every bundled scene.
     from tests.conftest import SCENES
     from physics.scene_load import load_scene
     for path in SCENES:

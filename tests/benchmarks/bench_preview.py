@@ -23,7 +23,8 @@ import pygame  # noqa: E402
 
 from physics.scene_load import load_scene  # noqa: E402
 from preview.canvas import PygameCanvas  # noqa: E402
-from preview.export import make_playback, write_frames  # noqa: E402
+from preview.export import write_frames  # noqa: E402
+from preview.session import make_playback  # noqa: E402
 from preview.frame import VECTOR_KEYS, ViewSettings, draw_frame  # noqa: E402
 from preview.window import PlayerState, handle_key  # noqa: E402
 
