@@ -184,11 +184,9 @@ def prepare(scene: Scene) -> tuple[Timeline, Inputs]:
     read by the kernel, never written.
     """
     timeline = build_timeline(scene)
-    cars = np.zeros(len(scene.cars), CAR)
-    for i, c in enumerate(scene.cars):
-        cars[i] = (c.front_x, c.rear_x, c.roof_height, c.sole_static, c.sole_kinetic, c.body_static, c.body_kinetic)
-    structures = np.array([(s.x_start, s.span, s.soffit) for s in scene.structures], STRUCTURE)
-    lines = np.array([(ln.x_start, ln.x_end, ln.wire_height, ln.exclusion) for ln in scene.lines], LINE)
+    cars = _table(CAR, scene.cars)
+    structures = _table(STRUCTURE, scene.structures)
+    lines = _table(LINE, scene.lines)
     constants = body.body_constants(scene.performer.stature)
     drag = np.zeros(1, BODY)
     drag["crossflow_area"] = constants.crossflow_area
@@ -199,6 +197,14 @@ def prepare(scene: Scene) -> tuple[Timeline, Inputs]:
     for table in inputs:
         table.flags.writeable = False
     return timeline, inputs
+
+
+def _table(dtype: np.dtype, items) -> np.ndarray:
+    """An input table from scene items: each field filled from the item's attribute of that name."""
+    table = np.zeros(len(items), dtype)
+    for name in dtype.names:
+        table[name] = [getattr(item, name) for item in items]
+    return table
 
 
 def _threads() -> int:

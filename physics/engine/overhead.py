@@ -47,8 +47,8 @@ def overhead_check(posture, lean, base_x, base_z, rotates_all, distance, structu
     clearance = math.inf
     worst_strike = 0.0
     worst_zone = 0.0
-    strike = (0.0, 0.0, 0.0)
-    zone = (0.0, 0.0, 0.0)
+    strike_x, strike_z, soffit = 0.0, 0.0, 0.0
+    line_x, line_distance, exclusion = 0.0, 0.0, 0.0
     for i in range(posture.ends.shape[0]):
         for j in range(2):
             x, z = body_point(posture, i, j, c, s, base_x, base_z, rotates_all)
@@ -60,7 +60,7 @@ def overhead_check(posture, lean, base_x, base_z, rotates_all, distance, structu
                     clearance = min(clearance, gap)
                     if gap < worst_strike:
                         worst_strike = gap
-                        strike = (x, z, st.soffit)
+                        strike_x, strike_z, soffit = x, z, st.soffit
             for k in range(lines.shape[0]):
                 ln = lines[k]
                 if ln.x_start <= xg <= ln.x_end:
@@ -68,9 +68,9 @@ def overhead_check(posture, lean, base_x, base_z, rotates_all, distance, structu
                     clearance = min(clearance, gap)
                     if gap < worst_zone:
                         worst_zone = gap
-                        zone = (x, ln.wire_height - z, ln.exclusion)
-    return Overhead(clearance, worst_strike < 0.0, strike[0], strike[1], strike[2], worst_zone < 0.0, zone[0],
-                    zone[1], zone[2])
+                        line_x, line_distance, exclusion = x, ln.wire_height - z, ln.exclusion
+    return Overhead(clearance, worst_strike < 0.0, strike_x, strike_z, soffit, worst_zone < 0.0, line_x,
+                    line_distance, exclusion)
 
 
 @kernel
