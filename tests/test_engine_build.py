@@ -133,3 +133,19 @@ def test_a_bundled_scene_is_found_by_name_from_any_folder(tmp_path):
     assert run.returncode == 0 and "Night freight" in run.stdout
     missing = roofbeat("check", "no_such_scene", cwd=tmp_path)
     assert missing.returncode == 3 and "no_such_scene" in missing.stderr
+
+
+def test_the_cache_folder_follows_every_engine_source(tmp_path, monkeypatch):
+    # numba checks only the entry point's file before reusing a kernel: a change
+    # to any other part of the engine must lead to another cache folder.
+    import shutil
+    from pathlib import Path
+    engine = Path(jit.__file__).parent
+    copy = tmp_path / "physics" / "engine"
+    shutil.copytree(engine, copy, ignore=shutil.ignore_patterns("__pycache__"))
+    shutil.copy(engine.parent / "records.py", copy.parent / "records.py")
+    monkeypatch.setattr(jit, "__file__", str(copy / "jit.py"))
+    before = jit.source_digest()
+    (copy / "stance.py").write_text((copy / "stance.py").read_text() + "\n# an edit\n")
+    assert jit.source_digest() != before
+    assert jit.CACHE_FOLDER is None or jit.CACHE_FOLDER.name.startswith("engine-")

@@ -8,15 +8,19 @@ same. `ROOFBEAT_ENGINE=python` asks for plain Python on purpose.
 The compiled code is cached in a folder only the current user can write,
 because numba loads its cache with pickle: `ROOFBEAT_CACHE_DIR` if set, else
 `$XDG_CACHE_HOME/roofbeat` or `~/.cache/roofbeat`, else a private folder in
-the temporary directory; never the installed package's folder. If none of
-these can be made private and writable the engine compiles in memory on every
-run instead of failing.
+the temporary directory; never the installed package's folder. Inside it, a
+folder named by a digest of the engine's sources, since numba checks only the
+entry point's own file before reusing a kernel. If none of these can be made
+private and writable the engine compiles in memory on every run instead of
+failing.
 """
 
 from __future__ import annotations
 
 import contextlib
+import hashlib
 import os
+import shutil
 import sys
 import tempfile
 from pathlib import Path
@@ -43,6 +47,29 @@ def _private(folder: Path) -> bool:
         return False
 
 
+def source_digest() -> str:
+    """A digest of every source file the compiled engine is made of.
+
+    numba checks only the entry point's own file before it reuses a cached
+    kernel, so a change in any other part would be served the old kernel; the
+    cache lives in a folder named by this digest instead.
+    """
+    engine = Path(__file__).resolve().parent
+    digest = hashlib.sha256()
+    for path in sorted(engine.glob("*.py")) + [engine.parent / "records.py"]:
+        digest.update(path.name.encode() + b"\0" + path.read_bytes() + b"\0")
+    return digest.hexdigest()[:16]
+
+
+def _engine_folder(base: Path) -> Path | None:
+    """This engine's own folder in the cache; folders of other engine sources are removed."""
+    mine = base / f"engine-{source_digest()}"
+    for other in base.glob("engine-*"):
+        if other != mine:
+            shutil.rmtree(other, ignore_errors=True)
+    return mine if _private(mine) else None
+
+
 def cache_folder() -> Path | None:
     """The first private, writable cache folder of the candidates, or None."""
     candidates = []
@@ -58,7 +85,7 @@ def cache_folder() -> Path | None:
     candidates.append(Path(tempfile.gettempdir()) / f"roofbeat-{uid}")
     for folder in candidates:
         if _private(folder):
-            return folder
+            return _engine_folder(folder)
     return None
 
 

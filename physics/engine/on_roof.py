@@ -15,7 +15,7 @@ from physics.engine.overhead import anything_overhead, overhead_step
 from physics.engine.recording import record_roof
 from physics.engine.roof import car_at, roof_friction
 from physics.engine.sliding import Slide, gait_force, grip_demand, slide_direction, slide_step
-from physics.engine.stance import (balance_step, delayed_cop, judge_support, lie_down, carry_on, settle,
+from physics.engine.stance import (balance_step, delayed_cop, judge_support, lie_down, carry_on, restart, settle,
                                    with_lean)
 from physics.records import ActionCode, Contact, Event, Mode
 
@@ -50,10 +50,16 @@ def roof_iteration(v, inputs, env, state, row, step, act, out):
     ft = footing(v, inputs, beat, state.balance, slide, row, step)
     posture = inputs.postures[row]
     wx = env.wind_x - (env.speed + slide.u + ft.gait_v)
-    restart = state.balance.restart
-    bal, load, target = settle(state.balance, posture, wx, env.wind_y, v.mass, env.accel + slide.udot, v.drag,
+    bal = state.balance
+    # During a deliberate change of posture the performer knows where their own
+    # body is: the braced load follows the posture, so the balance resumes from
+    # the posture reached and not from one the anticipation is still catching up with.
+    if step.settling and beat.mode == Mode.PLANTED:
+        bal = restart(bal)
+    restart_now = bal.restart
+    bal, load, target = settle(bal, posture, wx, env.wind_y, v.mass, env.accel + slide.udot, v.drag,
                                v.params.max_lean, v.dt, ft.contact != Contact.BODY and beat.mode != Mode.DOWN)
-    if restart:
+    if restart_now:
         v.buf_err[:] = 0.0
         v.buf_rate[:] = 0.0
         bal = carry_on(bal)
