@@ -23,6 +23,7 @@ from physics.scene import Scene
 # and the rhythm of the gait friction demand).
 STRIDE_FRACTION = {"walk": 0.83, "run": 1.4, "crawl": 0.35}
 KNEECAP_REACH = 0.05  # m, support in front of the knee point when kneeling (from memory)
+GAIT_PHASES = 512     # distinct postures per gait cycle
 
 
 @dataclass(frozen=True)
@@ -52,15 +53,14 @@ def _angles_for_steps(scene: Scene, times: np.ndarray) -> tuple[np.ndarray, np.n
         local = times[inside] - action.start
         if action.kind in ("walk", "run", "crawl"):
             stride = STRIDE_FRACTION[action.kind] * scene.performer.stature
-            phase = 2 * np.pi * action.speed / stride * local
-            target = body.gait_angles(action.kind, phase)
+            target = body.gait_angles(action.kind, _gait_phase(action.speed / stride * local))
             if action.speed > 0:
                 facing[inside] = action.toward
         elif action.kind == "jump":
             name = "run" if action.speed > 0 else "crouch"
             if action.speed > 0:
                 stride = STRIDE_FRACTION["run"] * scene.performer.stature
-                target = body.gait_angles("run", 2 * np.pi * action.speed / stride * local)
+                target = body.gait_angles("run", _gait_phase(action.speed / stride * local))
             else:
                 target = np.tile(np.array(body.POSTURES[name], float), (local.size, 1))
             facing[inside] = action.toward
@@ -73,6 +73,12 @@ def _angles_for_steps(scene: Scene, times: np.ndarray) -> tuple[np.ndarray, np.n
         if local.size:
             previous = target[-1]
     return angles, facing
+
+
+def _gait_phase(cycles: np.ndarray) -> np.ndarray:
+    """Gait phase (rad) on a grid of GAIT_PHASES per cycle, so a long walk has a few hundred
+    distinct postures rather than one per step (at most 0.2 deg from the exact animation)."""
+    return 2 * np.pi * np.round(cycles * GAIT_PHASES) / GAIT_PHASES
 
 
 def _contact_for_steps(scene: Scene, times: np.ndarray) -> np.ndarray:

@@ -1,7 +1,8 @@
 """Overhead structures: how late a duck could start and still clear.
 
 Found by bisection on the duck's start time (the action before it lengthens,
-the duck shortens), re-simulating the whole beat each time (no record), to half a frame.
+the duck shortens), re-simulating the beat up to the end of the duck each time
+(no record), to half a frame.
 """
 
 from __future__ import annotations
@@ -15,7 +16,9 @@ from physics.simulation import simulate_batch, variants
 
 
 def _shifted(scene: Scene, index: int, start: float) -> Scene:
-    actions = list(scene.actions)
+    """The beat up to the end of duck `index`, the duck starting at `start`: what comes after
+    the duck cannot change whether it clears, so it is not simulated."""
+    actions = list(scene.actions[:index + 1])
     before, duck = actions[index - 1], actions[index]
     actions[index - 1] = dataclasses.replace(before, duration=start - before.start)
     actions[index] = dataclasses.replace(duck, start=start, duration=duck.end - start)

@@ -16,7 +16,7 @@ from dataclasses import dataclass
 import numpy as np
 from scipy.stats import spearmanr
 
-from physics.records import EVENT_WORDS, FAILURES, empty_outcomes
+from physics.records import EVENT_WORDS, FAILURES
 from physics.scene import Scene
 from physics.scene_load import ROOF_STATIC
 from physics.simulation import Variants, simulate_batch, variants
@@ -56,7 +56,11 @@ def input_name(scene: Scene, key: str) -> str:
 
 
 def sample_variants(scene: Scene, samples: int, seed: int) -> tuple[Variants, dict]:
-    """`samples` variants with every uncertain value drawn uniformly within its spread."""
+    """`samples` variants with every uncertain value drawn uniformly within its spread.
+
+    The loader refuses a spread that reaches outside the value's own limits, so
+    every draw is a value a scene could give.
+    """
     rng = np.random.default_rng(seed)
     v = variants(scene, samples)
     inputs = {}
@@ -66,16 +70,15 @@ def sample_variants(scene: Scene, samples: int, seed: int) -> tuple[Variants, di
         if key.startswith(ROOF_STATIC):
             car = int(key[len(ROOF_STATIC):])
             centre = scene.cars[car].sole_static
-            values = np.maximum(rng.uniform(centre - spread, centre + spread, samples), 1e-3)
+            values = rng.uniform(centre - spread, centre + spread, samples)
             v.roof_scale[:, car] = values / centre
         elif key == "reaction_time":
             centre = scene.performer.reaction_time
-            values = np.clip(rng.uniform(centre - spread, centre + spread, samples), 0.0, 0.25)
+            values = rng.uniform(centre - spread, centre + spread, samples)
             v.params["reaction_time"] = values
         else:
             centre = base_value(scene, key)
             values = rng.uniform(centre - spread, centre + spread, samples)
-            values = np.maximum(values, 0.0 if key in ("speed", "wind_speed") else 1e-3)
             apply(scene, v, key, values)
         inputs[input_name(scene, key)] = values
     if scene.air.turbulence is not None:
@@ -83,32 +86,40 @@ def sample_variants(scene: Scene, samples: int, seed: int) -> tuple[Variants, di
     return v, inputs
 
 
+# Per-sample minima kept from each batch (the rest of a batch's events and outcomes is let go).
+SUMMARY_MARGINS = {"grip_ratio_min": "grip_ratio_min", "balance_margin_min_m": "balance_margin_min",
+                   "lift_ratio_min": "lift_ratio_min", "landing_margin_min_m": "landing_margin_min",
+                   "clearance_min_m": "clearance_min"}
+MAX_WORK = 5e9  # engine steps in one Monte Carlo run: about ten minutes on two cores
+
+
+def check_work(scene: Scene, samples: int) -> None:
+    steps = samples * (round(scene.duration / scene.step) + 1)
+    if steps > MAX_WORK:
+        raise ValueError(f"{samples:,} samples of this beat are {steps:.2g} engine steps, more than the "
+                         f"{MAX_WORK:.0e} one run does (about ten minutes on two cores); take fewer samples")
+
+
 def run_risk(scene: Scene, samples: int, seed: int = 0, batch: int = 2000, progress=None) -> RiskResult:
     if samples < 1:
         raise ValueError("samples must be at least 1")
+    check_work(scene, samples)
     v, inputs = sample_variants(scene, samples, seed)
     codes = np.empty(samples, dtype=int)
-    outcomes = empty_outcomes(samples, len(scene.actions))
-    event_chunks = []
+    failed_kind = {EVENT_WORDS[k]: np.zeros(samples, dtype=bool) for k in FAILURES}
+    margins = {name: np.empty(samples) for name in SUMMARY_MARGINS}
     for start in range(0, samples, batch):
         stop = min(samples, start + batch)
         chunk = simulate_batch(scene, Variants(v.params[start:stop], v.roof_scale[start:stop]))
         codes[start:stop] = verdict_codes(scene, chunk.events, chunk.outcomes)
-        event_chunks.append(chunk.events)
-        outcomes[start:stop] = chunk.outcomes
+        for k in FAILURES:
+            failed_kind[EVENT_WORDS[k]][start:stop] = ~np.isnan(chunk.events["time"][:, k])
+        for name, field in SUMMARY_MARGINS.items():
+            margins[name][start:stop] = chunk.outcomes[field].min(axis=1)
         if progress:
             progress(stop, samples)
-    events = np.concatenate(event_chunks)
-    failed_kind = {EVENT_WORDS[k]: ~np.isnan(events["time"][:, k]) for k in FAILURES}
-    summary_margins = {
-        "grip_ratio_min": outcomes["grip_ratio_min"].min(axis=1),
-        "balance_margin_min_m": outcomes["balance_margin_min"].min(axis=1),
-        "lift_ratio_min": outcomes["lift_ratio_min"].min(axis=1),
-        "landing_margin_min_m": outcomes["landing_margin_min"].min(axis=1),
-        "clearance_min_m": outcomes["clearance_min"].min(axis=1),
-    }
-    drivers = _drivers(inputs, codes == 2, summary_margins["grip_ratio_min"])
-    return RiskResult(samples, seed, inputs, codes, failed_kind, summary_margins, drivers)
+    drivers = _drivers(inputs, codes == 2, margins["grip_ratio_min"])
+    return RiskResult(samples, seed, inputs, codes, failed_kind, margins, drivers)
 
 
 def _drivers(inputs: dict, failed: np.ndarray, grip: np.ndarray) -> list:

@@ -7,11 +7,8 @@ expected and, where it can be found, the line.
 
 from __future__ import annotations
 
-import copy
 import math
-import re
-import tomllib
-from dataclasses import dataclass
+import unicodedata
 from pathlib import Path
 
 from physics import G
@@ -19,8 +16,13 @@ from physics import air as air_model
 from physics.consist import distance_travelled
 from physics.scene import (Action, Air, Car, Gust, Keyframe, Line, Performer, Safety, Scene, Structure,
                            Turbulence)
+from physics.scene_file import key_lines, parse_toml, read_text
+from physics.scene_overrides import apply_overrides, origin_of
+from physics.scene_problems import Problem, SceneError
 from physics.surfaces import SURFACES
 from physics.units import QuantityError, parse_quantity, parse_uncertain
+
+__all__ = ["Problem", "SceneError", "load_scene", "parse_scene"]
 
 ROOF_STATIC = "roof_static@"  # key of a car's roof friction spread in Scene.uncertain, then the car's index
 
@@ -37,82 +39,75 @@ STRUCTURE_KINDS = ("bridge", "footbridge", "gantry", "tunnel")
 GAIT_FRICTION_DEFAULT = {"walk": 0.2, "run": 0.4, "crawl": 0.2}
 
 
-@dataclass(frozen=True)
-class Problem:
-    path: str
-    message: str
-    line: int | None
+MAX_TEXT = 120  # characters in a title, name or label
+
+# The range a scene may give these values (SI), which is also the range a
+# sweep may vary them over and a Monte Carlo draw may reach.
+LIMITS = {
+    "speed": (0.0, 150.0),             # consist speed, m/s
+    "wind_speed": (0.0, 80.0),         # m/s
+    "gust": (0.0, 80.0),               # a gust's peak, m/s
+    "mass": (30.0, 200.0),             # kg
+    "drag_area": (0.2, 2.0),           # standing Cd*A, m^2
+    "roof_static": (0.0, 2.0),         # friction coefficient
+    "standing_long_jump": (0.2, 4.0),  # m
+    "reaction_time": (0.0, 0.25),      # s
+}
 
 
-class SceneError(Exception):
-    """A scene that cannot be used; carries every problem found."""
-
-    def __init__(self, source: str, problems: list[Problem]):
-        self.source = source
-        self.problems = problems
-        super().__init__(self.render())
-
-    def render(self) -> str:
-        lines = [f"{self.source}: {len(self.problems)} problem(s) in the scene"]
-        for p in self.problems:
-            where = f"{self.source}:{p.line}" if p.line else self.source
-            lines.append(f"  {where}: {p.path}: {p.message}")
-        return "\n".join(lines)
+def _short(value) -> str:
+    """A value for a message: its repr, cut short."""
+    text = repr(value)
+    return text if len(text) <= 60 else text[:57] + "..."
 
 
-def _key_lines(text: str) -> dict[str, int]:
-    """Map key paths ("actions[2].speed", 1-based lists) to their line numbers."""
-    found: dict[str, int] = {}
-    counts: dict[str, int] = {}
-    table = ""
-    for number, raw in enumerate(text.splitlines(), start=1):
-        line = raw.strip()
-        if m := re.match(r"^\[\[\s*([A-Za-z0-9_.]+)\s*\]\]", line):
-            name = m.group(1)
-            parent = _resolve_parent(name, counts)
-            counts[parent] = counts.get(parent, 0) + 1
-            table = f"{parent}[{counts[parent]}]"
-            found.setdefault(table, number)
-        elif m := re.match(r"^\[\s*([A-Za-z0-9_.]+)\s*\]", line):
-            table = _resolve_parent(m.group(1), counts)
-            found.setdefault(table, number)
-        elif m := re.match(r"^([A-Za-z0-9_]+)\s*=", line):
-            found.setdefault(f"{table}.{m.group(1)}" if table else m.group(1), number)
-    return found
+def _limits(name: str) -> dict:
+    """minimum=, maximum= of LIMITS[name], for the reader's checks."""
+    low, high = LIMITS[name]
+    return {"minimum": low, "maximum": high}
 
 
-def _resolve_parent(name: str, counts: dict[str, int]) -> str:
-    """'consist.cars' -> 'consist.cars'; 'actions.x' inside [[actions]] -> 'actions[n].x'."""
-    parts = name.split(".")
-    path = ""
-    for i, part in enumerate(parts):
-        path = f"{path}.{part}" if path else part
-        if i < len(parts) - 1 and path in counts:
-            path = f"{path}[{counts[path]}]"
-    return path
+def _article(word: str) -> str:
+    return "an" if word[0] in "aeiou" else "a"
 
 
 class _Reader:
     """Walks the raw TOML dict, converting values and collecting problems."""
 
-    def __init__(self, lines: dict[str, int]):
+    def __init__(self, lines: dict[str, int], origins: dict[str, str]):
         self.lines = lines
+        self.origins = origins
         self.problems: list[Problem] = []
         self.uncertain: dict[str, float] = {}
 
     def _split_uncertain(self, data: dict, key: str, dimension: str, uncertain_as: str | None, full: str):
-        """'0.7 m^2 +/- 15%' -> value text stays for the normal checks; spread is recorded."""
+        """'0.7 m^2 +/- 15%' -> (the value's text for the normal checks, the spread); (None, 0) if unreadable."""
         value = data.get(key)
         if uncertain_as is None or not isinstance(value, str) or not ("+/-" in value or "±" in value):
-            return data
+            return data, 0.0
         try:
             parsed = parse_uncertain(value, dimension)
         except QuantityError as exc:
             self.fail(full, str(exc))
-            return None
-        self.uncertain[uncertain_as] = parsed.spread
+            return None, 0.0
         base = value.replace("±", "+/-").split("+/-")[0].strip()
-        return {key: base if dimension != "dimensionless" else float(base)}
+        return {key: base if dimension != "dimensionless" else float(base)}, parsed.spread
+
+    def _spread(self, full: str, value: float, spread: float, uncertain_as: str | None, minimum, maximum,
+                positive: bool, text) -> None:
+        """Keep a spread whose every draw obeys the value's own limits; refuse one that does not."""
+        if not spread:
+            return
+        low, high = value - spread, value + spread
+        if (positive and low <= 0) or (minimum is not None and low < minimum):
+            floor = "zero" if positive or not minimum else f"{minimum:g} (SI)"
+            self.fail(full, f"{text!r} reaches down to {low:g} (SI), below the smallest allowed {floor}; "
+                            "give a smaller spread")
+        elif maximum is not None and high > maximum:
+            self.fail(full, f"{text!r} reaches up to {high:g} (SI), above the largest allowed {maximum:g}; "
+                            "give a smaller spread")
+        else:
+            self.uncertain[uncertain_as] = spread
 
     def line_of(self, path: str) -> int | None:
         probe = path
@@ -123,7 +118,8 @@ class _Reader:
         return None
 
     def fail(self, path: str, message: str) -> None:
-        self.problems.append(Problem(path, message, self.line_of(path)))
+        origin = origin_of(path, self.origins)
+        self.problems.append(Problem(path, message, None if origin else self.line_of(path), origin))
 
     def table(self, data: dict, key: str, path: str, required: bool = True) -> dict:
         value = data.get(key)
@@ -141,12 +137,13 @@ class _Reader:
                  minimum: float | None = None, maximum: float | None = None, positive: bool = False,
                  uncertain_as: str | None = None):
         full = f"{path}.{key}" if path else key
-        data = self._split_uncertain(data, key, dimension, uncertain_as, full)
+        text = data.get(key)
+        data, spread = self._split_uncertain(data, key, dimension, uncertain_as, full)
         if data is None:
             return default
         if key not in data:
             if required and default is None:
-                self.fail(full, f"missing; expected a {dimension} with units")
+                self.fail(full, f"missing; expected {_article(dimension)} {dimension} with units")
             return default
         try:
             value = parse_quantity(data[key], dimension)
@@ -154,20 +151,22 @@ class _Reader:
             self.fail(full, str(exc))
             return default
         if positive and value <= 0:
-            self.fail(full, f"must be greater than zero, got {data[key]!r}")
+            self.fail(full, f"must be greater than zero, got {_short(data[key])}")
             return default
         if minimum is not None and value < minimum:
-            self.fail(full, f"must be at least {minimum:g} (SI), got {data[key]!r}")
+            self.fail(full, f"must be at least {minimum:g} (SI), got {_short(data[key])}")
             return default
         if maximum is not None and value > maximum:
-            self.fail(full, f"must be at most {maximum:g} (SI), got {data[key]!r}")
+            self.fail(full, f"must be at most {maximum:g} (SI), got {_short(data[key])}")
             return default
+        self._spread(full, value, spread, uncertain_as, minimum, maximum, positive, text)
         return value
 
     def number(self, data, key, path, default=None, required=True, minimum=None, maximum=None, integer=False,
                uncertain_as: str | None = None):
         full = f"{path}.{key}" if path else key
-        data = self._split_uncertain(data, key, "dimensionless", uncertain_as, full)
+        text = data.get(key)
+        data, spread = self._split_uncertain(data, key, "dimensionless", uncertain_as, full)
         if data is None:
             return default
         if key not in data:
@@ -177,11 +176,12 @@ class _Reader:
         value = data[key]
         ok = isinstance(value, int) if integer else isinstance(value, (int, float))
         if isinstance(value, bool) or not ok or (not integer and not math.isfinite(value)):
-            self.fail(full, f"expected {'a whole number' if integer else 'a plain number'}, got {value!r}")
+            self.fail(full, f"expected {'a whole number' if integer else 'a plain number'}, got {_short(value)}")
             return default
         if (minimum is not None and value < minimum) or (maximum is not None and value > maximum):
-            self.fail(full, f"expected a value from {minimum} to {maximum}, got {value!r}")
+            self.fail(full, f"expected a value from {minimum} to {maximum}, got {_short(value)}")
             return default
+        self._spread(full, value, spread, uncertain_as, minimum, maximum, False, text)
         return value
 
     def choice(self, data, key, path, options, default=None):
@@ -191,20 +191,29 @@ class _Reader:
                 self.fail(full, f"missing; expected one of {', '.join(options)}")
             return default
         value = data[key]
-        if value not in options:
-            self.fail(full, f"expected one of {', '.join(repr(o) for o in options)}, got {value!r}")
+        if not isinstance(value, str) or value not in options:
+            self.fail(full, f"expected one of {', '.join(repr(o) for o in options)}, got {_short(value)}")
             return default
         return value
 
     def text(self, data, key, path, default=None):
+        """A name, title or label: plain text on one line, without control characters."""
         full = f"{path}.{key}" if path else key
         value = data.get(key, default)
         if value is None:
             self.fail(full, "missing; expected a quoted text")
             return ""
         if not isinstance(value, str):
-            self.fail(full, f"expected a quoted text, got {value!r}")
+            self.fail(full, f"expected a quoted text, got {_short(value)}")
             return ""
+        if len(value) > MAX_TEXT:
+            self.fail(full, f"longer than {MAX_TEXT} characters")
+            return ""
+        for position, char in enumerate(value, start=1):
+            if unicodedata.category(char) in ("Cc", "Cf", "Cs", "Co", "Cn", "Zl", "Zp"):
+                self.fail(full, f"contains a control or unprintable character (U+{ord(char):04X}) at position "
+                                f"{position}; expected plain text on one line")
+                return ""
         return value
 
     def unknown(self, data: dict, path: str, allowed: tuple[str, ...]) -> None:
@@ -235,69 +244,18 @@ class _Reader:
 def load_scene(path: str | Path, overrides: list[str] | None = None) -> Scene:
     """Read, override (--set PATH=VALUE) and validate a scene file."""
     path = Path(path)
-    source = str(path)
-    try:
-        text = path.read_text(encoding="utf-8")
-    except OSError as exc:
-        raise SceneError(source, [Problem("(file)", f"cannot read the file: {exc.strerror}", None)]) from None
-    return parse_scene(text, source, overrides)
+    return parse_scene(read_text(path), str(path), overrides)
 
 
 def parse_scene(text: str, source: str, overrides: list[str] | None = None) -> Scene:
-    try:
-        raw = tomllib.loads(text)
-    except tomllib.TOMLDecodeError as exc:
-        found = re.search(r"line (\d+)", str(exc))
-        line = getattr(exc, "lineno", None) or (int(found.group(1)) if found else None)
-        raise SceneError(source, [Problem("(file)", f"not valid TOML: {exc}", line)]) from None
-    reader = _Reader(_key_lines(text))
-    raw = apply_overrides(raw, overrides or [], reader)
+    raw = parse_toml(text, source)
+    raw, origins, problems = apply_overrides(raw, overrides or [])
+    reader = _Reader(key_lines(text), origins)
+    reader.problems.extend(problems)
     scene = _build(raw, reader, source)
     if reader.problems:
         raise SceneError(source, reader.problems)
     return scene
-
-
-def apply_overrides(raw: dict, overrides: list[str], reader: _Reader) -> dict:
-    """Apply --set PATH=VALUE overrides to a copy of the raw scene dict."""
-    raw = copy.deepcopy(raw)
-    for item in overrides:
-        if "=" not in item:
-            reader.problems.append(Problem(f"--set {item}", "expected PATH=VALUE, e.g. motion.speed=110 km/h", None))
-            continue
-        key_path, value_text = item.split("=", 1)
-        try:
-            value = tomllib.loads(f"v = {value_text}")["v"]
-        except tomllib.TOMLDecodeError:
-            value = value_text.strip()
-        error = _set_path(raw, key_path.strip(), value)
-        if error:
-            reader.problems.append(Problem(f"--set {key_path.strip()}", error, None))
-    return raw
-
-
-def _set_path(raw: dict, key_path: str, value) -> str | None:
-    parts = re.findall(r"([A-Za-z0-9_]+)(?:\[(\d+)\])?", key_path)
-    if not parts:
-        return "expected a key path such as motion.speed or actions[2].duration"
-    node = raw
-    for n, (key, index) in enumerate(parts):
-        last = n == len(parts) - 1
-        if index:
-            items = node.get(key)
-            if not isinstance(items, list) or not 1 <= int(index) <= len(items):
-                return f"{key} has no item {index} (lists count from 1)"
-            if last:
-                items[int(index) - 1] = value
-                return None
-            node = items[int(index) - 1]
-        elif last:
-            node[key] = value
-        else:
-            node = node.setdefault(key, {})
-            if not isinstance(node, dict):
-                return f"{key} is not a table"
-    return None
 
 
 def _build(raw: dict, r: _Reader, source: str) -> Scene | None:
@@ -318,11 +276,31 @@ def _build(raw: dict, r: _Reader, source: str) -> Scene | None:
     rate = r.quantity(sim, "rate", "simulation", "frequency", default=240.0, minimum=60.0, maximum=2000.0)
     structures = _structures(raw, r, keyframes)
     lines = _lines(raw, r)
+    if actions and rate:
+        _beat_length(r, sum(a.duration for a in actions), rate, len(actions))
     if r.problems:
         return None
     return Scene(title, source, units, frame_rate, tuple(cars), tuple(keyframes), air, performer, start_x,
                  start_car, tuple(actions), safety, 1.0 / rate, tuple(structures), tuple(lines), raw,
                  dict(r.uncertain))
+
+
+MAX_ACTIONS = 200
+MAX_STEPS = 150_000  # engine steps in a beat: 10 minutes at 240 Hz, under 500 MB however it is drawn
+
+
+def _beat_length(r: _Reader, duration: float, rate: float, count: int) -> None:
+    """A beat the engine can run in bounded time and memory: two steps at least, MAX_STEPS at most."""
+    steps = duration * rate
+    if count > MAX_ACTIONS:
+        r.fail("actions", f"{count} actions; a beat has at most {MAX_ACTIONS}")
+    if steps < 2:
+        r.fail("actions", f"the beat lasts {duration:g} s, shorter than two engine steps ({2 / rate:.4g} s at "
+                          f"{rate:g} Hz)")
+    elif steps > MAX_STEPS:
+        r.fail("actions", f"the beat lasts {duration:g} s: {steps:,.0f} engine steps at {rate:g} Hz, more than the "
+                          f"{MAX_STEPS:,} roofbeat runs (10 minutes at 240 Hz); shorten the beat or lower "
+                          "simulation.rate")
 
 
 def _cars(consist: dict, r: _Reader) -> list[Car]:
@@ -339,7 +317,7 @@ def _cars(consist: dict, r: _Reader) -> list[Car]:
         gap = r.quantity(item, "gap", path, "length", default=0.0 if last else None, minimum=0.0, maximum=50.0)
         surface_name = item.get("roof", default_roof)
         surface = SURFACES.get(surface_name) if isinstance(surface_name, str) else None
-        explicit = {k: r.number(item, k, path, required=False, minimum=0.0, maximum=2.0,
+        explicit = {k: r.number(item, k, path, None, False, **_limits("roof_static"),
                                 uncertain_as=f"{ROOF_STATIC}{n}" if k == "roof_static" else None)
                     for k in ("roof_static", "roof_kinetic", "body_static", "body_kinetic")}
         if surface is None and (surface_name is not None or explicit["roof_static"] is None):
@@ -357,7 +335,7 @@ def _cars(consist: dict, r: _Reader) -> list[Car]:
             r.fail(path, "kinetic friction must not exceed static friction")
         if None in (length, height, gap):
             continue
-        name = item.get("name", f"car {n + 1}")
+        name = r.text(item, "name", path, default=f"car {n + 1}")
         cars.append(Car(str(name), length, height, gap, surface.name if surface else "explicit", sole_s, sole_k,
                         body_s, body_k, front, front - length))
         front -= length + gap
@@ -370,13 +348,13 @@ def _motion(motion: dict, r: _Reader) -> list[Keyframe]:
         r.fail("motion", "give either speed (constant) or keyframes (a list of time and speed), not both")
         return []
     if "speed" in motion:
-        speed = r.quantity(motion, "speed", "motion", "speed", minimum=0.0, maximum=150.0, uncertain_as="speed")
+        speed = r.quantity(motion, "speed", "motion", "speed", **_limits("speed"), uncertain_as="speed")
         return [Keyframe(0.0, speed)] if speed is not None else []
     frames = []
     for path, item in r.items(motion, "keyframes", "motion"):
         r.unknown(item, path, ("time", "speed"))
         t = r.quantity(item, "time", path, "time", minimum=0.0)
-        v = r.quantity(item, "speed", path, "speed", minimum=0.0, maximum=150.0)
+        v = r.quantity(item, "speed", path, "speed", **_limits("speed"))
         if t is not None and v is not None:
             if frames and t <= frames[-1].time:
                 r.fail(f"{path}.time", "keyframe times must increase")
@@ -393,7 +371,7 @@ def _air(data: dict, r: _Reader) -> Air:
     rho = r.quantity(data, "density", "air", "density", required=False, minimum=0.5, maximum=1.6)
     if rho is None:
         rho = air_model.density(altitude, temperature)
-    wind_speed = r.quantity(data, "wind_speed", "air", "speed", default=0.0, minimum=0.0, maximum=80.0,
+    wind_speed = r.quantity(data, "wind_speed", "air", "speed", 0.0, True, **_limits("wind_speed"),
                             uncertain_as="wind_speed")
     wind_from = r.quantity(data, "wind_from", "air", "angle", default=0.0)
     gusts = []
@@ -401,7 +379,7 @@ def _air(data: dict, r: _Reader) -> Air:
         r.unknown(item, path, ("start", "duration", "peak", "from"))
         start = r.quantity(item, "start", path, "time", minimum=0.0)
         duration = r.quantity(item, "duration", path, "time", positive=True)
-        peak = r.quantity(item, "peak", path, "speed", minimum=0.0, maximum=80.0)
+        peak = r.quantity(item, "peak", path, "speed", **_limits("gust"))
         direction = r.quantity(item, "from", path, "angle", default=wind_from)
         if None not in (start, duration, peak):
             gusts.append(Gust(start, duration, peak, direction))
@@ -422,19 +400,19 @@ def _performer(data: dict, r: _Reader) -> Performer:
     r.unknown(data, p, ("stature", "mass", "drag_area", "body", "facing", "reaction_time", "max_lean",
                         "recovery_step", "standing_long_jump"))
     stature = r.quantity(data, "stature", p, "length", minimum=1.2, maximum=2.3)
-    mass = r.quantity(data, "mass", p, "mass", minimum=30.0, maximum=200.0, uncertain_as="mass")
-    drag_area = r.quantity(data, "drag_area", p, "area", required=False, minimum=0.2, maximum=2.0,
+    mass = r.quantity(data, "mass", p, "mass", **_limits("mass"), uncertain_as="mass")
+    drag_area = r.quantity(data, "drag_area", p, "area", None, False, **_limits("drag_area"),
                            uncertain_as="drag_area")
     model = r.choice(data, "body", p, ("segmented", "lumped"), default="segmented")
     if model == "lumped" and drag_area is None:
         r.fail(f"{p}.drag_area", "the lumped body needs its standing drag area, e.g. \"0.7 m^2\"")
     facing = r.choice(data, "facing", p, ("front", "rear"), default="front")
-    reaction = r.quantity(data, "reaction_time", p, "time", default=0.12, minimum=0.0, maximum=0.25,
+    reaction = r.quantity(data, "reaction_time", p, "time", 0.12, True, **_limits("reaction_time"),
                           uncertain_as="reaction_time")
     max_lean = r.quantity(data, "max_lean", p, "angle", default=math.radians(25), minimum=0.0,
                           maximum=math.radians(60))
     step = r.quantity(data, "recovery_step", p, "length", default=0.0, minimum=0.0, maximum=1.5)
-    jump = r.quantity(data, "standing_long_jump", p, "length", required=False, minimum=0.2, maximum=4.0)
+    jump = r.quantity(data, "standing_long_jump", p, "length", None, False, **_limits("standing_long_jump"))
     if None in (stature, mass):
         return None
     return Performer(stature, mass, drag_area, model, 1 if facing == "front" else -1, reaction, max_lean,
@@ -473,7 +451,7 @@ def _actions(raw: dict, r: _Reader, cars: list[Car], performer: Performer | None
             speed = r.quantity(item, "speed", path, "speed", minimum=0.0, maximum=12.0)
             gait_friction = r.number(item, "gait_friction", path, default=GAIT_FRICTION_DEFAULT[kind],
                                      minimum=0.0, maximum=1.5)
-        label = item.get("label", kind)
+        label = r.text(item, "label", path, default=kind)
         extra = _jump(item, path, r, cars, performer) if kind == "jump" else {}
         if kind == "jump":
             # A run-up is a run: it asks the roof for a runner's grip.
@@ -513,9 +491,20 @@ def _jump(item: dict, path: str, r: _Reader, cars: list[Car], performer: Perform
     run_up = r.quantity(item, "run_up_speed", path, "speed", default=0.0, minimum=0.0, maximum=10.0)
     posture = r.choice(item, "air_posture", path, AIR_POSTURES, default="tuck")
     landing = r.number(item, "landing_car", path, integer=True, minimum=1, maximum=max(1, len(cars)))
-    if None in (car, pos, speed, angle, landing) or not cars:
+    if None in (car, pos, speed, angle, landing) or len(cars) < max(car, landing):
         return {}
     c = cars[car - 1]
+    if pos > c.length:
+        r.fail(f"{path}.takeoff_position", f"{pos:g} m is past the end of {c.name} ({c.length:g} m long)")
+        return {}
+    toward = 1 if item.get("toward", "front") == "front" else -1
+    # Cars are listed front to rear: a jump toward the front lands on the same car or one listed before it.
+    if (landing - car) * toward > 0:
+        where = "behind" if landing > car else "ahead of"
+        r.fail(f"{path}.landing_car", f"car {landing} ({cars[landing - 1].name}) lies {where} the take-off car "
+                                      f"{car} ({c.name}), but the jump goes toward the "
+                                      f"{'front' if toward > 0 else 'rear'}")
+        return {}
     x = (c.front_x - pos) if end == "front" else (c.rear_x + pos)
     return {"takeoff_x": x, "takeoff_speed": speed, "takeoff_angle": angle, "air_posture": posture,
             "landing_car": landing - 1, "speed": run_up}
@@ -546,10 +535,14 @@ def _structures(raw: dict, r: _Reader, keyframes: list[Keyframe]) -> list[Struct
         else:
             t = r.quantity(item, "reached_at", path, "time", minimum=0.0)
             x = None if t is None or not keyframes else _distance_at(keyframes, t)
+            if x is not None and x <= 0.0:
+                r.fail(f"{path}.reached_at", f"the consist has not moved by {t:g} s, so it reaches nothing then; "
+                                             "give at (the distance along the track) instead")
+                x = None
         span = r.quantity(item, "span", path, "length", positive=True, maximum=2000.0)
         soffit = r.quantity(item, "soffit", path, "length", positive=True, maximum=20.0)
         if None not in (kind, x, span, soffit):
-            out.append(Structure(kind, str(item.get("name", kind)), x, span, soffit))
+            out.append(Structure(kind, r.text(item, "name", path, default=kind), x, span, soffit))
     return out
 
 

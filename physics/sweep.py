@@ -17,6 +17,7 @@ from scipy.optimize import brentq
 
 from physics.air import wind_vector
 from physics.scene import Scene
+from physics.scene_load import LIMITS
 from physics.simulation import BatchResult, Variants, drag_calibration, simulate_batch, variants
 from physics.verdict import NAMES, first_failure_kinds, verdict_codes
 
@@ -37,6 +38,24 @@ class SweepError(ValueError):
     """A sweep that cannot be run as asked; the message says why."""
 
 
+# The scene value each parameter stands for, whose limits (scene_load.LIMITS) a sweep keeps to.
+_LIMITED_AS = {"speed": "speed", "wind_speed": "wind_speed", "friction": "roof_static", "mass": "mass",
+               "drag_area": "drag_area", "gust": "gust", "effort": "standing_long_jump"}
+
+
+def check_range(name: str, start: float, stop: float) -> None:
+    """A sweep range a scene could give: finite, FROM below TO, within the value's own limits."""
+    if not (math.isfinite(start) and math.isfinite(stop)):
+        raise SweepError(f"{name}: the range must be finite")
+    if not stop > start:
+        raise SweepError(f"{name}: FROM must be below TO")
+    if name in _LIMITED_AS:
+        low, high = LIMITS[_LIMITED_AS[name]]
+        if start < low or stop > high:
+            raise SweepError(f"{name}: the range {start:g}..{stop:g} (SI) leaves the {low:g}..{high:g} (SI) "
+                             "a scene may give")
+
+
 def base_value(scene: Scene, name: str) -> float:
     """The scene's own value of a sweep parameter (SI)."""
     if name == "speed":
@@ -46,6 +65,8 @@ def base_value(scene: Scene, name: str) -> float:
     if name == "wind_from":
         return scene.air.wind_from
     if name == "friction":
+        if scene.cars[scene.start_car].sole_static <= 0:
+            raise SweepError("friction cannot be varied from a roof with no friction at all")
         return scene.cars[scene.start_car].sole_static
     if name == "mass":
         return scene.performer.mass
@@ -148,8 +169,9 @@ def sweep_1d(scene: Scene, name: str, start: float, stop: float, points: int = 4
              tolerance: float | None = None) -> Sweep:
     """Simulate `points` values of one parameter as one batch, then refine every
     verdict change to `tolerance` (SI; default 0.1 % of the range) with brentq."""
-    if points < 3 or not stop > start:
-        raise SweepError("a sweep needs FROM < TO and at least 3 points")
+    if points < 3:
+        raise SweepError("a sweep needs at least 3 points")
+    check_range(name, start, stop)
     values = np.linspace(start, stop, points)
     result = _run(scene, name, values)
     codes = verdict_codes(scene, result.events, result.outcomes)
@@ -185,6 +207,8 @@ def _refine(scene, name, a, b, level, label, tol) -> Threshold:
 def sweep_2d(scene: Scene, first: tuple, second: tuple, points: int = 25):
     """Verdict map over two parameters (one batch): values1, values2, codes (n2, n1)."""
     (n1, a1, b1), (n2, a2, b2) = first, second
+    check_range(n1, a1, b1)
+    check_range(n2, a2, b2)
     v1, v2 = np.linspace(a1, b1, points), np.linspace(a2, b2, points)
     grid1, grid2 = np.meshgrid(v1, v2)
     v = variants(scene, grid1.size)

@@ -30,7 +30,8 @@ ureg.define("kph = kilometer / hour")
 # with a letter, a degree sign or a percent sign. No thousands separators,
 # decimal commas, fractions or second numbers.
 _NUMBER = r"[+-]?(?:\d+\.?\d*|\.\d+)(?:[eE][+-]?\d+)?"
-_QUANTITY_RE = re.compile(rf"^\s*(?P<num>{_NUMBER})\s*(?P<unit>[A-Za-z°µ%][A-Za-z0-9°µ%/*^ ._²³-]*)?\s*$")
+_QUANTITY_RE = re.compile(rf"^(?P<num>{_NUMBER})\s*(?P<unit>[A-Za-z°µ%][A-Za-z0-9°µ%/*^ ._²³-]*)?$")
+MAX_QUANTITY = 64  # characters: "145 km/h" or "0.72 m^2 +/- 15%" fit many times over
 _UNCERTAIN_RE = re.compile(r"^(?P<value>.+?)\s*(?:\+/-|±)\s*(?P<spread>.+)$")
 
 # Temperatures in scenes are written the way people say them. pint reads "C"
@@ -84,7 +85,8 @@ class Uncertain:
 
 
 def _expected(dimension: str) -> str:
-    return f"a {dimension} with units, e.g. {EXAMPLES[dimension]}"
+    article = "an" if dimension[0] in "aeiou" else "a"
+    return f"{article} {dimension} with units, e.g. {EXAMPLES[dimension]}"
 
 
 def parse_quantity(text: object, dimension: str) -> float:
@@ -95,7 +97,11 @@ def parse_quantity(text: object, dimension: str) -> float:
     if dimension == "dimensionless":
         return _parse_plain_number(text)
     if isinstance(text, bool) or not isinstance(text, str):
-        raise QuantityError(f"expected {_expected(dimension)} as a quoted string, got {text!r}")
+        raise QuantityError(f"expected {_expected(dimension)} as a quoted string, got {_short(text)}")
+    if len(text) > MAX_QUANTITY:
+        raise QuantityError(f"expected {_expected(dimension)}, got a text of {len(text)} characters "
+                            f"(at most {MAX_QUANTITY})")
+    text = text.strip()
     match = _QUANTITY_RE.match(text)
     if not match or not match.group("unit"):
         raise QuantityError(f"expected {_expected(dimension)}, got {text!r}")
@@ -107,23 +113,33 @@ def parse_quantity(text: object, dimension: str) -> float:
         unit_text = _TEMPERATURE_UNITS.get(unit_text.lower(), unit_text)
     try:
         quantity = ureg.Quantity(number, unit_text)
-    except (pint.errors.PintError, AttributeError, TypeError, ValueError, SyntaxError):
+        dimensionality, si_unit = DIMENSIONS[dimension]
+        if dimension == "angle":
+            # Radians are dimensionless in pint, and so is a percent: an angle
+            # must be made of radians (degrees, arc minutes, turns...).
+            if str(ureg.get_root_units(quantity.units)[1]) != "radian":
+                raise QuantityError(f"expected {_expected(dimension)}, got {text!r} (not an angle unit)")
+        elif not quantity.check(dimensionality):
+            raise QuantityError(f"expected {_expected(dimension)}, got {text!r} (a {quantity.dimensionality})")
+        value = float(quantity.to(si_unit).magnitude)
+    except QuantityError:
+        raise
+    except Exception:  # pint fails in many ways on odd unit text ("m-", "m/", "m^-0"): all mean the same
         raise QuantityError(f"unknown unit {unit_text!r} in {text!r}; expected {_expected(dimension)}") from None
-    dimensionality, si_unit = DIMENSIONS[dimension]
-    if dimension == "angle":
-        if not quantity.dimensionless or unit_text.strip() in ("", "%"):
-            raise QuantityError(f"expected {_expected(dimension)}, got {text!r}")
-    elif not quantity.check(dimensionality):
-        raise QuantityError(f"expected {_expected(dimension)}, got {text!r} (a {quantity.dimensionality})")
-    value = float(quantity.to(si_unit).magnitude)
     if not math.isfinite(value):
         raise QuantityError(f"expected a finite {dimension}, got {text!r}")
     return value
 
 
+def _short(value: object) -> str:
+    """A value for a message: its repr, cut short."""
+    text = repr(value)
+    return text if len(text) <= 60 else text[:57] + "..."
+
+
 def _parse_plain_number(value: object) -> float:
     if isinstance(value, bool) or not isinstance(value, (int, float)):
-        raise QuantityError(f"expected {EXAMPLES['dimensionless']}, got {value!r}")
+        raise QuantityError(f"expected {EXAMPLES['dimensionless']}, got {_short(value)}")
     if not math.isfinite(float(value)):
         raise QuantityError(f"expected a finite number, got {value!r}")
     return float(value)
@@ -136,6 +152,9 @@ def parse_uncertain(text: object, dimension: str) -> Uncertain:
     fraction of the value.
     """
     if isinstance(text, str):
+        if len(text) > 2 * MAX_QUANTITY:
+            raise QuantityError(f"expected a value +/- a spread such as \"0.72 m^2 +/- 15%\", got a text of "
+                                f"{len(text)} characters (at most {2 * MAX_QUANTITY})")
         match = _UNCERTAIN_RE.match(text)
         if match:
             value = _parse_value_text(match.group("value"), dimension)

@@ -112,17 +112,20 @@ def envelope_text(scene, summary: dict) -> str:
 
 def cmd_envelope(args) -> int:
     from physics.sweep import SweepError, sweep_1d
-    from preview.session import OutputError, load
+    from preview.outputs import check_target
+    from preview.session import UsageError, load
     scene = load(args)
+    varies = args.vary
+    if len(varies) not in (1, 2):
+        raise UsageError("give --vary once (envelope) or twice (two-parameter map)")
+    if args.plot:
+        check_target(args.plot, folder=False)
     try:
-        varies = [parse_vary(v) for v in args.vary]
-        if len(varies) not in (1, 2):
-            raise ValueError("give --vary once (envelope) or twice (two-parameter map)")
         if len(varies) == 2:
             return _map(scene, varies, args)
         sweep = sweep_1d(scene, *varies[0], points=args.points)
-    except (ValueError, SweepError) as exc:
-        raise OutputError(str(exc)) from None
+    except SweepError as exc:
+        raise UsageError(f"--vary {exc}") from None
     summary = envelope_summary(scene, sweep)
     print(json.dumps(summary, indent=2) if args.json else envelope_text(scene, summary))
     if args.plot:
@@ -181,11 +184,14 @@ def risk_text(scene, summary: dict) -> str:
 
 def cmd_risk(args) -> int:
     from physics.risk import run_risk, summarise_risk
+    from physics.risk import check_work
     from preview.export import Progress
-    from preview.session import OutputError, load
+    from preview.session import UsageError, load
     scene = load(args)
-    if args.samples < 1 or args.samples > 2_000_000:
-        raise OutputError("--samples must be 1 to 2,000,000")
+    try:
+        check_work(scene, args.samples)
+    except ValueError as exc:
+        raise UsageError(f"--samples {args.samples}: {exc}") from None
     bar = Progress(args.samples, "sampling")
     result = run_risk(scene, args.samples, args.seed, progress=lambda done, total: bar.update(done))
     bar.close()

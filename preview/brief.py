@@ -11,13 +11,14 @@ from __future__ import annotations
 import datetime as dt
 import json
 import math
-import os
 from pathlib import Path
 
 import numpy as np
 
 from physics.units import to_display
 from preview.caution import CAUTION
+from preview.outputs import OutputSet, check_target
+from preview.session import OutputError
 from preview.report import wind_words
 from preview.timecode import timecode
 
@@ -122,19 +123,14 @@ def write_brief(scene, out: Path, paper: str = "a4") -> dict:
         ax.set_title("speed envelope: margins against top speed", fontsize=8)
     _footer(fig, content)
     out = Path(out)
-    tmp = out.with_name(f".{out.name}.part.pdf")
+    # The page and its JSON appear together or not at all.
     try:
-        fig.savefig(tmp, format="pdf")
-    except BaseException:
-        tmp.unlink(missing_ok=True)
-        raise
+        with OutputSet() as outs:
+            pdf, data = outs.file(out), outs.file(out.with_suffix(".json"))
+            fig.savefig(pdf, format="pdf")
+            data.write_text(json.dumps(content, indent=2, default=str))
     finally:
         plt.close(fig)
-    os.replace(tmp, out)
-    json_path = out.with_suffix(".json")
-    tmp_json = json_path.with_name(f".{json_path.name}.part")
-    tmp_json.write_text(json.dumps(content, indent=2, default=str))
-    os.replace(tmp_json, json_path)
     return content
 
 
@@ -204,13 +200,11 @@ def _footer(fig, content) -> None:
 
 
 def cmd_brief(args) -> int:
-    from preview.session import OutputError, load
+    from preview.session import load
     scene = load(args)
     out = Path(args.output)
-    if out.suffix.lower() != ".pdf":
-        raise OutputError(f"{out}: the brief is written as a PDF; give a name ending .pdf")
-    if not out.parent.exists():
-        raise OutputError(f"{out}: the folder {out.parent} does not exist")
+    check_target(out, folder=False)
+    check_target(out.with_suffix(".json"), folder=False)
     try:
         content = write_brief(scene, out, args.paper)
     except OSError as exc:

@@ -10,7 +10,8 @@ from __future__ import annotations
 import argparse
 import sys
 
-from preview.session import DEFAULT_SCENE, EXIT_RUNTIME, EXIT_SCENE, OutputError, load
+from preview import options
+from preview.session import DEFAULT_SCENE, EXIT_RUNTIME, EXIT_SCENE, EXIT_USAGE, OutputError, UsageError, load
 
 
 def _add_scene_args(p: argparse.ArgumentParser) -> None:
@@ -33,28 +34,32 @@ def build_parser() -> argparse.ArgumentParser:
     _add_scene_args(play)
     render = sub.add_parser("render", help="export the preview headless to MP4, GIF or PNG frames")
     _add_scene_args(render)
-    render.add_argument("-o", "--output", required=True, help="OUT.mp4, OUT.gif or a folder for PNG frames")
+    render.add_argument("-o", "--output", required=True, type=options.render_output,
+                        help="OUT.mp4, OUT.gif or a folder for PNG frames")
     render.add_argument("--frame", choices=("ground", "car", "split"), default="car")
-    render.add_argument("--from", dest="t_from", type=float, default=None, metavar="SECONDS")
-    render.add_argument("--to", dest="t_to", type=float, default=None, metavar="SECONDS")
-    render.add_argument("--fps", type=int, default=None)
-    render.add_argument("--size", default="1280x720", help="WIDTHxHEIGHT, default 1280x720")
+    render.add_argument("--from", dest="t_from", type=options.seconds, default=None, metavar="SECONDS")
+    render.add_argument("--to", dest="t_to", type=options.seconds, default=None, metavar="SECONDS")
+    render.add_argument("--fps", type=options.whole(1, 120, "frames per second"), default=None)
+    render.add_argument("--size", type=options.frame_size, default=(1280, 720),
+                        help="WIDTHxHEIGHT, default 1280x720")
     envelope = sub.add_parser("envelope", help="sweep a parameter and find where the verdict changes")
     _add_scene_args(envelope)
-    envelope.add_argument("--vary", action="append", required=True, metavar="PARAM=FROM..TO",
+    envelope.add_argument("--vary", action="append", required=True, metavar="PARAM=FROM..TO", type=options.vary,
                           help="speed, wind_speed, wind_from, friction, mass, drag_area, gust or effort, "
                                "e.g. speed=20..140 km/h; twice for a two-parameter map")
-    envelope.add_argument("--points", type=int, default=41, help="grid points before refinement (default 41)")
+    envelope.add_argument("--points", type=options.whole(3, options.MAX_POINTS, "grid points"), default=41,
+                          help="grid points before refinement (default 41; a map uses at most 41 a side)")
     envelope.add_argument("--json", action="store_true")
-    envelope.add_argument("--plot", metavar="PNG", help="write a plot of the margins (or the map)")
+    envelope.add_argument("--plot", metavar="PNG", type=options.plot_output,
+                          help="write a plot of the margins (or the map): .png, .pdf or .svg")
     risk = sub.add_parser("risk", help="Monte Carlo over the scene's stated uncertainties (+/-)")
     _add_scene_args(risk)
-    risk.add_argument("--samples", type=int, default=1000)
-    risk.add_argument("--seed", type=int, default=0)
+    risk.add_argument("--samples", type=options.whole(1, options.MAX_SAMPLES, "samples"), default=1000)
+    risk.add_argument("--seed", type=options.whole(0, options.MAX_SEED, "a seed"), default=0)
     risk.add_argument("--json", action="store_true")
     brief = sub.add_parser("brief", help="one printable page for the safety meeting (PDF + JSON)")
     _add_scene_args(brief)
-    brief.add_argument("-o", "--output", required=True, metavar="BRIEF.pdf")
+    brief.add_argument("-o", "--output", required=True, metavar="BRIEF.pdf", type=options.brief_output)
     brief.add_argument("--paper", choices=("a4", "letter"), default="a4")
     sub.add_parser("scenes", help="list the bundled demo scenes")
     return parser
@@ -116,13 +121,21 @@ COMMANDS = {"scenes": cmd_scenes, "check": cmd_check, "play": cmd_play, "render"
 
 
 def main(argv: list[str] | None = None) -> int:
-    args = build_parser().parse_args(argv)
+    try:
+        args = build_parser().parse_args(argv)
+    except SystemExit as exc:  # usage errors (exit 2) and --help (exit 0), as a return value
+        return exc.code if isinstance(exc.code, int) else (0 if exc.code is None else EXIT_USAGE)
     from physics.scene_load import SceneError
+    from preview.outputs import Terminated, raise_on_sigterm
+    raise_on_sigterm()
     try:
         return COMMANDS[args.command](args)
     except SceneError as exc:
         print(exc.render(), file=sys.stderr)
         return EXIT_SCENE
+    except UsageError as exc:
+        print(f"roofbeat {args.command}: {exc}", file=sys.stderr)
+        return EXIT_USAGE
     except OutputError as exc:
         print(f"roofbeat: {exc}", file=sys.stderr)
         return EXIT_RUNTIME
@@ -131,6 +144,9 @@ def main(argv: list[str] | None = None) -> int:
     except KeyboardInterrupt:
         print("roofbeat: interrupted; nothing was left half-written", file=sys.stderr)
         return 130
+    except Terminated:
+        print("roofbeat: stopped (SIGTERM); nothing was left half-written", file=sys.stderr)
+        return 143
     except Exception as exc:  # a defect of ours: say so plainly, no traceback
         print(f"roofbeat: internal error ({type(exc).__name__}: {exc}); please report it with the scene file",
               file=sys.stderr)

@@ -1,15 +1,14 @@
 """Headless exports: MP4 (H.264), GIF, a folder of PNG frames, and single PNGs.
 
 The same `draw_frame` as the window, on an off-screen pygame Surface. Every
-output is written under a temporary name and renamed at the end, so an
-interrupted export never leaves a broken file under the requested name.
+output goes through preview.outputs: written under a temporary name, checked,
+and moved into place only when whole; roofbeat replaces only its own outputs.
 """
 
 from __future__ import annotations
 
 import math
 import os
-import shutil
 import sys
 import tempfile
 from dataclasses import replace
@@ -18,7 +17,10 @@ from pathlib import Path
 import numpy as np
 
 from preview.frame import ViewSettings, draw_frame
-from preview.session import OutputError, Playback, make_playback
+from preview.outputs import OutputSet, check_target
+from preview.session import OutputError, Playback, UsageError, make_playback
+
+MAX_FRAMES = 36_000  # 25 minutes at 24 fps: an export is a clip, not a feature
 
 
 def _pygame():
@@ -39,12 +41,13 @@ def frame_pixels(playback: Playback, t: float, view: ViewSettings, size: tuple[i
     return np.ascontiguousarray(pygame.surfarray.array3d(surface).transpose(1, 0, 2))
 
 
-def save_png(pixels: np.ndarray, path: Path) -> None:
+def save_png(pixels: np.ndarray, path: Path) -> Path:
+    """One PNG, written under a temporary name and moved into place."""
     from PIL import Image
-    path = Path(path)
-    tmp = path.with_name(f".{path.name}.part")
-    Image.fromarray(pixels).save(tmp, format="PNG")
-    os.replace(tmp, path)
+    with OutputSet() as outs:
+        tmp = outs.file(Path(path))
+        Image.fromarray(pixels).save(tmp, format="PNG")
+    return Path(path)
 
 
 class Progress:
@@ -79,17 +82,21 @@ def even16(size: tuple[int, int]) -> tuple[int, int]:
 
 
 def write_frames(playback, times, view, size, out: Path) -> Path:
-    """Write frames to OUT (.mp4, .gif, or a folder); returns the final path."""
+    """Write frames to OUT (.mp4, .gif, or a folder of PNG frames); returns the final path.
+
+    Nothing appears under OUT unless the whole export was written and checked.
+    """
     out = Path(out)
     suffix = out.suffix.lower()
     progress = Progress(len(times), f"rendering {out.name}")
     frames = (frame_pixels(playback, t, view, size) for t in times)
-    if suffix == ".mp4":
-        _write_mp4(frames, times, size, out, progress)
-    elif suffix == ".gif":
-        _write_gif(frames, times, out, progress)
-    else:
-        _write_png_folder(frames, out, progress)
+    with OutputSet() as outs:
+        if suffix == ".mp4":
+            _write_mp4(frames, _fps_of(times), size, len(times), outs.file(out), progress)
+        elif suffix == ".gif":
+            _write_gif(frames, _fps_of(times), outs.file(out), progress)
+        else:
+            _write_png_folder(frames, outs.folder(out), progress)
     progress.close()
     return out
 
@@ -98,41 +105,51 @@ def _fps_of(times) -> float:
     return 1.0 / (times[1] - times[0]) if len(times) > 1 else 24.0
 
 
-def _write_mp4(frames, times, size, out: Path, progress) -> None:
+def _write_mp4(frames, fps: float, size, count: int, tmp: Path, progress) -> None:
+    """H.264 through the ffmpeg that imageio-ffmpeg ships; its exit status and a read-back are checked."""
+    import subprocess
+
     import imageio_ffmpeg
-    tmp = out.with_name(f".{out.name}.part.mp4")
-    writer = imageio_ffmpeg.write_frames(str(tmp), size, fps=_fps_of(times), codec="libx264",
-                                         pix_fmt_out="yuv420p", macro_block_size=16, quality=7)
-    writer.send(None)
-    try:
-        for n, pixels in enumerate(frames, start=1):
-            writer.send(pixels)
-            progress.update(n)
-        writer.close()
-    except BaseException:
-        writer.close()
-        tmp.unlink(missing_ok=True)
-        raise
-    os.replace(tmp, out)
+    width, height = size
+    cmd = [imageio_ffmpeg.get_ffmpeg_exe(), "-y", "-loglevel", "error", "-f", "rawvideo", "-pix_fmt", "rgb24",
+           "-s", f"{width}x{height}", "-r", f"{fps:.6g}", "-i", "-", "-an", "-c:v", "libx264", "-pix_fmt", "yuv420p",
+           "-crf", "20", "-f", "mp4", str(tmp)]
+    with tempfile.TemporaryFile() as errors:
+        proc = subprocess.Popen(cmd, stdin=subprocess.PIPE, stdout=subprocess.DEVNULL, stderr=errors)
+        try:
+            for n, pixels in enumerate(frames, start=1):
+                proc.stdin.write(pixels.tobytes())
+                progress.update(n)
+            proc.stdin.close()
+        except BrokenPipeError:
+            pass  # the encoder stopped: its status and message say why
+        except BaseException:
+            proc.kill()
+            proc.wait()
+            raise
+        if proc.wait() != 0:
+            errors.seek(0)
+            said = errors.read().decode(errors="replace").strip().splitlines()
+            raise OutputError(f"{tmp.name}: the video encoder failed ({said[-1] if said else f'status {proc.returncode}'})")
+    written, _ = imageio_ffmpeg.count_frames_and_secs(str(tmp))
+    if written != count:
+        raise OutputError(f"the video holds {written} of its {count} frames on reading it back; nothing was written")
 
 
-def _write_gif(frames, times, out: Path, progress) -> None:
-    from PIL import Image
-    # GIF stores delays in hundredths of a second: round the frame delay to that.
-    delay_ms = int(round(100.0 / _fps_of(times))) * 10
+def _write_gif(frames, fps: float, tmp: Path, progress) -> None:
+    """GIF frames streamed to the file as they are drawn: one fixed palette, delays in hundredths of a second."""
+    from PIL import GifImagePlugin, Image
+    delay_ms = int(round(100.0 / fps)) * 10
     palette = gif_palette()
-    images = []
-    for n, pixels in enumerate(frames, start=1):
-        images.append(Image.fromarray(pixels).quantize(palette=palette, dither=Image.Dither.NONE))
-        progress.update(n)
-    tmp = out.with_name(f".{out.name}.part")
-    try:
-        images[0].save(tmp, format="GIF", save_all=True, append_images=images[1:], duration=delay_ms, loop=0,
-                       disposal=1, optimize=False)
-    except BaseException:
-        tmp.unlink(missing_ok=True)
-        raise
-    os.replace(tmp, out)
+    with open(tmp, "wb") as f:
+        for n, pixels in enumerate(frames, start=1):
+            image = Image.fromarray(pixels).quantize(palette=palette, dither=Image.Dither.NONE)
+            if n == 1:
+                header, _ = GifImagePlugin.getheader(image, None, {"loop": 0, "duration": delay_ms})
+                f.writelines(header)
+            f.writelines(GifImagePlugin.getdata(image, duration=delay_ms, disposal=1))
+            progress.update(n)
+        f.write(b";")  # the GIF trailer
 
 
 def gif_palette():
@@ -152,50 +169,29 @@ def gif_palette():
     return image
 
 
-def _write_png_folder(frames, out: Path, progress) -> None:
+def _write_png_folder(frames, tmp: Path, progress) -> None:
     from PIL import Image
-    out.parent.mkdir(parents=True, exist_ok=True)
-    tmp = Path(tempfile.mkdtemp(prefix=f".{out.name}.", dir=out.parent))
-    try:
-        for n, pixels in enumerate(frames, start=1):
-            Image.fromarray(pixels).save(tmp / f"frame_{n:05d}.png")
-            progress.update(n)
-        if out.exists():
-            shutil.rmtree(out) if out.is_dir() else out.unlink()
-        os.replace(tmp, out)
-    except BaseException:
-        shutil.rmtree(tmp, ignore_errors=True)
-        raise
-
-
-def parse_size(text: str) -> tuple[int, int]:
-    try:
-        w, h = (int(v) for v in text.lower().split("x"))
-    except ValueError:
-        raise ValueError(f"--size expects WIDTHxHEIGHT such as 1280x720, got {text!r}") from None
-    if not (160 <= w <= 7680 and 120 <= h <= 4320):
-        raise ValueError(f"--size {text} is outside 160x120 to 7680x4320")
-    return w, h
+    for n, pixels in enumerate(frames, start=1):
+        Image.fromarray(pixels).save(tmp / f"frame_{n:05d}.png")
+        progress.update(n)
 
 
 def render(scene, args) -> int:
     """`roofbeat render`: export the preview headless."""
+    size = tuple(args.size)
+    fps = args.fps or scene.frame_rate
     try:
-        size = parse_size(args.size)
-        fps = args.fps or scene.frame_rate
-        if not 1 <= fps <= 120:
-            raise ValueError(f"--fps must be 1 to 120, got {fps}")
         times = frame_times(scene.duration, fps, args.t_from, args.t_to)
     except ValueError as exc:
-        raise OutputError(str(exc)) from None
+        raise UsageError(str(exc)) from None
+    if len(times) > MAX_FRAMES:
+        raise UsageError(f"{len(times):,} frames is more than one export writes ({MAX_FRAMES:,}): "
+                         "export a part with --from and --to, or fewer --fps")
     out = Path(args.output)
+    check_target(out, folder=out.suffix == "")
     if out.suffix.lower() == ".mp4" and even16(size) != size:
         size = even16(size)
         print(f"roofbeat: MP4 size rounded up to {size[0]}x{size[1]} (multiples of 16)", file=sys.stderr)
-    if out.suffix.lower() not in (".mp4", ".gif", "") :
-        raise OutputError(f"{out}: expected OUT.mp4, OUT.gif or a folder name for PNG frames")
-    if not out.parent.exists():
-        raise OutputError(f"{out}: the folder {out.parent} does not exist")
     playback = make_playback(scene)
     view = replace(ViewSettings(frame=args.frame), caption=True)
     try:

@@ -2,7 +2,6 @@
 
 from __future__ import annotations
 
-import os
 from pathlib import Path
 
 import numpy as np
@@ -70,13 +69,10 @@ def draw_envelope(ax, scene, sweep, summary) -> None:
 
 
 def _save(fig, path: Path) -> None:
-    tmp = path.with_name(f".{path.name}.part{path.suffix}")
-    try:
-        fig.savefig(tmp, dpi=150)
-    except BaseException:
-        tmp.unlink(missing_ok=True)
-        raise
-    os.replace(tmp, path)
+    from preview.outputs import OutputSet
+    with OutputSet() as outs:
+        tmp = outs.file(path)
+        fig.savefig(tmp, dpi=150, format=path.suffix.lstrip(".").lower())
 
 
 def envelope_plot(scene, sweep, summary, path: Path) -> None:

@@ -23,6 +23,10 @@ class OutputError(Exception):
     """An output that could not be written, or a run-time problem; the message says which and why."""
 
 
+class UsageError(Exception):
+    """An option value that cannot be used (exit 2); the message names the option and what it expects."""
+
+
 def scenes_folder() -> Path:
     """The bundled scenes, wherever roofbeat is installed."""
     return Path(str(resources.files("scenes")))

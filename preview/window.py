@@ -123,10 +123,15 @@ def save_screenshot(state: PlayerState, surface, folder: Path) -> Path:
     import pygame
 
     from preview.export import save_png
+    from preview.session import OutputError
     state.screenshots += 1
     name = f"roofbeat-{Path(state.playback.scene.source).stem}-{state.t:07.3f}s.png"
     path = Path(folder) / name
-    save_png(np.ascontiguousarray(pygame.surfarray.array3d(surface).transpose(1, 0, 2)), path)
+    try:
+        save_png(np.ascontiguousarray(pygame.surfarray.array3d(surface).transpose(1, 0, 2)), path)
+    except (OutputError, OSError) as exc:
+        state.view = replace(state.view, message=f"screenshot not saved: {exc}")
+        return None
     state.view = replace(state.view, message=f"screenshot saved: {path}")
     return path
 
@@ -167,6 +172,10 @@ class SceneWatcher:
         except SceneError as exc:
             state.view = replace(state.view, message="scene not re-loaded, still playing the last good one:\n"
                                  + exc.render())
+            return
+        except Exception as exc:  # a defect of ours: the window keeps the last good run and says so
+            state.view = replace(state.view, message="scene not re-loaded (internal error, please report it: "
+                                 f"{type(exc).__name__}: {exc}); still playing the last good one")
             return
         state.playback = playback
         state.t = min(state.t, scene.duration)
@@ -258,5 +267,5 @@ def _clip_instead(scene, args) -> int:
     from preview.export import render
     out = Path.cwd() / f"roofbeat-{Path(scene.source).stem}.gif"
     print(f"roofbeat: no display available; writing a short clip instead: {out}", file=sys.stderr)
-    return render(scene, Namespace(output=str(out), frame="split", t_from=None, t_to=min(scene.duration, 8.0),
-                                   fps=12, size="960x540"))
+    return render(scene, Namespace(output=out, frame="split", t_from=None, t_to=min(scene.duration, 8.0),
+                                   fps=12, size=(960, 540)))

@@ -127,9 +127,13 @@ def test_two_parameter_map(capsys, tmp_path):
 
 
 def test_bad_vary_is_a_clear_error(capsys):
-    assert main(["envelope", "--vary", "speed=fast..faster"]) == 4
+    # A bad option value is a usage error (exit 2) that names the option.
+    assert main(["envelope", "--vary", "speed=fast..faster"]) == 2
     assert "--vary" in capsys.readouterr().err
-    assert main(["envelope", "--vary", "colour=1..2"]) == 4
+    assert main(["envelope", "--vary", "colour=1..2"]) == 2
+    assert main(["envelope", "--vary", "mass=-10..80 kg"]) == 2
+    assert "30..200" in capsys.readouterr().err
+    assert main(["envelope", "--vary", "speed=10..inf km/h"]) == 2
 
 
 def test_risk_on_a_lumped_body_with_an_uncertain_drag_area(tmp_path, capsys):

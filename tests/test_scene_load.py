@@ -62,10 +62,14 @@ def test_overrides_apply_with_validation():
     assert scene.keyframes[0].speed == pytest.approx(110 / 3.6)
     assert scene.actions[0].duration == pytest.approx(3.0)
     err = problems_of(scene_text(), ["motion.speed=110", "actions[4].duration=1 s", "nonsense"])
-    paths = [p.path for p in err.problems]
-    assert "motion.speed" in paths
-    assert "--set actions[4].duration" in paths
-    assert "--set nonsense" in paths
+    by_origin = {p.origin: p for p in err.problems}
+    # Every problem is blamed on the --set argument that gave the value, not on a line of the file.
+    assert by_origin["motion.speed=110"].path == "motion.speed" and by_origin["motion.speed=110"].line is None
+    assert by_origin["actions[4].duration=1 s"].path == "actions[4].duration"
+    assert "nonsense" in by_origin
+    text = err.render()
+    assert "--set motion.speed=110: motion.speed: expected a speed with units" in text
+    assert "t.toml:" not in text.replace("t.toml: 3 problem(s)", "")
 
 
 def test_explicit_friction_overrides_surface():
