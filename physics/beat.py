@@ -153,7 +153,7 @@ def _masked_mean(values, mask):
 
 
 def build_timeline(scene: Scene) -> Timeline:
-    n = int(round(scene.duration / scene.step)) + 1
+    n = max(2, int(round(scene.duration / scene.step)) + 1)  # the engine's step is the first two times apart
     times = np.arange(n) * scene.step
     angles, facing = _angles_for_steps(scene, times)
     contact = _contact_for_steps(scene, times)
@@ -169,13 +169,29 @@ def build_timeline(scene: Scene) -> Timeline:
     all_gait = np.concatenate([gait, np.zeros(len(extra_angles), dtype=bool)])
     # One posture row per distinct posture: a long stand is one row, not thousands.
     key = np.column_stack([all_angles, all_facing, all_contact, all_gait])
-    unique, row_of = np.unique(key, axis=0, return_inverse=True)
-    row_of = row_of.reshape(-1)
+    unique, row_of = _distinct_rows(key)
     postures, hip = _postures(unique[:, :body.N_SEGMENTS], unique[:, body.N_SEGMENTS],
                               unique[:, body.N_SEGMENTS + 1].astype(np.int64), unique[:, body.N_SEGMENTS + 2] > 0.5,
                               scene.performer.stature)
     steps = _steps(scene, times, row_of[:n], hip[row_of[:n]], contact, gait, facing)
     return Timeline(steps, postures, _action_table(scene, row_of[n:]))
+
+
+def _distinct_rows(key: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """(distinct rows of key in order of first appearance, index of each row's distinct row).
+
+    Runs of equal rows (a long stand) are folded first; what is left is matched
+    by the rows' bytes, which is much faster than sorting rows of floats.
+    """
+    changed = np.ones(len(key), dtype=bool)
+    changed[1:] = np.any(key[1:] != key[:-1], axis=1)
+    starts = np.flatnonzero(changed)
+    index: dict[bytes, int] = {}
+    of_run = np.fromiter((index.setdefault(row.tobytes(), len(index)) for row in key[starts]), dtype=np.int64,
+                         count=starts.size)
+    first = np.zeros(len(index), dtype=np.int64)
+    first[of_run[::-1]] = starts[::-1]   # the first run of each distinct row
+    return key[first], of_run[np.cumsum(changed) - 1]
 
 
 def _postures(angles, facing, contact, gait, stature) -> tuple[np.ndarray, np.ndarray]:

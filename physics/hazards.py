@@ -26,7 +26,7 @@ def _shifted(scene: Scene, index: int, start: float) -> Scene:
 
 
 def _strikes(scene: Scene) -> bool:
-    events = simulate_batch(scene, variants(scene)).events
+    events = simulate_batch(scene, variants(scene), once=True).events
     return not math.isnan(events[0, Event.STRIKE]["time"])
 
 

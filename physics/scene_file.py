@@ -41,7 +41,9 @@ def decode(data: bytes, source: str) -> str:
         return data.decode("utf-8")
     except UnicodeDecodeError as exc:
         line = data[:exc.start].count(b"\n") + 1
-        raise SceneError(source, [Problem("(file)", f"not UTF-8 text: byte {exc.start} (0x{data[exc.start]:02x}) "
+        column = exc.start - (data.rfind(b"\n", 0, exc.start) + 1) + 1
+        raise SceneError(source, [Problem("(file)", f"not UTF-8 text: the byte 0x{data[exc.start]:02x} at line "
+                                                    f"{line}, column {column} (byte {exc.start + 1} of the file) "
                                                     "cannot be read; save the file as UTF-8", line)]) from None
 
 

@@ -117,8 +117,9 @@ class _Reader:
             probe = probe.rsplit(".", 1)[0] if "." in probe else ""
         return None
 
-    def fail(self, path: str, message: str) -> None:
-        origin = origin_of(path, self.origins)
+    def fail(self, path: str, message: str, also: str | None = None) -> None:
+        """A problem at `path`; `also`: another key the problem rests on, whose --set is blamed too."""
+        origin = origin_of(path, self.origins) or (origin_of(also, self.origins) if also else None)
         self.problems.append(Problem(path, message, None if origin else self.line_of(path), origin))
 
     def table(self, data: dict, key: str, path: str, required: bool = True) -> dict:
@@ -304,8 +305,9 @@ def _beat_length(r: _Reader, duration: float, rate: float, count: int) -> None:
 
 
 def _cars(consist: dict, r: _Reader) -> list[Car]:
+    """The consist, front to rear. A car with a problem keeps its place (with NaN numbers) so that
+    car numbers elsewhere in the scene are judged against the consist as written."""
     r.unknown(consist, "consist", ("roof", "cars"))
-    default_roof = consist.get("roof")
     cars, front = [], 0.0
     items = r.items(consist, "cars", "consist")
     for n, (path, item) in enumerate(items):
@@ -315,31 +317,43 @@ def _cars(consist: dict, r: _Reader) -> list[Car]:
         height = r.quantity(item, "roof_height", path, "length", positive=True, maximum=8.0)
         last = n == len(items) - 1
         gap = r.quantity(item, "gap", path, "length", default=0.0 if last else None, minimum=0.0, maximum=50.0)
-        surface_name = item.get("roof", default_roof)
-        surface = SURFACES.get(surface_name) if isinstance(surface_name, str) else None
-        explicit = {k: r.number(item, k, path, None, False, **_limits("roof_static"),
-                                uncertain_as=f"{ROOF_STATIC}{n}" if k == "roof_static" else None)
-                    for k in ("roof_static", "roof_kinetic", "body_static", "body_kinetic")}
-        if surface is None and (surface_name is not None or explicit["roof_static"] is None):
-            r.fail(f"{path}.roof", f"unknown roof surface {surface_name!r}; expected one of "
-                   f"{', '.join(repr(s) for s in SURFACES)} or roof_static and roof_kinetic")
-            continue
-        sole_s = explicit["roof_static"] if explicit["roof_static"] is not None else surface.sole_static
-        sole_k = explicit["roof_kinetic"] if explicit["roof_kinetic"] is not None else (
-            surface.sole_kinetic if surface else sole_s)
-        body_s = explicit["body_static"] if explicit["body_static"] is not None else (
-            surface.body_static if surface else sole_s)
-        body_k = explicit["body_kinetic"] if explicit["body_kinetic"] is not None else (
-            surface.body_kinetic if surface else sole_k)
-        if sole_k > sole_s or body_k > body_s:
-            r.fail(path, "kinetic friction must not exceed static friction")
-        if None in (length, height, gap):
-            continue
+        surface, friction = _roof(consist, item, path, n, r)
         name = r.text(item, "name", path, default=f"car {n + 1}")
-        cars.append(Car(str(name), length, height, gap, surface.name if surface else "explicit", sole_s, sole_k,
-                        body_s, body_k, front, front - length))
+        length, height, gap = (math.nan if v is None else v for v in (length, height, gap))
+        cars.append(Car(name, length, height, gap, surface, *friction, front, front - length))
         front -= length + gap
     return cars
+
+
+def _roof(consist: dict, item: dict, path: str, n: int, r: _Reader) -> tuple[str, tuple]:
+    """(surface name, (sole static, sole kinetic, body static, body kinetic)) of a car's roof.
+
+    A named surface gives all four; explicit numbers override it. A roof the car
+    inherits from consist.roof is blamed there, once.
+    """
+    own = "roof" in item
+    surface_name = item["roof"] if own else consist.get("roof")
+    surface = SURFACES.get(surface_name) if isinstance(surface_name, str) else None
+    explicit = {k: r.number(item, k, path, None, False, **_limits("roof_static"),
+                            uncertain_as=f"{ROOF_STATIC}{n}" if k == "roof_static" else None)
+                for k in ("roof_static", "roof_kinetic", "body_static", "body_kinetic")}
+    nan = (math.nan,) * 4
+    if surface is None and (surface_name is not None or explicit["roof_static"] is None):
+        where = f"{path}.roof" if own or "roof" not in consist else "consist.roof"
+        if not any(p.path == where for p in r.problems):
+            r.fail(where, f"unknown roof surface {_short(surface_name)}; expected one of "
+                          f"{', '.join(repr(s) for s in SURFACES)} or roof_static and roof_kinetic")
+        return "explicit", nan
+    sole_s = explicit["roof_static"] if explicit["roof_static"] is not None else surface.sole_static
+    sole_k = explicit["roof_kinetic"] if explicit["roof_kinetic"] is not None else (
+        surface.sole_kinetic if surface else sole_s)
+    body_s = explicit["body_static"] if explicit["body_static"] is not None else (
+        surface.body_static if surface else sole_s)
+    body_k = explicit["body_kinetic"] if explicit["body_kinetic"] is not None else (
+        surface.body_kinetic if surface else sole_k)
+    if sole_k > sole_s or body_k > body_s:
+        r.fail(path, "kinetic friction must not exceed static friction")
+    return (surface.name if surface else "explicit"), (sole_s, sole_k, body_s, body_k)
 
 
 def _motion(motion: dict, r: _Reader) -> list[Keyframe]:
@@ -444,7 +458,8 @@ def _actions(raw: dict, r: _Reader, cars: list[Car], performer: Performer | None
         if kind is None or duration is None:
             continue
         if transition > duration:
-            r.fail(f"{path}.transition", "must not be longer than the action's duration")
+            r.fail(f"{path}.transition", f"{transition:g} s is longer than the action's duration "
+                                         f"({duration:g} s)", also=f"{path}.duration")
         toward = 1 if r.choice(item, "toward", path, ("front", "rear"), default="front") == "front" else -1
         speed, gait_friction = 0.0, 0.0
         if kind in GAIT_KINDS:

@@ -174,7 +174,7 @@ def variants(scene: Scene, count: int = 1) -> Variants:
     return Variants(np.repeat(base_params(scene), count), np.ones((count, len(scene.cars))))
 
 
-@functools.lru_cache(maxsize=16)
+@functools.lru_cache(maxsize=4)
 def prepare(scene: Scene) -> tuple[Timeline, Inputs]:
     """The state-independent timeline and kernel inputs of a scene, built once.
 
@@ -183,6 +183,11 @@ def prepare(scene: Scene) -> tuple[Timeline, Inputs]:
     scene is frozen and hashable, so they all share this work. The arrays are
     read by the kernel, never written.
     """
+    return build_inputs(scene)
+
+
+def build_inputs(scene: Scene) -> tuple[Timeline, Inputs]:
+    """The timeline and kernel inputs of a scene, built afresh (for scenes made to be run once)."""
     timeline = build_timeline(scene)
     cars = _table(CAR, scene.cars)
     structures = _table(STRUCTURE, scene.structures)
@@ -265,9 +270,10 @@ def simulate(scene: Scene, variant: Variants | None = None) -> Trajectory:
     return Trajectory(scene, timeline, record, events[0], outcomes[0], v)
 
 
-def simulate_batch(scene: Scene, v: Variants) -> BatchResult:
-    """Simulate many variants of one beat; no per-step record."""
-    timeline, inputs = prepare(scene)
+def simulate_batch(scene: Scene, v: Variants, once: bool = False) -> BatchResult:
+    """Simulate many variants of one beat; no per-step record. `once`: a scene made to be run
+    once (a trial of a search), whose inputs are not kept for later runs."""
+    timeline, inputs = build_inputs(scene) if once else prepare(scene)
     events, outcomes = empty_events(len(v)), empty_outcomes(len(v), len(scene.actions))
     run_kernel(v, inputs, events, outcomes, np.zeros(0, RECORD), chunks=4 * _threads())
     return BatchResult(events, outcomes, v, timeline.size)

@@ -77,6 +77,7 @@ class OutputSet:
         check_target(final, folder=False)
         fd, name = tempfile.mkstemp(prefix=f".{final.name}.", suffix=".part" + final.suffix, dir=final.parent)
         os.close(fd)
+        os.chmod(name, 0o666 & ~_umask())   # as an ordinary new file, not mkstemp's private 0600
         self._pending.append((Path(name), final, False))
         return Path(name)
 
@@ -85,6 +86,7 @@ class OutputSet:
         final = Path(final)
         check_target(final, folder=True)
         tmp = Path(tempfile.mkdtemp(prefix=f".{final.name}.", suffix=".part", dir=final.parent))
+        os.chmod(tmp, 0o777 & ~_umask())
         (tmp / EXPORT_MARKER).write_text("PNG frames exported by roofbeat; roofbeat may replace this folder.\n")
         self._pending.append((tmp, final, True))
         return tmp
@@ -127,6 +129,12 @@ class OutputSet:
             if backup is not None:
                 _remove(backup)
         self._pending.clear()
+
+
+def _umask() -> int:
+    mask = os.umask(0)
+    os.umask(mask)
+    return mask
 
 
 def _remove(path: Path) -> None:

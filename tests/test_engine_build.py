@@ -149,3 +149,23 @@ def test_the_cache_folder_follows_every_engine_source(tmp_path, monkeypatch):
     (copy / "stance.py").write_text((copy / "stance.py").read_text() + "\n# an edit\n")
     assert jit.source_digest() != before
     assert jit.CACHE_FOLDER is None or jit.CACHE_FOLDER.name.startswith("engine-")
+
+
+def test_the_kernel_reads_inside_its_arrays(tmp_path):
+    # Every bundled scene and the shortest beat the loader accepts, single and
+    # batched, through a kernel compiled with numba's bounds checking on (its own
+    # cache, so the checked kernel is never mixed with the fast one).
+    code = ("from physics.scene_load import load_scene, parse_scene\n"
+            "from physics.simulation import simulate, simulate_batch, variants\n"
+            "from tests.conftest import SCENES, scene_text\n"
+            "scenes = [load_scene(p) for p in SCENES]\n"
+            "scenes.append(parse_scene(scene_text(actions=['do = \"stand\"\\nduration = \"10 ms\"\\n"
+            "transition = \"0 s\"']), 'two steps'))\n"
+            "for s in scenes:\n"
+            "    simulate(s)\n"
+            "    simulate_batch(s, variants(s, 3))\n"
+            "print('checked', len(scenes))\n")
+    env = dict(os.environ, NUMBA_BOUNDSCHECK="1", ROOFBEAT_CACHE_DIR=str(tmp_path), PYTHONPATH=str(REPO))
+    run = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, env=env, cwd=REPO, timeout=600)
+    assert run.returncode == 0, run.stderr
+    assert f"checked {len(SCENES) + 1}" in run.stdout

@@ -43,7 +43,7 @@ def test_list_positions_are_one_based():
 def test_unknown_keys_and_surfaces_are_named():
     err = problems_of(scene_text(roof="marble", extra='[safety]\ngrip = 2'))
     messages = {p.path: p.message for p in err.problems}
-    assert "unknown roof surface 'marble'" in messages["consist.cars[1].roof"]
+    assert "unknown roof surface 'marble'" in messages["consist.roof"]  # blamed where it is written
     assert "unknown key" in messages["safety.grip"]
 
 
