@@ -31,6 +31,7 @@ class Timeline:
     steps: np.ndarray     # (T,) records.STEP
     postures: np.ndarray  # (R,) records.POSTURE
     actions: np.ndarray   # (A,) records.ACTION
+    lying_row: int        # the posture of a body lying on the ground after a fall
 
     @property
     def times(self) -> np.ndarray:
@@ -163,9 +164,14 @@ def build_timeline(scene: Scene) -> Timeline:
         in_air = action.air_posture if action.kind == "jump" else "upright"
         extra_angles += [body.POSTURES[in_air], body.POSTURES["crouch" if action.kind == "jump" else "stand"]]
         extra_facing += [action.toward if action.kind == "jump" else scene.performer.facing] * 2
+    # Last, the body lying flat on the ground after a fall from the consist.
+    extra_angles.append(body.POSTURES["prone"])
+    extra_facing.append(scene.performer.facing)
+    extra_contact = np.full(len(extra_angles), Contact.FEET, dtype=np.int64)
+    extra_contact[-1] = Contact.BODY
     all_angles = np.vstack([angles, np.array(extra_angles, float)])
     all_facing = np.concatenate([facing, np.array(extra_facing, float)])
-    all_contact = np.concatenate([contact, np.full(len(extra_angles), Contact.FEET, dtype=np.int64)])
+    all_contact = np.concatenate([contact, extra_contact])
     all_gait = np.concatenate([gait, np.zeros(len(extra_angles), dtype=bool)])
     # One posture row per distinct posture: a long stand is one row, not thousands.
     key = np.column_stack([all_angles, all_facing, all_contact, all_gait])
@@ -174,7 +180,7 @@ def build_timeline(scene: Scene) -> Timeline:
                               unique[:, body.N_SEGMENTS + 1].astype(np.int64), unique[:, body.N_SEGMENTS + 2] > 0.5,
                               scene.performer.stature)
     steps = _steps(scene, times, row_of[:n], hip[row_of[:n]], contact, gait, facing)
-    return Timeline(steps, postures, _action_table(scene, row_of[n:]))
+    return Timeline(steps, postures, _action_table(scene, row_of[n:-1]), int(row_of[-1]))
 
 
 def _distinct_rows(key: np.ndarray) -> tuple[np.ndarray, np.ndarray]:

@@ -146,6 +146,7 @@ BODY = np.dtype([
     ("axial_area", "f8", (N_SEGMENTS,)),      # Cd * end area per segment, m^2
     ("lumped", "u1"),                         # 1: one drag area at the centre of mass (a hand calculation)
     ("lumped_drag_area", "f8"),               # standing Cd*A of the lumped body, m^2
+    ("lying_row", "i8"),                      # posture row of the body lying on the ground after a fall
 ])
 
 Inputs = namedtuple("Inputs", "steps postures actions cars structures lines body")

@@ -24,6 +24,12 @@ class Car:
     front_x: float  # car frame, m
     rear_x: float
 
+    @property
+    def body_bottom(self) -> float:
+        """Height above rail (m) of the underside of the car body as drawn: the underframe of a coach
+        or wagon is about 1.1 m up (from memory), lower on a low flat car."""
+        return min(1.1, 0.3 * self.roof_height)
+
 
 @dataclass(frozen=True)
 class Keyframe:

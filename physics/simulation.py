@@ -198,6 +198,7 @@ def build_inputs(scene: Scene) -> tuple[Timeline, Inputs]:
     drag["axial_area"] = constants.axial_area
     drag["lumped"] = scene.performer.body_model == "lumped"
     drag["lumped_drag_area"] = scene.performer.drag_area if scene.performer.body_model == "lumped" else 0.0
+    drag["lying_row"] = timeline.lying_row
     inputs = Inputs(timeline.steps, timeline.postures, timeline.actions, cars, structures, lines, drag)
     for table in inputs:
         table.flags.writeable = False

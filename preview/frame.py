@@ -170,7 +170,7 @@ def draw_consist(canvas, scene, cam: Camera) -> None:
     canvas.tag = "consist"
     for car in scene.cars:
         x0, roof = cam.to_screen(car.rear_x, car.roof_height)
-        x1, floor = cam.to_screen(car.front_x, min(1.1, car.roof_height * 0.3))
+        x1, floor = cam.to_screen(car.front_x, car.body_bottom)
         canvas.rect(x0, roof, x1 - x0, floor - roof, CAR_BODY)
         canvas.rect(x0, roof, x1 - x0, floor - roof, CAR_EDGE, width=2)
         canvas.line((x0, roof), (x1, roof), INK, 3)

@@ -6,7 +6,8 @@ import math
 
 from physics.engine.air_load import rotate
 from physics.engine.beat_state import Beat, State, failed, travel, with_mode
-from physics.engine.flight import Flight, crossing, inside_margin, land, rk4, take_off, touchdown_car
+from physics.engine.flight import (Flight, crossing, inside_margin, kept_out_of_cars, land, on_the_ground, rk4,
+                                   take_off, touchdown_car)
 from physics.engine.jit import kernel, small
 from physics.engine.outcome import note_event, note_landing_margin, note_target, note_touchdown
 from physics.engine.overhead import anything_overhead, overhead_step
@@ -37,8 +38,12 @@ def flight_iteration(v, inputs, env, state, act, out):
     if car >= 0:
         return touch_down(v, inputs, env, State(beat, state.slide, state.balance, fl), car, cross, act, out)
     beat, new = check_fall(v, inputs, env, beat, fl, new, act, out)
+    new, unused = kept_out_of_cars(inputs.cars, fl, new)
     if new.z + new.low_dz <= 0.0:
-        beat = with_mode(beat, Mode.GONE)  # on the ground beside or between the cars
+        # On the ground beside or between the cars: it stays where it came down, in the ground frame.
+        lying_row = inputs.body[0].lying_row
+        new = on_the_ground(new, inputs.postures[lying_row], lying_row, new.x + travel(env, v.dt))
+        beat = with_mode(beat, Mode.GONE)
     return State(beat, state.slide, state.balance, new)
 
 
@@ -70,7 +75,8 @@ def check_fall(v, inputs, env, beat, before, after, act, out):
     note_event(out.events, v.b, Event.FALL, env.t + tau, cross.x + before.low_dx, travel(env, tau), cars,
                low - (after.z + after.low_dz), 0.0)
     note_target(out.events, v.b, Event.FALL, env.t + tau, declared)
-    fallen = Flight(after.x, after.z, after.vx, after.vz, after.row, after.lean, after.low_dx, after.low_dz, True)
+    fallen = Flight(after.x, after.z, after.vx, after.vz, after.row, after.lean, after.low_dx, after.low_dz,
+                    after.left, after.right, True, after.ground_x)
     return failed(beat), fallen
 
 
@@ -107,5 +113,7 @@ def touch_down(v, inputs, env, state, car, cross, act, out):
         beat = failed(beat)
     mode = Mode.SLIDING.value if ld.hard else Mode.PLANTED.value
     slide = Slide(ld.pivot, ld.speed if ld.hard else 0.0, 0.0, state.slide.gait_phase)
-    return State(Beat(mode, beat.jumped, act, beat.assessing, False), slide, after_landing(state.balance),
-                 state.flight)
+    # After a failure the performer keeps the posture they landed in.
+    plan_row = beat.plan_row if beat.assessing else action.landed_row
+    return State(Beat(mode, beat.jumped, act, beat.assessing, False, beat.failed_act, plan_row), slide,
+                 after_landing(state.balance), state.flight)

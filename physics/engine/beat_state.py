@@ -20,10 +20,16 @@ Variant = namedtuple("Variant", "b params roof_scale drag mass weight dt buf_err
 # Where the results go; `recording` when this variant fills `record`.
 Outputs = namedtuple("Outputs", "events outcomes record recording")
 # Progress of the beat: the body's Mode, the last jump taken and landed (action
-# indices, -1 none), whether the beat is still assessed (no failure yet), and
+# indices, -1 none), whether the beat is still assessed (no failure yet),
 # whether the body left the roof at t_k itself (a lift), so its flight starts
-# within this step.
-Beat = namedtuple("Beat", "mode jumped landed assessing leaves_now")
+# within this step; after a failure, the action it happened in and the posture
+# row the performer keeps (-1 before).
+Beat = namedtuple("Beat", "mode jumped landed assessing leaves_now failed_act plan_row")
+# What the performer does at a step: the posture row, the commanded gait speed
+# (m/s), push (fraction of weight) and rate (steps/s), whether a posture change
+# is under way. After a failure the performer no longer follows the beat: the
+# posture stays as it was and the gait stops.
+Plan = namedtuple("Plan", "row gait_speed gait_friction gait_rate settling")
 State = namedtuple("State", "beat slide balance flight")
 # Step k: its time (s), the consist's speed (m/s), acceleration (m/s^2) and
 # travel (m), the ambient wind (m/s), the next step's speed and whether this is
@@ -34,19 +40,25 @@ Env = namedtuple("Env", "k t speed accel distance wind_x wind_y next_speed last"
 @small
 def with_mode(beat, mode):
     """The beat with the body in `mode` (a records.Mode)."""
-    return Beat(mode.value, beat.jumped, beat.landed, beat.assessing, False)
+    return Beat(mode.value, beat.jumped, beat.landed, beat.assessing, False, beat.failed_act, beat.plan_row)
 
 
 @small
 def failed(beat):
     """The beat after a failure: no longer assessed."""
-    return Beat(beat.mode, beat.jumped, beat.landed, False, beat.leaves_now)
+    return Beat(beat.mode, beat.jumped, beat.landed, False, beat.leaves_now, beat.failed_act, beat.plan_row)
 
 
 @small
 def lifted(beat):
     """The beat with the body lifted off the roof at t_k: a failure, in the air from this step."""
-    return Beat(Mode.FLIGHT.value, beat.jumped, beat.landed, False, True)
+    return Beat(Mode.FLIGHT.value, beat.jumped, beat.landed, False, True, beat.failed_act, beat.plan_row)
+
+
+@small
+def after_failure(beat, act, row):
+    """The beat after a failure in action `act`, the performer keeping posture `row` (-1: not yet)."""
+    return Beat(beat.mode, beat.jumped, beat.landed, beat.assessing, beat.leaves_now, act, row)
 
 
 @small

@@ -10,12 +10,12 @@ stop there) while the body's motion goes on.
 
 from __future__ import annotations
 
-import numpy as np
+import math
 
 from physics import G
 from physics.engine.air_load import body_drag
 from physics.engine.airborne import flight_iteration
-from physics.engine.beat_state import Beat, Env, Outputs, State, Variant
+from physics.engine.beat_state import Beat, Env, Outputs, Plan, State, Variant, after_failure
 from physics.engine.flight import Flight
 from physics.engine.jit import entry, kernel, small
 from physics.engine.on_roof import roof_iteration
@@ -37,10 +37,36 @@ def environment(p, step, next_step, tb, k, last):
     return env, tb
 
 
+@kernel
+def planned(inputs, state, step, act):
+    """(state, plan) for step k: what the beat prescribes, or after a failure what the performer does:
+    no more actions and no gait; a change of posture under way is finished, then the posture held."""
+    beat = state.beat
+    row = step.row
+    if beat.landed == act and inputs.actions[act].code == ActionCode.JUMP:
+        row = inputs.actions[act].landed_row
+    if not beat.assessing:
+        if beat.failed_act < 0:
+            beat = after_failure(beat, act, -1)
+        if beat.plan_row < 0 and not (step.settling and act == beat.failed_act):
+            beat = after_failure(beat, beat.failed_act, row)
+        state = State(beat, state.slide, state.balance, state.flight)
+        if beat.plan_row < 0:
+            return state, Plan(row, 0.0, 0.0, 0.0, True)
+        return state, Plan(beat.plan_row, 0.0, 0.0, 0.0, False)
+    if step.reset and (beat.mode == Mode.PLANTED or beat.mode == Mode.SLIDING) and row == step.row:
+        # The pivot moves within the body (feet to knees) or the performer
+        # turns: keep the hip where it was and restart the balance.
+        s = state.slide
+        state = State(beat, Slide(s.x + step.pivot_shift, s.u, s.udot, s.gait_phase), restart(state.balance),
+                      state.flight)
+    return state, Plan(row, step.gait_speed, step.gait_friction, step.gait_rate, step.settling != 0)
+
+
 @small
 def start_state(p):
-    return State(Beat(Mode.PLANTED.value, -1, -1, True, False), Slide(p.start_x, 0.0, 0.0, 0.0), upright(),
-                 Flight(0.0, 0.0, 0.0, 0.0, 0, 0.0, 0.0, 0.0, False))
+    return State(Beat(Mode.PLANTED.value, -1, -1, True, False, -1, -1), Slide(p.start_x, 0.0, 0.0, 0.0), upright(),
+                 Flight(0.0, 0.0, 0.0, 0.0, 0, 0.0, 0.0, 0.0, 0.0, 0.0, False, math.nan))
 
 
 @entry
@@ -73,21 +99,13 @@ def run_variants(params, roof_scale, inputs, first, last, events, outcomes, reco
             step = steps[k]
             env, tb = environment(p, step, steps[min(k + 1, n - 1)], tb, k, k == n - 1)
             act = step.action
-            row = step.row
+            state, plan = planned(inputs, state, step, act)
             beat = state.beat
-            if beat.landed == act and inputs.actions[act].code == ActionCode.JUMP:
-                row = inputs.actions[act].landed_row
-            elif step.reset and (beat.mode == Mode.PLANTED or beat.mode == Mode.SLIDING):
-                # The pivot moves within the body (feet to knees) or the
-                # performer turns: keep the hip where it was, restart the balance.
-                s = state.slide
-                state = State(beat, Slide(s.x + step.pivot_shift, s.u, s.udot, s.gait_phase), restart(state.balance),
-                              state.flight)
             if beat.mode == Mode.GONE:
                 if out.recording:
                     record_flight(record[k], env, state.flight, inputs.postures[state.flight.row], v.drag, beat.mode)
                 continue
             if beat.mode != Mode.FLIGHT:
-                state = roof_iteration(v, inputs, env, state, row, step, act, out)
+                state = roof_iteration(v, inputs, env, state, plan, act, out)
             if state.beat.mode == Mode.FLIGHT and (beat.mode == Mode.FLIGHT or state.beat.leaves_now):
                 state = flight_iteration(v, inputs, env, state, act, out)

@@ -7,6 +7,7 @@ from __future__ import annotations
 import math
 from collections import namedtuple
 
+from physics.engine.air_load import rotate
 from physics.engine.beat_state import Beat, State, failed, lifted, travel, with_mode
 from physics.engine.flight import take_off
 from physics.engine.jit import kernel, small
@@ -33,28 +34,30 @@ Seen = namedtuple("Seen", "mode row x roof_z lean rate u wx air normal grip mu_s
 
 
 @small
-def footing(v, inputs, beat, bal, slide, row, step):
+def footing(v, inputs, beat, bal, slide, plan):
+    row = plan.row
     posture = inputs.postures[row]
     cars = inputs.cars
     contact = Contact.BODY.value if bal.lying else posture.contact
     car = car_at(cars, slide.x)
     mu_s, mu_k = roof_friction(cars, car, contact, v.roof_scale)
-    gait_v = step.gait_speed if beat.mode == Mode.PLANTED and not bal.lying else 0.0
+    gait_v = plan.gait_speed if beat.mode == Mode.PLANTED and not bal.lying else 0.0
     return Footing(row, contact, car, cars[car if car >= 0 else 0].roof_height, gait_v,
                    posture.support_lo - bal.ext_lo, posture.support_hi + bal.ext_hi, mu_s, mu_k)
 
 
 @kernel
-def roof_iteration(v, inputs, env, state, row, step, act, out):
+def roof_iteration(v, inputs, env, state, plan, act, out):
     beat, slide = state.beat, state.slide
-    ft = footing(v, inputs, beat, state.balance, slide, row, step)
+    ft = footing(v, inputs, beat, state.balance, slide, plan)
+    row = plan.row
     posture = inputs.postures[row]
     wx = env.wind_x - (env.speed + slide.u + ft.gait_v)
     bal = state.balance
     # During a deliberate change of posture the performer knows where their own
     # body is: the braced load follows the posture, so the balance resumes from
     # the posture reached and not from one the anticipation is still catching up with.
-    if step.settling and beat.mode == Mode.PLANTED:
+    if plan.settling and beat.mode == Mode.PLANTED:
         bal = restart(bal)
     restart_now = bal.restart
     bal, load, target = settle(bal, posture, wx, env.wind_y, v.mass, env.accel + slide.udot, v.drag,
@@ -67,9 +70,9 @@ def roof_iteration(v, inputs, env, state, row, step, act, out):
         return lift_off(v, inputs, env, State(beat, slide, bal, state.flight), ft, load, out)
     was_assessing = beat.assessing
     lean_k, rate_k = bal.lean, bal.rate
-    beat, bal, xcom, margin = balance(v, inputs, env, beat, bal, load, target, ft, step.settling, slide.x, out)
-    beat, grip, moved = grip_and_slide(v, inputs, env, beat, bal, load, ft, step, slide, out)
-    lean_required = 0.0 if step.settling else target.required
+    beat, bal, xcom, margin = balance(v, inputs, env, beat, bal, load, target, ft, plan.settling, slide.x, out)
+    beat, grip, moved = grip_and_slide(v, inputs, env, beat, bal, load, ft, plan, slide, out)
+    lean_required = 0.0 if plan.settling else target.required
     air = load.air
     if was_assessing and beat.mode != Mode.DOWN and not bal.lying:
         note_stance(out.outcomes[v.b, act], ft.mu_static, grip.demand, margin, grip.static_normal / v.weight,
@@ -84,7 +87,7 @@ def roof_iteration(v, inputs, env, state, row, step, act, out):
     if beat.mode == Mode.GONE:
         # Struck: the pose at the strike stays where it was.
         return State(beat, moved, bal, take_off(posture, row, lean_k, slide.x, ft.roof_z, 0.0, 0.0))
-    return leave_roof(v, inputs, env, State(beat, moved, bal, state.flight), load, ft, step, act, out)
+    return leave_roof(v, inputs, env, State(beat, moved, bal, state.flight), load, ft, plan, act, out)
 
 
 @small
@@ -120,16 +123,16 @@ def balance(v, inputs, env, beat, bal, load, target, ft, settling, x, out):
         note_event(out.events, v.b, Event.TOPPLE, env.t, x, env.distance, inputs.cars, xcom, judged.bound)
         beat = with_mode(failed(beat), Mode.DOWN)
     if beat.mode == Mode.DOWN:
-        bal = lie_down(bal)
+        bal = lie_down(bal, posture)
     return beat, bal, xcom, margin
 
 
 @kernel
-def grip_and_slide(v, inputs, env, beat, bal, load, ft, step, slide, out):
+def grip_and_slide(v, inputs, env, beat, bal, load, ft, plan, slide, out):
     """Grip demand, a slip if it beats static friction, and the contact's move: (beat, grip, slide at t_(k+1))."""
-    phase = slide.gait_phase + 2.0 * math.pi * step.gait_rate * v.dt
+    phase = slide.gait_phase + 2.0 * math.pi * plan.gait_rate * v.dt
     walking = beat.mode == Mode.PLANTED and not bal.lying
-    push = gait_force(phase, step.gait_friction, v.weight) if walking else 0.0
+    push = gait_force(phase, plan.gait_friction, v.weight) if walking else 0.0
     grip = grip_demand(load.air, v.mass, env.accel, push)
     x, u, udot = slide.x, slide.u, slide.udot
     if beat.mode == Mode.PLANTED or (beat.mode == Mode.DOWN and bal.lying and u == 0.0):
@@ -153,18 +156,21 @@ def grip_and_slide(v, inputs, env, beat, bal, load, ft, step, slide, out):
 
 
 @kernel
-def leave_roof(v, inputs, env, state, load, ft, step, act, out):
-    """At t_(k+1): off an edge the body flies from where it is; a jump takes off when it is ready."""
+def leave_roof(v, inputs, env, state, load, ft, plan, act, out):
+    """At t_(k+1): off an edge the body flies from where it is, a toppled body whose centre of mass
+    has gone past a car end goes over it, and a jump takes off when it is ready."""
     beat, bal, slide = state.beat, state.balance, state.slide
-    if car_at(inputs.cars, slide.x) < 0:
-        fl = take_off(inputs.postures[ft.row], ft.row, bal.lean, slide.x, ft.roof_z,
-                      slide.u + ft.gait_v + bal.rate * load.com_z, -bal.rate * load.com_x)
+    posture = inputs.postures[ft.row]
+    if car_at(inputs.cars, slide.x) < 0 or (beat.mode == Mode.DOWN and over_an_end(inputs.cars, posture, bal, slide)):
+        fl = take_off(posture, ft.row, bal.lean, slide.x, ft.roof_z, slide.u + ft.gait_v + bal.rate * load.com_z,
+                      -bal.rate * load.com_x)
         return State(with_mode(beat, Mode.FLIGHT), slide, bal, fl)
     action = inputs.actions[act]
-    if action.code != ActionCode.JUMP or beat.jumped == act or beat.mode != Mode.PLANTED:
+    if (action.code != ActionCode.JUMP or beat.jumped == act or beat.mode != Mode.PLANTED
+            or not beat.assessing):
         return state
     t_next = env.t + v.dt
-    if step.gait_speed != 0.0:
+    if plan.gait_speed != 0.0:
         direction = 1.0 if action.takeoff_vx >= 0 else -1.0
         ready = (slide.x - action.takeoff_x) * direction >= 0.0
     else:
@@ -177,4 +183,12 @@ def leave_roof(v, inputs, env, state, load, ft, step, act, out):
     speed = math.hypot(action.takeoff_vx, action.takeoff_vz) * scale
     note_event(out.events, v.b, Event.TAKEOFF, t_next, slide.x, travel(env, v.dt), inputs.cars, speed, 0.0)
     note_takeoff(out.outcomes[v.b, act], t_next, slide.x)
-    return State(Beat(Mode.FLIGHT.value, act, beat.landed, beat.assessing, False), slide, bal, fl)
+    return State(Beat(Mode.FLIGHT.value, act, beat.landed, beat.assessing, False, beat.failed_act, beat.plan_row),
+                 slide, bal, fl)
+
+
+@kernel
+def over_an_end(cars, posture, bal, slide):
+    """Whether a falling or lying body's centre of mass is past the end of the roof it is on."""
+    cx, unused = rotate(posture.com_x, posture.com_z, math.cos(bal.lean), math.sin(bal.lean))
+    return car_at(cars, slide.x + cx) < 0

@@ -40,10 +40,13 @@ def record_no_contact(r):
 
 @kernel
 def record_flight(r, env, fl, posture, drag, mode):
-    """The body in the air (or out of the run, mode GONE) at t_k; in the air with its air load."""
+    """The body in the air (or out of the run, mode GONE) at t_k; in the air with its air load.
+
+    A body lying on the ground stays at its ground-frame place: the consist moves on past it.
+    """
     record_common(r, env, mode, fl.row, fl.lean)
     record_no_contact(r)
-    r.flight_x = fl.x
+    r.flight_x = fl.ground_x - env.distance if fl.ground_x == fl.ground_x else fl.x
     r.flight_z = fl.z
     r.flight_vx = fl.vx
     r.flight_vz = fl.vz

@@ -251,11 +251,25 @@ def judge_support(bal, mode, contact_feet, xcom, margin, lo, hi, recovery_step, 
     return BalanceStep(new, xcom, margin, happened, bound)
 
 
-@small
-def lie_down(bal):
-    """A toppled body past LIE_ANGLE lies on the roof and stops turning."""
-    if abs(bal.lean) <= LIE_ANGLE:
+@kernel
+def lie_down(bal, posture):
+    """A toppled body lies on the roof and stops turning once a leaning point touches the roof, or at LIE_ANGLE."""
+    if abs(bal.lean) < LIE_ANGLE and lowest_leaning_point(posture, bal.lean) > 0.0:
         return bal
-    lean = LIE_ANGLE if bal.lean > 0 else -LIE_ANGLE
+    lean = max(-LIE_ANGLE, min(LIE_ANGLE, bal.lean))
     return Balance(lean, 0.0, 0.0, bal.brace_a, bal.brace_b, bal.brace_lift, bal.ext_lo, bal.ext_hi,
                    bal.step_used, bal.outside, bal.restart, True)
+
+
+@kernel
+def lowest_leaning_point(posture, lean):
+    """Height above the roof (m) of the lowest point of the segments that lean with the body."""
+    c = math.cos(lean)
+    s = math.sin(lean)
+    low = math.inf
+    for i in range(posture.ends.shape[0]):
+        if posture.rotates[i]:
+            for j in range(2):
+                unused, z = rotate(posture.ends[i, j, 0], posture.ends[i, j, 1], c, s)
+                low = min(low, z)
+    return low
