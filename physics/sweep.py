@@ -177,7 +177,7 @@ def sweep_1d(scene: Scene, name: str, start: float, stop: float, points: int = 4
     codes = verdict_codes(scene, result.events, result.outcomes)
     tol = tolerance or 1e-3 * (stop - start)
     thresholds = []
-    for level, label in ((1, "holds with factors"), (2, "holds at all")):
+    for label, level in LEVELS:
         ok = codes < level
         for i in np.nonzero(ok[:-1] != ok[1:])[0]:
             thresholds.append(_refine(scene, name, values[i], values[i + 1], level, label, tol))
@@ -202,6 +202,46 @@ def _refine(scene, name, a, b, level, label, tol) -> Threshold:
     codes = verdict_codes(scene, just.events, just.outcomes)
     kinds = first_failure_kinds(just.events)
     return Threshold(label, value, tol, NAMES[codes[0]], NAMES[codes[1]], kinds[1] or kinds[0])
+
+
+# The two levels a sweep's limits are given for: the verdict codes that count as holding at each.
+LEVELS = (("holds with the required factors", 1), ("holds at all", 2))
+
+
+@dataclass(frozen=True)
+class Limit:
+    """How far a swept value can go and still hold, at one level."""
+
+    level: str                  # "holds with the required factors" or "holds at all"
+    value: float | None         # the highest value that holds (SI), refined; None when none in the range holds
+    bound: bool                 # the sweep's own end still holds: the limit lies beyond it, this is a bound
+    all_below: bool             # every swept value below it holds too
+    failure_beyond: str | None  # the first failure just above it
+
+
+def limits(sweep: Sweep) -> list[Limit]:
+    """The highest value that holds, for each level: the one reading of a sweep that `envelope`,
+    the brief and the plots all use. With the factors never exceeds at all."""
+    out = []
+    for label, level in LEVELS:
+        ok = sweep.codes < level
+        if not ok.any():
+            out.append(Limit(label, None, False, False, None))
+            continue
+        top = int(np.flatnonzero(ok)[-1])
+        all_below = bool(ok[:top + 1].all())
+        if top == len(ok) - 1:
+            out.append(Limit(label, float(sweep.values[-1]), True, all_below, None))
+            continue
+        edge = [t for t in sweep.thresholds if t.kind == label and sweep.values[top] <= t.value
+                <= sweep.values[top + 1]]
+        value = edge[0].value if edge else float(sweep.values[top])
+        out.append(Limit(label, value, False, all_below, edge[0].failure_beyond if edge else None))
+    factors, at_all = out
+    if factors.value is not None and at_all.value is not None and factors.value > at_all.value:
+        # The same change of verdict refined on two margins: the smaller is what the physics supports.
+        out[0] = Limit(factors.level, at_all.value, at_all.bound, factors.all_below, factors.failure_beyond)
+    return out
 
 
 def sweep_2d(scene: Scene, first: tuple, second: tuple, points: int = 25):

@@ -204,3 +204,9 @@ _DISPLAY_DIMENSIONS = {**DIMENSIONS, "wind": DIMENSIONS["speed"], "force": ("[fo
 DISPLAY_SYMBOLS = {"m": "m", "km/h": "km/h", "m/s": "m/s", "N": "N", "kg": "kg", "m/s**2": "m/s²",
                    "m**2": "m²", "degC": "°C", "s": "s", "ft": "ft", "mph": "mph", "lbf": "lbf",
                    "lb": "lb", "ft/s**2": "ft/s²", "ft**2": "ft²", "degF": "°F"}
+
+
+def display(value_si: float, dimension: str, system: str, spec: str = ".2f") -> str:
+    """A value in the display units of 'metric' or 'imperial', with its unit: "1.23 m", "4.04 ft"."""
+    value, unit = to_display(value_si, dimension, system)
+    return f"{value:{spec}} {unit}"

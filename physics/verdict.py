@@ -19,6 +19,7 @@ import numpy as np
 
 from physics.records import EVENT_WORDS, FAILURES, Event
 from physics.scene import Scene
+from physics.units import display
 from physics.wind_scales import beaufort
 
 HOLDS, MARGINAL, FAILS = 0, 1, 2
@@ -117,28 +118,35 @@ def event_list(scene: Scene, events: np.ndarray) -> list[dict]:
 
 
 def describe(scene: Scene, kind: Event, row) -> str:
-    """The numbers behind an event in plain words (SI)."""
+    """The numbers behind an event in plain words, in the scene's display units."""
     demand, available = float(row["demand"]), float(row["available"])
+    u = scene.units
     if kind == Event.SLIP:
         return f"grip needed {demand:.3f}, roof gives {available:.3f}"
     if kind in (Event.TOPPLE, Event.RECOVERY_STEP):
-        return f"extrapolated centre of mass {abs(demand - available):.3f} m outside the support"
+        return (f"extrapolated centre of mass {display(abs(demand - available), 'length', u, '.3f')} outside "
+                "the support")
     if kind == Event.LIFT:
-        return f"the roof no longer bears the body: contact force {-demand:.0f} N (wind lifting or tipping it off)"
+        return (f"the roof no longer bears the body: contact force {display(-demand, 'force', u, '.0f')} "
+                "(wind lifting or tipping it off)")
     if kind == Event.FALL:
         return "came down off the roof (gap or car end)"
     if kind == Event.STRIKE:
-        return f"body point {demand - available:.2f} m above the soffit at {available:.2f} m"
+        return (f"body point {display(demand - available, 'length', u)} above the soffit at "
+                f"{display(available, 'length', u)}")
     if kind == Event.LINE:
-        return f"{demand:.2f} m from the wire, exclusion distance {available:.2f} m"
+        return (f"{display(demand, 'length', u)} from the wire, exclusion distance "
+                f"{display(available, 'length', u)}")
     if kind == Event.HARD_LANDING:
-        return f"touchdown {demand:.2f} m/s relative to the roof, friction and a step absorb {available:.2f} m/s"
+        return (f"touchdown {display(demand, 'wind', u)} relative to the roof, friction and a step absorb "
+                f"{display(available, 'wind', u)}")
     if kind == Event.MISSED_LANDING:
         return _missed_landing(scene, row)
     if kind == Event.TAKEOFF:
-        return f"take-off at {demand:.2f} m/s relative to the roof"
+        return f"take-off at {display(demand, 'wind', u)} relative to the roof"
     if kind == Event.TOUCHDOWN:
-        return f"touchdown at {demand:.2f} m/s along and {available:.2f} m/s down, relative to the roof"
+        return (f"touchdown at {display(demand, 'wind', u)} along and {display(available, 'wind', u)} down, "
+                "relative to the roof")
     return ""
 
 
@@ -152,7 +160,7 @@ def _missed_landing(scene: Scene, row) -> str:
                  and scene.cars[a.landing_car] is target), None)
     toward_front = jump is None or jump.toward > 0
     words = "past" if ahead == toward_front else "short of"
-    return f"came down on {landed}, {float(row['demand']):.2f} m {words} {target.name}"
+    return f"came down on {landed}, {display(float(row['demand']), 'length', scene.units)} {words} {target.name}"
 
 
 def summarise(scene: Scene, events: np.ndarray, outcomes: np.ndarray) -> dict:

@@ -51,6 +51,7 @@ def display(name: str, value: float, system: str) -> str:
 
 
 def envelope_summary(scene, sweep) -> dict:
+    from physics.sweep import limits
     from physics.verdict import NAMES, first_failure_kinds
     kinds = first_failure_kinds(sweep.result.events)
     m = sweep.result.outcomes
@@ -61,27 +62,40 @@ def envelope_summary(scene, sweep) -> dict:
                      "balance_margin_min_m": _f(m[i]["balance_margin_min"].min()),
                      "lift_ratio_min": _f(m[i]["lift_ratio_min"].min()),
                      "apparent_wind_max_ms": float(m[i]["apparent_wind_max"].max())})
-    holding = [t for t in sweep.thresholds]
     return {
         "scene": scene.title, "parameter": sweep.name, "units": "SI", "rows": rows,
+        "range": [float(sweep.values[0]), float(sweep.values[-1])], "planned": _planned(scene, sweep.name),
         "thresholds": [{"kind": t.kind, "value": t.value, "tolerance": t.tolerance, "below": t.below,
-                        "above": t.above, "failure_beyond": t.failure_beyond} for t in holding],
-        "highest_holding_with_factors": _highest(sweep, 1), "highest_holding_at_all": _highest(sweep, 2),
+                        "above": t.above, "failure_beyond": t.failure_beyond} for t in sweep.thresholds],
+        "limits": [{"level": lim.level, "value": lim.value, "bound": lim.bound, "all_below": lim.all_below,
+                    "failure_beyond": lim.failure_beyond} for lim in limits(sweep)],
         "caution": CAUTION,
     }
 
 
-def _highest(sweep, level: int):
-    """The highest value at which the verdict is below `level`, refined where a threshold exists."""
-    ok = sweep.codes < level
-    if not ok.any():
+def _planned(scene, name: str) -> float | None:
+    from physics.sweep import SweepError, base_value
+    try:
+        return float(base_value(scene, name))
+    except SweepError:
         return None
-    best = float(sweep.values[ok].max())
-    label = "holds with factors" if level == 1 else "holds at all"
-    for t in sweep.thresholds:
-        if t.kind == label and abs(t.value - best) <= (sweep.values[1] - sweep.values[0]) * 1.01:
-            best = t.value
-    return best
+
+
+def limit_words(name: str, limit: dict, span: list[float], system: str) -> str:
+    """One limit in plain words, saying plainly when it is only a bound."""
+    level = limit["level"]
+    if limit["value"] is None:
+        return f"{level}: nowhere from {display(name, span[0], system)} to {display(name, span[1], system)}"
+    value = display(name, limit["value"], system)
+    if limit["bound"]:
+        words = f"{level} up to at least {value} (the end of the sweep: the limit lies beyond it)"
+    else:
+        words = f"{level} up to {value}"
+        if limit["failure_beyond"]:
+            words += f"; beyond it the first failure is a {limit['failure_beyond']}"
+    if not limit["all_below"]:
+        words += " (not at every value below it: see the table)"
+    return words
 
 
 def _f(x):
@@ -89,23 +103,25 @@ def _f(x):
 
 
 def envelope_text(scene, summary: dict) -> str:
+    from physics.units import to_display
     name, system = summary["parameter"], scene.units
-    lines = [f"roofbeat envelope: {scene.title}", f"varying {name}", "",
-             f"{'value':>14}  {'verdict':<9}{'grip':>7}{'balance':>10}{'lift':>7}  first failure"]
+    planned = summary["planned"]
+    lines = [f"roofbeat envelope: {scene.title}",
+             f"varying {name}" + (f" (planned: {display(name, planned, system)})" if planned is not None else ""), "",
+             f"{'value':>14}  {'verdict':<9}{'grip':>7}{'balance':>12}{'lift':>7}  first failure"]
     for row in summary["rows"]:
         bal = row["balance_margin_min_m"]
+        bal_text = "n/a" if bal is None else "{:.2f} {}".format(*to_display(bal, "length", system))
         lines.append(f"{display(name, row['value'], system):>14}  {row['verdict']:<9}"
-                     f"{_fmt(row['grip_ratio_min'], '.2f'):>7}{_fmt(bal, '.2f'):>10}{_fmt(row['lift_ratio_min'], '.2f'):>7}  "
+                     f"{_fmt(row['grip_ratio_min'], '.2f'):>7}{bal_text:>12}{_fmt(row['lift_ratio_min'], '.2f'):>7}  "
                      f"{row['first_failure'] or ''}")
     lines.append("")
     for t in summary["thresholds"]:
         tol = display(name, t["tolerance"], system)
         lines.append(f"threshold ({t['kind']}): {display(name, t['value'], system)} (+/- {tol})"
                      f": {t['below']} below, {t['above']} above; first failure beyond: {t['failure_beyond'] or '-'}")
-    for key, words in (("highest_holding_with_factors", "highest value that holds with the required factors"),
-                       ("highest_holding_at_all", "highest value that holds at all")):
-        value = summary[key]
-        lines.append(f"{words}: {display(name, value, system) if value is not None else 'none in the range'}")
+    for limit in summary["limits"]:
+        lines.append(limit_words(name, limit, summary["range"], system))
     lines += ["", "CAUTION: " + CAUTION]
     return "\n".join(lines)
 

@@ -180,10 +180,9 @@ def _tables(fig, scene, content) -> None:
     y -= 0.012 * (len(wind_lines[:2]) - 1)
     env = content["envelope"]
     if env:
-        hold = env["highest_holding_with_factors"]
-        words = "{:.0f} {}".format(*to_display(hold, "speed", scene.units)) if hold is not None else "none tested"
-        fig.text(0.05, y - 0.04, f"Highest top speed that holds with the required safety factors: {words}",
-                 fontsize=8.5, weight="bold")
+        from preview.analysis import limit_words
+        words = limit_words("speed", env["limits"][0], env["range"], scene.units)
+        fig.text(0.05, y - 0.04, f"Top speed: {words}", fontsize=8.5, weight="bold")
 
 
 def _n(x) -> str:

@@ -6,6 +6,8 @@ import math
 
 import numpy as np
 import pytest
+from hypothesis import HealthCheck, given, settings
+from hypothesis import strategies as st
 from scipy.stats import binomtest
 
 from physics import G
@@ -164,3 +166,19 @@ def test_a_roof_friction_spread_on_any_car_is_sampled():
     assert np.all(v.roof_scale[:, 0] == 1.0)
     friction = 0.6 * v.roof_scale[:, 1]
     assert friction.min() == pytest.approx(0.4, abs=0.01) and friction.max() == pytest.approx(0.8, abs=0.01)
+
+
+@settings(max_examples=12, deadline=None, suppress_health_check=[HealthCheck.too_slow])
+@given(speed=st.floats(20, 120), wind=st.floats(0, 15), friction=st.floats(0.3, 0.9),
+       body=st.sampled_from(["segmented", "lumped"]), kind=st.sampled_from(["stand", "crouch", "walk"]))
+def test_holding_with_the_factors_never_goes_further_than_holding_at_all(speed, wind, friction, body, kind):
+    from physics.sweep import limits
+    cars = [f'length = "20 m"\nroof_height = "4 m"\nroof_static = {friction}\nroof_kinetic = {0.7 * friction}']
+    action = f'do = "{kind}"\nduration = "3 s"\ntransition = "0 s"' + ('\nspeed = "1 m/s"' if kind == "walk" else "")
+    scene = make_scene(speed=f"{speed} km/h", wind=f"{wind} m/s", body=body, cars=cars, actions=[action])
+    with_factors, at_all = limits(sweep_1d(scene, "speed", 2.0, 50.0, points=9))
+    if at_all.value is None:
+        assert with_factors.value is None
+    elif with_factors.value is not None:
+        assert with_factors.value <= at_all.value
+        assert not (with_factors.bound and not at_all.bound)

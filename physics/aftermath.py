@@ -1,0 +1,78 @@
+"""What became of the body after the beat's first failure, read from a recorded run.
+
+After a failure the engine goes on with the physics (a slide runs out, a
+topple goes down, a fall ends on the ground); this module turns the record of
+that into phases a person can read: sliding so far, down on the roof, in the
+air, on the ground beside or between the cars, struck.
+"""
+
+from __future__ import annotations
+
+import math
+
+import numpy as np
+
+from physics.records import Event, Mode
+
+PHASE_WORDS = {
+    Mode.PLANTED: "stopped on the roof",
+    Mode.SLIDING: "sliding",
+    Mode.DOWN: "down on the roof",
+    Mode.FLIGHT: "in the air",
+    Mode.GONE: "off the consist",
+}
+
+
+def _first_failure_time(trajectory) -> float:
+    from physics.verdict import first_failure_time
+    return float(first_failure_time(trajectory.events))
+
+
+def phases(trajectory) -> list[dict]:
+    """Phases of the body from the first failure to the end of the beat (empty when the beat holds)."""
+    start = _first_failure_time(trajectory)
+    if not math.isfinite(start):
+        return []
+    k0 = trajectory.index_at(start)
+    mode = trajectory.field("mode")[k0:]
+    if mode.size == 0:
+        return []
+    cuts = np.concatenate([[0], np.flatnonzero(np.diff(mode)) + 1, [mode.size]])
+    out = []
+    for a, b in zip(cuts[:-1], cuts[1:]):
+        out.append(_phase(trajectory, k0 + a, k0 + b - 1, int(mode[a])))
+    return out
+
+
+def _phase(tr, first: int, last: int, mode: int) -> dict:
+    times = tr.times
+    phase = {"state": PHASE_WORDS[Mode(mode)], "from_s": float(times[first]), "to_s": float(times[last])}
+    if mode in (Mode.SLIDING, Mode.DOWN, Mode.PLANTED):
+        x = tr.field("pivot_x")[first:last + 1]
+        speed = np.abs(tr.field("slide_speed")[first:last + 1])
+        phase["distance_m"] = float(abs(x[-1] - x[0]))
+        phase["peak_speed_ms"] = float(np.nanmax(speed)) if speed.size else 0.0
+    elif mode == Mode.GONE:
+        struck = not math.isnan(tr.events[Event.STRIKE]["time"]) and tr.events[Event.STRIKE]["time"] <= times[first]
+        if struck:
+            phase["state"] = "struck: out of the run"
+        else:
+            com = tr.com_path[first]
+            phase["state"] = "on the ground beside or between the cars"
+            phase["ground_x_m"] = float(com[0] + tr.field("distance")[first])
+    return phase
+
+
+def state_at(trajectory, index: int) -> dict | None:
+    """The body's phase at a step after the first failure (with `so_far_m` while sliding); None before it."""
+    start = _first_failure_time(trajectory)
+    t = trajectory.times[index]
+    if not math.isfinite(start) or t < start:
+        return None
+    for phase in phases(trajectory):
+        if phase["from_s"] <= t <= phase["to_s"]:
+            if phase["state"] == "sliding":
+                k0 = trajectory.index_at(phase["from_s"])
+                phase["so_far_m"] = float(abs(trajectory.field("pivot_x")[index] - trajectory.field("pivot_x")[k0]))
+            return phase
+    return None
