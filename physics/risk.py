@@ -48,11 +48,16 @@ class RiskResult:
     drivers: list           # (name, rho with failure, rho with grip ratio) sorted by |rho|
 
 
+# How an uncertain input is shown: its display dimension (physics.units) or None for a plain number.
+INPUT_DIMENSIONS = {"speed": "speed", "wind_speed": "wind", "mass": "mass", "drag_area": "area",
+                    "reaction_time": "time"}
+
+
 def input_name(scene: Scene, key: str) -> str:
     """What a person calls an uncertain input."""
     if key.startswith(ROOF_STATIC):
         return f"roof friction, {scene.cars[int(key[len(ROOF_STATIC):])].name}"
-    return key
+    return key.replace("_", " ")
 
 
 def sample_variants(scene: Scene, samples: int, seed: int) -> tuple[Variants, dict]:
@@ -144,7 +149,8 @@ def summarise_risk(scene: Scene, result: RiskResult) -> dict:
     fails = int(np.sum(result.codes == 2))
     out = {
         "samples": n, "seed": result.seed, "interval": "Wilson score, 95 %",
-        "uncertain_inputs": {k: {"low": float(v.min()), "high": float(v.max())} for k, v in result.inputs.items()},
+        "uncertain_inputs": {k: {"low": float(v.min()), "high": float(v.max()), "dimension": _dimension(k)}
+                             for k, v in result.inputs.items()},
         "verdicts": {name: int(np.sum(result.codes == code)) for code, name in enumerate(("holds", "marginal",
                                                                                            "fails"))},
         "failure_probability": _prob(fails, n),
@@ -159,6 +165,10 @@ def summarise_risk(scene: Scene, result: RiskResult) -> dict:
             p5, p50, p95 = np.percentile(finite, [5, 50, 95])
             out["margins"][name] = {"p5": float(p5), "median": float(p50), "p95": float(p95)}
     return out
+
+
+def _dimension(name: str) -> str | None:
+    return INPUT_DIMENSIONS.get(name.replace(" ", "_"))
 
 
 def _prob(k: int, n: int) -> dict:

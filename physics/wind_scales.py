@@ -25,9 +25,10 @@ BEAUFORT_NAMES = ["calm", "light air", "light breeze", "gentle breeze", "moderat
 # (cat 1 74-95, cat 2 96-110, ...), split half-way between.
 SAFFIR_SIMPSON_LOWER_MPH = [73.5, 95.5, 110.5, 129.5, 156.5]
 
+# (speed in m/s, what it means, sources)
 PEDESTRIAN_THRESHOLDS = [
-    (15.0, "15 m/s: hazard to frail people and cyclists (Lawson 1990)"),
-    (20.0, "20 m/s: can unbalance able-bodied people, dangerous (Lawson 1990; Penwarden 1973)"),
+    (15.0, "hazard to frail people and cyclists", "Lawson 1990"),
+    (20.0, "can unbalance able-bodied people, dangerous", "Lawson 1990; Penwarden 1973"),
 ]
 
 
@@ -42,7 +43,7 @@ def saffir_simpson(speed: float) -> int | None:
     return category or None
 
 
-def pedestrian_threshold(speed: float) -> str | None:
-    """The highest pedestrian wind-safety threshold the speed (m/s) reaches, or None."""
-    crossed = [label for limit, label in PEDESTRIAN_THRESHOLDS if abs(speed) >= limit]
+def pedestrian_threshold(speed: float) -> tuple[float, str, str] | None:
+    """The highest pedestrian wind-safety threshold the speed (m/s) reaches, (limit m/s, words, sources), or None."""
+    crossed = [t for t in PEDESTRIAN_THRESHOLDS if abs(speed) >= t[0]]
     return crossed[-1] if crossed else None

@@ -174,26 +174,53 @@ def _map(scene, varies, args) -> int:
     return 0
 
 
+MARGIN_WORDS = {"grip_ratio_min": ("grip ratio, lowest", None), "balance_margin_min_m": ("balance margin, lowest",
+                                                                                        "length"),
+                "lift_ratio_min": ("lift ratio, lowest", None), "landing_margin_min_m": ("landing margin, lowest",
+                                                                                       "length"),
+                "clearance_min_m": ("overhead clearance, lowest", "length")}
+
+
+def _value(value: float, dimension: str | None, system: str) -> str:
+    if dimension is None:
+        return f"{value:.3f}"
+    from physics.units import display as shown
+    return shown(value, dimension, system, ".3g" if dimension == "time" else ".2f")
+
+
+def _share(q: dict) -> str:
+    return f"{100 * q['probability']:5.1f} %  (95 % interval {100 * q['ci95_low']:.1f}-{100 * q['ci95_high']:.1f} %)"
+
+
 def risk_text(scene, summary: dict) -> str:
-    lines = [f"roofbeat risk: {scene.title}", f"{summary['samples']} samples, seed {summary['seed']}; "
-             f"95 % intervals: {summary['interval']}", ""]
+    system = scene.units
+    lines = [f"roofbeat risk: {scene.title}",
+             f"{summary['samples']:,} samples, seed {summary['seed']}; intervals: {summary['interval']}", ""]
     if not summary["uncertain_inputs"]:
         lines.append("the scene states no uncertainties (+/-): every sample is the same beat")
-    for name, rng in summary["uncertain_inputs"].items():
-        lines.append(f"  {name}: sampled {rng['low']:.4g} .. {rng['high']:.4g} (SI)")
-    p = summary["failure_probability"]
-    lines += ["", f"verdicts: {summary['verdicts']}",
-              f"probability the beat fails: {p['probability']:.3f} (95 % CI {p['ci95_low']:.3f}-{p['ci95_high']:.3f})"]
+    else:
+        lines += ["uncertain inputs, each drawn uniformly within its spread:",
+                  f"  {'input':<30}{'from':>14}{'to':>14}"]
+        for name, rng in summary["uncertain_inputs"].items():
+            lines.append(f"  {name:<30}{_value(rng['low'], rng['dimension'], system):>14}"
+                         f"{_value(rng['high'], rng['dimension'], system):>14}")
+    lines += ["", f"  {'verdict':<12}{'samples':>9}   share"]
+    for name, count in summary["verdicts"].items():
+        lines.append(f"  {name:<12}{count:>9,}   {100 * count / summary['samples']:5.1f} %")
+    lines += ["", f"the beat fails in {_share(summary['failure_probability'])}"]
     for kind, q in summary["by_kind"].items():
-        lines.append(f"  {kind}: {q['probability']:.3f} (95 % CI {q['ci95_low']:.3f}-{q['ci95_high']:.3f})")
-    lines.append("")
-    for name, m in summary["margins"].items():
-        lines.append(f"{name}: 5 % {m['p5']:.3f}, median {m['median']:.3f}, 95 % {m['p95']:.3f}")
+        lines.append(f"  with a {kind}: {_share(q)}")
+    if summary["margins"]:
+        lines += ["", f"  {'margin over the samples':<30}{'5 %':>12}{'median':>12}{'95 %':>12}"]
+        for key, m in summary["margins"].items():
+            words, dimension = MARGIN_WORDS[key]
+            lines.append(f"  {words:<30}" + "".join(f"{_value(m[p], dimension, system):>12}"
+                                                  for p in ("p5", "median", "p95")))
     if summary["drivers"]:
-        lines += ["", "inputs that drive failure most (Spearman rank correlation with failing):"]
+        lines += ["", "inputs that drive failure most (Spearman rank correlation with failing, -1 to +1):"]
         for d in summary["drivers"]:
             rho = d["rank_correlation_with_failure"]
-            lines.append(f"  {d['input']}: {'n/a' if rho is None else f'{rho:+.2f}'}")
+            lines.append(f"  {d['input']:<30}{'n/a (never failed or always failed)' if rho is None else f'{rho:+.2f}'}")
     lines += ["", "CAUTION: " + CAUTION]
     return "\n".join(lines)
 

@@ -19,6 +19,8 @@ def _add_scene_args(p: argparse.ArgumentParser) -> None:
                    f"scenes`); default: the bundled {DEFAULT_SCENE}")
     p.add_argument("--set", dest="overrides", action="append", default=[], metavar="PATH=VALUE",
                    help='override a scene value, e.g. --set motion.speed="110 km/h" (repeatable)')
+    p.add_argument("--units", choices=("metric", "imperial"), default=None,
+                   help="display units for this run (default: the scene's own)")
 
 
 def build_parser() -> argparse.ArgumentParser:
@@ -72,7 +74,9 @@ def cmd_check(args) -> int:
     scene = load(args)
     trajectory = simulate(scene)
     summary = summarise(scene, trajectory.events, trajectory.outcomes)
+    from physics.aftermath import phases
     from physics.hazards import latest_duck_starts
+    summary["aftermath"] = phases(trajectory)
     summary["ducks"] = latest_duck_starts(scene)
     print(json_report(scene, summary) if args.json else text_report(scene, summary))
     return 0

@@ -4,7 +4,7 @@ from __future__ import annotations
 
 import json
 
-from physics.units import to_display
+from physics.units import display, to_display
 from physics.wind_scales import BEAUFORT_NAMES, beaufort, pedestrian_threshold, saffir_simpson
 from preview.caution import CAUTION
 from preview.timecode import timecode
@@ -26,7 +26,8 @@ def wind_words(speed: float, system: str) -> str:
         words += f", Saffir-Simpson category {category} strength"
     threshold = pedestrian_threshold(speed)
     if threshold:
-        words += f"; pedestrian threshold crossed: {threshold}"
+        limit, meaning, sources = threshold
+        words += f"; pedestrian threshold crossed: {display(limit, 'wind', system, '.0f')}, {meaning} ({sources})"
     return words
 
 
@@ -56,7 +57,10 @@ def text_report(scene, summary: dict) -> str:
             extra.append(f"overhead clearance {_fmt(to_display(row['clearance_min_m'], 'length', system)[0], '.2f')}")
         if extra:
             lines.append(" " * 16 + "; ".join(extra) + f" {to_display(0, 'length', system)[1]}")
+        if row["marginal_because"]:
+            lines.append(" " * 16 + "marginal because " + marginal_words(row["marginal_because"], system))
     lines.append("")
+    lines.append("required: " + required_words(summary["required_factors"], system))
     lines.append("grip = roof friction available / needed (min); balance = margin of stability (min); "
                  "lift = normal force / weight (min); lean = lean needed to balance the load (max)")
     peak = max((r["apparent_wind_max_ms"] for r in summary["actions"]), default=0.0)
@@ -80,11 +84,38 @@ def text_report(scene, summary: dict) -> str:
         lines.append(f"first failure: {first['kind']} at {timecode(first['time_s'], scene.frame_rate)} "
                      f"({first['time_s']:.2f} s) {where}, car frame x = {x_car:.2f} {unit}, "
                      f"ground frame x = {x_ground:.1f} {unit}: {first['detail']}")
+    for phase in summary.get("aftermath", []):
+        lines.append(f"  then, {phase['from_s']:.2f}-{phase['to_s']:.2f} s: {phase_words(phase, system)}")
     others = [e for e in summary["events"] if e is not first]
     for e in others:
         lines.append(f"  also: {e['kind']} at {e['time_s']:.2f} s: {e['detail']}")
     lines += ["", "CAUTION: " + CAUTION]
     return "\n".join(lines)
+
+
+def factor_value(value: float, unit: str, system: str) -> str:
+    return display(value, "length", system) if unit == "m" else f"{value:.2f}"
+
+
+def marginal_words(shortfalls: list[dict], system: str) -> str:
+    """'balance margin 0.02 m, required 0.03 m; ...': which factor made an action marginal."""
+    return "; ".join(f"{s['margin']} {factor_value(s['value'], s['unit'], system)}, required "
+                     f"{factor_value(s['required'], s['unit'], system)}" for s in shortfalls)
+
+
+def required_words(factors: dict, system: str) -> str:
+    return ", ".join(f"{name} {factor_value(f['value'], f['unit'], system)}" for name, f in factors.items())
+
+
+def phase_words(phase: dict, system: str) -> str:
+    """What the body did in one phase after the first failure."""
+    words = phase["state"]
+    if phase["state"] == "sliding":
+        words += (f" {display(phase['distance_m'], 'length', system)} at up to "
+                  f"{display(phase['peak_speed_ms'], 'wind', system)}")
+    elif "ground_x_m" in phase:
+        words += f" at ground x = {display(phase['ground_x_m'], 'length', system, '.1f')}"
+    return words
 
 
 def json_report(scene, summary: dict) -> str:

@@ -57,11 +57,12 @@ def load(args):
     """The scene named on the command line (or the default), with its --set overrides."""
     from physics.scene_load import Problem, SceneError, load_scene
     path = scene_path(args.scene)
+    overrides = list(args.overrides) + ([f'units="{args.units}"'] if getattr(args, "units", None) else [])
     if not path.exists():
         bare = args.scene is not None and Path(args.scene).name == args.scene
         words = ", and no bundled scene of that name (`roofbeat scenes` lists them)" if bare else ""
         raise SceneError(str(path), [Problem("(file)", f"cannot read the file: no such file{words}", None)])
-    return load_scene(path, args.overrides)
+    return load_scene(path, overrides)
 
 
 @dataclass(frozen=True)

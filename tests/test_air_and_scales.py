@@ -78,5 +78,5 @@ def test_trade_facts_on_wind_scales():
 def test_pedestrian_thresholds():
     # Lawson 1990 (15 and 20 m/s) and Penwarden 1973 (> 20 m/s dangerous).
     assert pedestrian_threshold(14.9) is None
-    assert "frail" in pedestrian_threshold(15.0)
-    assert "unbalance" in pedestrian_threshold(20.5)
+    assert "frail" in pedestrian_threshold(15.0)[1]
+    assert "unbalance" in pedestrian_threshold(20.5)[1]

@@ -3,6 +3,7 @@ Monte Carlo against the deterministic run, intervals against scipy, the PDF."""
 
 import json
 import math
+import re
 
 import numpy as np
 import pytest
@@ -148,8 +149,8 @@ def test_risk_on_a_lumped_body_with_an_uncertain_drag_area(tmp_path, capsys):
                                performer_extra='max_lean = "60 deg"'))
     assert main(["risk", str(path), "--samples", "200", "--json"]) == 0
     out = json.loads(capsys.readouterr().out)
-    assert out["uncertain_inputs"]["drag_area"]["low"] == pytest.approx(0.7 * 0.85, rel=0.02)
-    assert [d["input"] for d in out["drivers"]] == ["drag_area"]
+    assert out["uncertain_inputs"]["drag area"]["low"] == pytest.approx(0.7 * 0.85, rel=0.02)
+    assert [d["input"] for d in out["drivers"]] == ["drag area"]
     assert 0 < out["failure_probability"]["count"] < 200
 
 
@@ -182,3 +183,14 @@ def test_holding_with_the_factors_never_goes_further_than_holding_at_all(speed, 
     elif with_factors.value is not None:
         assert with_factors.value <= at_all.value
         assert not (with_factors.bound and not at_all.bound)
+
+
+def test_risk_prints_a_table_in_the_scenes_display_units(capsys):
+    # Night freight is an imperial scene: masses in lb, areas in ft^2, lengths in ft; no raw dicts or SI keys.
+    assert main(["risk", str(REPO / "scenes" / "night_freight.toml"), "--samples", "60"]) == 0
+    out = capsys.readouterr().out
+    assert "{" not in out and "_min" not in out and "(SI)" not in out
+    assert re.search(r"mass\s+\d+\.\d+ lb", out) and "ft²" in out
+    assert re.search(r"balance margin, lowest\s+\d+\.\d+ ft", out)
+    assert main(["risk", str(REPO / "scenes" / "night_freight.toml"), "--samples", "60", "--units", "metric"]) == 0
+    assert re.search(r"mass\s+\d+\.\d+ kg", capsys.readouterr().out)
