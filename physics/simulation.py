@@ -15,6 +15,7 @@ derived here in numpy.
 from __future__ import annotations
 
 import functools
+import math
 import os
 from concurrent.futures import ThreadPoolExecutor
 from dataclasses import dataclass
@@ -111,6 +112,29 @@ class Trajectory:
         base_z = np.where(on_roof[:, 0, 0], rec["contact_z"], rec["flight_z"])[:, None, None]
         out = np.stack([x + base_x, z + base_z], axis=-1)
         return out[0] if index is not None and np.ndim(index) == 0 else out
+
+    def overhead_gap(self, index: int) -> tuple[float, str | None]:
+        """Overhead clearance at one step (m) and what it is measured to: the engine's definition
+        (engine.overhead: the smallest gap of any body point to a soffit or to the edge of a line's
+        exclusion zone above it) applied to the recorded pose; (inf, None) with nothing overhead."""
+        pts = self.ends(index).reshape(-1, 2)
+        if not np.isfinite(pts).all():
+            return math.inf, None
+        xg = pts[:, 0] + float(self.record["distance"][index])
+        best, name = math.inf, None
+        for s in self.scene.structures:
+            over = (xg >= s.x_start) & (xg <= s.x_start + s.span)
+            if over.any():
+                gap = float(np.min(s.soffit - pts[over, 1]))
+                if gap < best:
+                    best, name = gap, s.name
+        for line in self.scene.lines:
+            over = (xg >= line.x_start) & (xg <= line.x_end)
+            if over.any():
+                gap = float(np.min(line.wire_height - pts[over, 1] - line.exclusion))
+                if gap < best:
+                    best, name = gap, "overhead line exclusion zone"
+        return best, name
 
     def support(self) -> np.ndarray:
         """(T, 2) rear and front edge of the support incl. a recovery step, car frame (m); NaN off the roof."""

@@ -8,7 +8,9 @@ preview's running verdict:
   before it and the action was never assessed);
 - an action that ended before any failure is marginal when one of its margins
   is below the factor the scene requires ([safety]), else it holds;
-- the beat's verdict is its worst action's.
+- the beat's verdict is its worst action's;
+- the preview's running verdict (verdict_so_far) judges an action once it has
+  ended, a failure from the moment it happens.
 """
 
 from __future__ import annotations
@@ -205,6 +207,23 @@ def required_factors(safety) -> dict:
     return {words: {"value": float(getattr(safety, factor)), "unit": unit} for _, factor, words, unit in FACTORS}
 
 
-def running_verdict(scene: Scene, events: np.ndarray, outcomes: np.ndarray, t: float) -> str:
-    """The verdict of one run as far as time t (the preview's running verdict): the same rule."""
-    return NAMES[int(verdict_codes(scene, events[None], outcomes[None], until=t)[0])]
+def verdict_so_far(scene: Scene, events: np.ndarray, outcomes: np.ndarray, t: float) -> tuple[str, list[dict]]:
+    """The preview's running verdict at time t, and why it is marginal so far.
+
+    The same rule as the beat's verdict, applied as the beat unfolds: a failure
+    counts from the moment it happens; an action's margins count once it has
+    ended (its minima are over the whole action, so judging it earlier would
+    show a shortfall before it happened). At the end of the beat this is the
+    beat's verdict. `because`: the shortfalls of the finished marginal actions.
+    """
+    codes = action_codes(scene, events[None], outcomes[None], until=t)[0]
+    first = float(first_failure_time(events[None])[0])
+    failed = math.isfinite(first) and first <= t
+    ends = np.array([a.end for a in scene.actions])
+    finished = ends <= t + 1e-9
+    codes = np.where(finished | (codes == FAILS), codes, HOLDS)
+    if failed:
+        return NAMES[FAILS], []
+    because = [dict(s, action=scene.actions[a].label) for a in np.flatnonzero(codes == MARGINAL)
+               for s in shortfalls(scene.safety, outcomes[a])]
+    return NAMES[int(codes.max()) if codes.size else HOLDS], because

@@ -1,201 +1,388 @@
-"""`roofbeat brief`: one printable page for the safety meeting, plus the same content as JSON.
+"""`roofbeat brief`: the safety meeting's papers (PDF, two or three pages) and the same content as JSON.
 
-Layout of our own: a header band with the verdict, the scene's key numbers,
-the verdict per action with margins, two or three key frames drawn by the
-preview's renderer, the speed envelope, the wind words, the caution and blank
-sign-off lines. Black-and-white friendly: verdicts are words, not only colours.
+Layout of our own. Page 1 is the decision page: the verdict, the scene's key
+numbers, every action's margins beside the factors the scene requires and why
+an action is marginal, what happened at the first failure and after it, the
+speed envelope's headline, the latest duck starts, a crew checklist, the
+caution and sign-off lines for the stunt coordinator, the safety officer, the
+1st AD and the operator's representative, and the speed envelope's plot
+where it fits (else on a third page). Page 2 shows two key frames drawn
+as vectors through the preview's own drawing function (text stays text: they
+print sharp on A4 and Letter). Every page names
+roofbeat's version and the scene file's SHA-256, so a brief can be matched to
+the scene it was made from. Black-and-white friendly: verdicts are words.
 """
 
 from __future__ import annotations
 
 import datetime as dt
+import hashlib
 import json
 import math
+import textwrap
 from pathlib import Path
 
 import numpy as np
 
-from physics.units import to_display
+from physics.units import display, to_display
 from preview.caution import CAUTION
 from preview.outputs import OutputSet, check_target
+from preview.report import marginal_words, phase_words, required_words, wind_words
 from preview.session import OutputError
-from preview.report import wind_words
 from preview.timecode import timecode
 
 PAPER = {"a4": (8.27, 11.69), "letter": (8.5, 11.0)}
+MARGIN_IN = 0.5
+KEY_FRAME_SIZE = (960, 540)   # logical pixels of a key frame (the smallest window the layout is tested at)
+KEY_FRAME_BOOST = 2           # px added to the frame's text sizes for print
+SIGN_OFF = ["stunt coordinator", "safety officer", "1st AD", "operator's representative"]
+CHECKLIST = [
+    "The operator's representative is present, briefed and has agreed the beat and its speeds.",
+    "Overhead lines are isolated and earthed by the operator, or the exclusion zone is marked and kept.",
+    "The abort signal is agreed and known to performer, driver or operator's crew, camera and safety.",
+    "A rescue plan is in place: access to the roof, first aid, who calls whom, where the vehicle stops.",
+    "The beat has been rehearsed at a lower speed, on a stationary vehicle first.",
+    "The roof surface, the weather and the wind on the day were checked against the scene's values.",
+]
+INK, SOFT, RULE = "#2b3138", "#5f656c", "#c9c6bf"
+BODY = 8.0        # pt, the pages' body text
+ROW = 0.17        # in, a table row
+
+
+def scene_digest(path: str) -> str:
+    """SHA-256 of the scene file as read (hex); empty when there is no file."""
+    try:
+        return hashlib.sha256(Path(path).read_bytes()).hexdigest()
+    except OSError:
+        return ""
 
 
 def key_numbers(scene) -> list[tuple[str, str]]:
     system = scene.units
-    length = lambda v: "{:.2f} {}".format(*to_display(v, "length", system))  # noqa: E731
-    speed = lambda v: "{:.0f} {}".format(*to_display(v, "speed", system))  # noqa: E731
+    length = lambda v: display(v, "length", system)  # noqa: E731
+    speed = lambda v: display(v, "speed", system, ".0f")  # noqa: E731
     cars = "; ".join(f"{c.name} {length(c.length)}, roof {length(c.roof_height)}, {c.surface} "
                      f"(static {c.sole_static:.2f})" for c in scene.cars)
     if len(scene.keyframes) == 1:
         profile = f"constant {speed(scene.keyframes[0].speed)}"
     else:
         profile = ", ".join(f"{speed(k.speed)} at {k.time:.0f} s" for k in scene.keyframes)
-    wind = "{:.1f} {}".format(*to_display(scene.air.wind_speed, "wind", system))
+    wind = display(scene.air.wind_speed, "wind", system, ".1f")
     wind += f" from {math.degrees(scene.air.wind_from):.0f}° (0 = ahead)"
     if scene.air.gusts:
-        wind += f"; {len(scene.air.gusts)} gust(s) to " + "{:.1f} {}".format(
-            *to_display(max(g.peak for g in scene.air.gusts), "wind", system))
+        wind += f"; {len(scene.air.gusts)} gust(s) to " + display(max(g.peak for g in scene.air.gusts), "wind",
+                                                                  system, ".1f")
     if scene.air.turbulence:
         wind += "; turbulence"
     p = scene.performer
-    mass = "{:.0f} {}".format(*to_display(p.mass, "mass", system))
-    performer = f"{length(p.stature)}, {mass}, {p.body_model} body"
+    performer = f"{length(p.stature)}, {display(p.mass, 'mass', system, '.0f')}, {p.body_model} body"
     if p.drag_area:
-        performer += f", standing drag area {p.drag_area:.2f} m²"
+        area, unit = to_display(p.drag_area, "area", system)
+        performer += f", standing drag area {area:.2f} {unit}"
     return [("consist", cars), ("speed", profile), ("wind", wind),
-            ("air density", f"{scene.air.density:.3f} kg/m³"), ("performer", performer)]
+            ("air density", f"{scene.air.density:.3f} kg/m³"), ("performer", performer),
+            ("required", required_words(_required(scene), system))]
+
+
+def _required(scene) -> dict:
+    from physics.verdict import required_factors
+    return required_factors(scene.safety)
 
 
 def brief_content(scene, playback, sweep_summary) -> dict:
+    from preview import __version__
     s = playback.summary
     peak = max((a["apparent_wind_max_ms"] for a in s["actions"]), default=0.0)
     return {
-        "title": scene.title, "scene_file": scene.source, "date": dt.date.today().isoformat(),
+        "title": scene.title, "scene_file": scene.source, "scene_sha256": scene_digest(scene.source),
+        "roofbeat_version": __version__, "date": dt.date.today().isoformat(), "units": scene.units,
         "verdict": s["verdict"], "key_numbers": dict(key_numbers(scene)), "actions": s["actions"],
-        "first_failure": s["first_failure"], "events": s["events"],
+        "required_factors": s["required_factors"], "first_failure": s["first_failure"], "events": s["events"],
+        "aftermath": s["aftermath"], "ducks": s["ducks"],
         "apparent_wind": wind_words(peak, scene.units), "apparent_wind_max_ms": peak,
-        "envelope": sweep_summary, "caution": CAUTION,
-        "sign_off": ["stunt coordinator", "safety officer"],
+        "envelope": sweep_summary, "checklist": CHECKLIST, "caution": CAUTION, "sign_off": SIGN_OFF,
     }
 
 
 def key_times(playback) -> list[tuple[str, float]]:
-    """Start, the critical moment (lowest grip ratio or balance margin), and the failure or the landing."""
-    tr = playback.trajectory
-    times = [("start", 0.0)]
-    first = playback.summary["first_failure"]
-    demand = tr.field("grip_demand")
-    critical = float(tr.times[int(np.nanargmax(np.where(np.isfinite(demand), demand, -1)))])
+    """Two moments worth a picture: before and after the failure, in the air and landed, or the
+    hardest moment (highest grip demand) and the end."""
     from physics.records import Mode
+    tr = playback.trajectory
+    duration = playback.scene.duration
+    first = playback.summary["first_failure"]
     flying = np.nonzero(tr.field("mode") == Mode.FLIGHT)[0]
     if first:
-        times.append(("just before", max(0.0, first["time_s"] - 0.5)))
-        times.append((f"{first['kind']} at {first['time_s']:.2f} s", first["time_s"] + 0.2))
-    elif flying.size:
-        times.append(("in the air", float(tr.times[flying[len(flying) // 2]])))
-        times.append(("landing", float(tr.times[min(flying[-1] + 12, tr.times.size - 1)])))
+        return [("just before the failure", max(0.0, first["time_s"] - 0.5)),
+                (f"{first['kind']} at {first['time_s']:.2f} s, and after", min(duration, first["time_s"] + 0.4))]
+    if flying.size:
+        return [("in the air", float(tr.times[flying[len(flying) // 2]])),
+                ("landed", float(tr.times[min(flying[-1] + 12, tr.times.size - 1)]))]
+    demand = tr.field("grip_demand")
+    critical = float(tr.times[int(np.nanargmax(np.where(np.isfinite(demand), demand, -1)))])
+    return [("highest grip demand", critical), ("end of the beat", duration)]
+
+
+# --------------------------------------------------------------------- pages
+
+class Page:
+    """A page with a text cursor that runs down from the top (inches)."""
+
+    def __init__(self, plt, paper: str, content: dict):
+        self.w, self.h = PAPER[paper]
+        self.fig = plt.figure(figsize=(self.w, self.h))
+        self.y = self.h - MARGIN_IN
+        self.content = content
+
+    def fx(self, x_in: float) -> float:
+        return x_in / self.w
+
+    def fy(self, y_in: float) -> float:
+        return y_in / self.h
+
+    def text(self, x_in, words, size=BODY, weight="normal", color=INK, **kw):
+        self.fig.text(self.fx(x_in), self.fy(self.y), words, fontsize=size, weight=weight, color=color, va="top",
+                      **kw)
+
+    def para(self, words: str, size=BODY, weight="normal", width_chars: int = 138, x_in: float = MARGIN_IN,
+             color=INK, gap: float = 0.03) -> None:
+        lines = textwrap.wrap(words, width_chars) or [""]
+        self.text(x_in, "\n".join(lines), size, weight, color, linespacing=1.25)
+        self.y -= len(lines) * size * 1.25 / 72 + gap
+
+    def rule(self) -> None:
+        from matplotlib.lines import Line2D
+        self.y -= 0.04
+        self.fig.lines.append(Line2D([self.fx(MARGIN_IN), self.fx(self.w - MARGIN_IN)], [self.fy(self.y)] * 2,
+                                     transform=self.fig.transFigure, color=RULE, lw=0.6))
+        self.y -= 0.06
+
+    def heading(self, words: str) -> None:
+        self.text(MARGIN_IN, words.upper(), 8, "bold")
+        self.y -= 0.17
+
+    def footer(self, number: int, pages: int) -> None:
+        c = self.content
+        digest = c["scene_sha256"] or "no file"
+        self.fig.text(self.fx(MARGIN_IN), self.fy(0.3), f"roofbeat {c['roofbeat_version']}  |  scene "
+                      f"{Path(c['scene_file']).name}  sha256 {digest}", fontsize=6, color=SOFT)
+        self.fig.text(self.fx(self.w - MARGIN_IN), self.fy(0.3), f"page {number} of {pages}", fontsize=6,
+                      color=SOFT, ha="right")
+
+
+def _header(page: Page, scene, content, subtitle: str) -> None:
+    from matplotlib.patches import Rectangle
+    band = 0.75
+    page.fig.patches.append(Rectangle((0, page.fy(page.h - band)), 1, page.fy(band), transform=page.fig.transFigure,
+                                      color=INK, zorder=0))
+    page.fig.text(page.fx(MARGIN_IN), page.fy(page.h - 0.22), f"roofbeat  |  {subtitle}", color="white",
+                  fontsize=8.5, va="center")
+    title = scene.title if len(scene.title) <= 70 else scene.title[:69] + "…"
+    page.fig.text(page.fx(MARGIN_IN), page.fy(page.h - 0.5), title, color="white", fontsize=12, weight="bold",
+                  va="center")
+    page.fig.text(page.fx(page.w - MARGIN_IN), page.fy(page.h - 0.22),
+                  f"{content['date']}  |  units: {scene.units}", color="#dddddd", fontsize=7.5, ha="right",
+                  va="center")
+    page.fig.text(page.fx(page.w - MARGIN_IN), page.fy(page.h - 0.5), f"VERDICT: {content['verdict'].upper()}",
+                  color="white", fontsize=14, weight="bold", ha="right", va="center")
+    page.y = page.h - band - 0.2
+
+
+def _page_one(page: Page, scene, content, sweep, sweep_summary):
+    """The decision page; returns the sweep when its plot did not fit here (it then gets a page)."""
+    system = scene.units
+    _header(page, scene, content, "safety meeting brief")
+    for name, value in key_numbers(scene):
+        page.text(MARGIN_IN, name, BODY, "bold")
+        lines = textwrap.wrap(value, 112) or [""]
+        page.text(MARGIN_IN + 1.0, "\n".join(lines[:2]), BODY, linespacing=1.25)
+        page.y -= ROW * len(lines[:2]) + 0.01
+    page.rule()
+    _actions_table(page, scene, content)
+    page.rule()
+    page.heading("what happens")
+    first = content["first_failure"]
+    if first:
+        where = first["car_name"] or "off the roof"
+        page.para(f"First failure: {first['kind']} at {timecode(first['time_s'], scene.frame_rate)} "
+                  f"({first['time_s']:.2f} s) on {where}: {first['detail']}.", BODY + 0.5, "bold")
+        after = "; then ".join(phase_words(p, system) for p in content["aftermath"])
+        if after:
+            page.para(f"After it (the plan stops; the body goes where the physics takes it): {after}.")
     else:
-        times.append(("critical moment", critical))
-    return times
+        page.para("No failure in the simulated beat.", BODY + 0.5, "bold")
+    page.para(f"Apparent wind, highest: {content['apparent_wind']}.")
+    env = content["envelope"]
+    if env:
+        from preview.analysis import limit_words
+        for limit in env["limits"]:
+            page.para("Top speed: " + limit_words("speed", limit, env["range"], system) + ".", BODY + 0.5,
+                      "bold" if limit is env["limits"][0] else "normal")
+    for duck in content["ducks"]:
+        if duck["latest_start_s"] is None:
+            words = f"no start of '{duck['name']}' clears the structure"
+        else:
+            words = f"the latest start of '{duck['name']}' that clears is {duck['latest_start_s']:.2f} s"
+            if "planned_start_s" in duck:
+                spare = duck["spare_s"]
+                words += (f" (planned {duck['planned_start_s']:.2f} s: " +
+                          (f"{spare:.2f} s to spare)" if spare >= 0 else f"{-spare:.2f} s too late)"))
+        page.para(f"Duck: {words}.", BODY + 0.5, "bold")
+    page.rule()
+    if sweep is not None:
+        room = page.y - MARGIN_IN - 0.4 - CLOSING_IN
+        if room >= MIN_PLOT_IN:
+            _envelope(page, scene, sweep, sweep_summary, min(room, 2.8))
+            sweep = None
+            page.rule()
+    _closing(page, content)
+    return sweep
+
+
+CLOSING_IN = 3.0    # in: the checklist, the caution and the sign-off lines
+MIN_PLOT_IN = 1.9   # in: the envelope plot goes on a page of its own rather than smaller than this
+
+
+def _envelope(page: Page, scene, sweep, sweep_summary, height: float) -> None:
+    from preview.plots import draw_envelope
+    page.heading("speed envelope: margins against top speed")
+    width_in = page.w - 2 * MARGIN_IN
+    # Room on the right for the second axis and the legend, below for the axis label.
+    ax = page.fig.add_axes((page.fx(MARGIN_IN + 0.45), page.fy(page.y - height + 0.6), page.fx(width_in - 3.2),
+                            page.fy(height - 0.7)))
+    draw_envelope(ax, scene, sweep, sweep_summary)
+    page.y -= height
+
+
+def _closing(page: Page, content) -> None:
+    page.heading("crew checklist (tick on the day)")
+    for item in CHECKLIST:
+        page.text(MARGIN_IN, "☐", BODY + 1.5)
+        page.para(item, x_in=MARGIN_IN + 0.22, gap=0.02)
+    page.rule()
+    page.heading("caution")
+    page.para(CAUTION, width_chars=130)
+    page.y -= 0.12
+    for k, role in enumerate(SIGN_OFF):
+        x = MARGIN_IN + (k % 2) * (page.w - 2 * MARGIN_IN) / 2
+        if k % 2 == 0 and k:
+            page.y -= 0.42
+        page.text(x, f"{role}", BODY, "bold")
+        page.fig.text(page.fx(x), page.fy(page.y - 0.3), "name ____________________  signature ____________  "
+                      "date _______", fontsize=BODY - 0.5, color=INK)
+
+
+def _actions_table(page: Page, scene, content) -> None:
+    system = scene.units
+    req = content["required_factors"]
+    length_unit = to_display(1.0, "length", system)[1]
+    wind_unit = to_display(1.0, "wind", system)[1]
+    heads = [("action", 0.0), ("time (s)", 1.3), ("verdict", 1.95), ("grip ratio", 2.6),
+             (f"balance ({length_unit})", 3.25), ("lift ratio", 3.95), ("lean (°)", 4.55),
+             (f"wind ({wind_unit}, Bft)", 5.05), (f"landing ({length_unit})", 5.95), (f"clear. ({length_unit})", 6.65)]
+    needed = {"grip ratio": "grip ratio", f"balance ({length_unit})": "balance margin", "lift ratio": "lift ratio",
+              f"landing ({length_unit})": "landing margin", f"clear. ({length_unit})": "overhead clearance"}
+    page.heading("verdict per action: margins beside the factors required (≥)")
+    for head, x in heads:
+        page.text(MARGIN_IN + x, head, BODY - 1, "bold")
+    page.y -= ROW - 0.03
+    for head, x in heads:
+        if head in needed:
+            f = req[needed[head]]
+            value = display(f["value"], "length", system).split()[0] if f["unit"] == "m" else f"{f['value']:.2f}"
+            page.text(MARGIN_IN + x, f"≥ {value}", BODY - 1, color=SOFT)
+    page.y -= ROW
+    length = lambda v: "-" if v is None else f"{to_display(v, 'length', system)[0]:.2f}"  # noqa: E731
+    ratio = lambda v: "-" if v is None else f"{v:.2f}"  # noqa: E731
+    for a in content["actions"]:
+        name = a["name"] if len(a["name"]) <= 20 else a["name"][:19] + "…"
+        cells = [name, f"{a['start_s']:.1f}-{a['end_s']:.1f}"]
+        if not a["assessed"]:
+            page.text(MARGIN_IN, cells[0])
+            page.text(MARGIN_IN + 1.3, cells[1])
+            page.text(MARGIN_IN + 1.95, "FAILS: not reached, the beat failed before it", BODY, "bold")
+            page.y -= ROW
+            continue
+        cells += [a["verdict"].upper(), ratio(a["grip_ratio_min"]), length(a["balance_margin_min_m"]),
+                  ratio(a["lift_ratio_min"]), f"{a['lean_max_deg']:.1f}",
+                  f"{to_display(a['apparent_wind_max_ms'], 'wind', system)[0]:.1f}, {a['beaufort_max']}",
+                  length(a["landing_margin_min_m"]), length(a["clearance_min_m"])]
+        short = {s["margin"] for s in a["marginal_because"]}
+        for (head, x), cell in zip(heads, cells):
+            bold = head == "verdict" or needed.get(head) in short
+            page.text(MARGIN_IN + x, cell, BODY, "bold" if bold else "normal")
+        page.y -= ROW
+        if a["marginal_because"]:
+            page.para("why marginal: " + marginal_words(a["marginal_because"], system), BODY - 0.5,
+                      x_in=MARGIN_IN + 0.2, color=SOFT)
+
+
+def _page_two(page: Page, scene, content, playback) -> None:
+    from preview.canvas import FigureCanvas
+    from preview.frame import ViewSettings, draw_frame
+    from preview.panels import state_words
+    from physics.aftermath import state_at
+    _header(page, scene, content, "key frames")
+    frame = "split" if any(a.kind == "jump" for a in scene.actions) else "car"
+    width_in = page.w - 2 * MARGIN_IN
+    height_in = width_in * KEY_FRAME_SIZE[1] / KEY_FRAME_SIZE[0]
+    tr = playback.trajectory
+    for label, t in key_times(playback):
+        after = state_at(tr, tr.index_at(t))
+        state = f"; the body: {state_words(after, scene.units)}" if after else ""
+        page.para(f"{label}: {timecode(t, scene.frame_rate)} ({t:.2f} s), {frame} frame"
+                  f"{'s' if frame == 'split' else ''}{state}", BODY + 0.5, "bold", gap=0.06)
+        ax = page.fig.add_axes((page.fx(MARGIN_IN), page.fy(page.y - height_in), page.fx(width_in),
+                                page.fy(height_in)))
+        draw_frame(FigureCanvas(ax, KEY_FRAME_SIZE), playback, min(t, scene.duration),
+                   ViewSettings(frame=frame, zoom=1.6, readout=False, text_boost=KEY_FRAME_BOOST))
+        page.y -= height_in + 0.2
 
 
 def write_brief(scene, out: Path, paper: str = "a4") -> dict:
-    """Render the page to OUT (PDF) and its content to OUT with .json; returns the content."""
-    import matplotlib
-    matplotlib.use("Agg")
-    matplotlib.rcParams["pdf.fonttype"] = 42
-    import matplotlib.pyplot as plt
+    """Render the pages to OUT (PDF) and the content to OUT with .json; returns the content."""
+    from matplotlib.backends.backend_pdf import PdfPages
 
     from physics.sweep import SweepError, sweep_1d
     from preview.analysis import envelope_summary
-    from preview.export import frame_pixels
+    from preview.plots import _mpl
     from preview.session import make_playback
-    from preview.frame import ViewSettings
-    from preview.plots import draw_envelope
 
+    plt = _mpl()
     playback = make_playback(scene)
     sweep = sweep_summary = None
     top = max(k.speed for k in scene.keyframes)
     try:
-        sweep = sweep_1d(scene, "speed", max(0.5, 0.25 * top), max(top * 1.6, 10.0), points=33)
+        sweep = sweep_1d(scene, "speed", max(0.5, 0.25 * top), max(top * 2.5, 10.0), points=33)
         sweep_summary = envelope_summary(scene, sweep)
     except SweepError:
         pass
     content = brief_content(scene, playback, sweep_summary)
-    fig = plt.figure(figsize=PAPER[paper])
-    _header(fig, scene, content)
-    _tables(fig, scene, content)
-    has_jump = any(a.kind == "jump" for a in scene.actions)
-    for k, (label, t) in enumerate(key_times(playback)):
-        frame = "split" if has_jump else "car"
-        ax = fig.add_axes((0.05 + k * 0.31, 0.455, 0.29, 0.2))
-        ax.imshow(frame_pixels(playback, min(t, scene.duration), ViewSettings(frame=frame, zoom=1.8), (800, 660)))
-        ax.set_axis_off()
-        ax.set_title(f"{label} ({timecode(t, scene.frame_rate)})", fontsize=7)
-    if sweep is not None:
-        ax = fig.add_axes((0.08, 0.205, 0.80, 0.2))
-        draw_envelope(ax, scene, sweep, sweep_summary)
-        ax.set_title("speed envelope: margins against top speed", fontsize=8)
-    _footer(fig, content)
+    pages = [Page(plt, paper, content)]
     out = Path(out)
-    # The page and its JSON appear together or not at all.
     try:
+        left_over = _page_one(pages[0], scene, content, sweep, sweep_summary)
+        pages.append(Page(plt, paper, content))
+        _page_two(pages[1], scene, content, playback)
+        if left_over is not None:
+            pages.append(Page(plt, paper, content))
+            _header(pages[2], scene, content, "speed envelope")
+            _envelope(pages[2], scene, left_over, sweep_summary, 3.2)
+        for n, page in enumerate(pages, start=1):
+            page.footer(n, len(pages))
+        content["pages"] = len(pages)
+        # The pages and the JSON appear together or not at all.
         with OutputSet() as outs:
             pdf, data = outs.file(out), outs.file(out.with_suffix(".json"))
-            fig.savefig(pdf, format="pdf")
+            with PdfPages(pdf, metadata={"Title": f"roofbeat brief: {scene.title}",
+                                         "Creator": f"roofbeat {content['roofbeat_version']}"}) as doc:
+                for page in pages:
+                    doc.savefig(page.fig)
             data.write_text(json.dumps(content, indent=2, default=str))
     finally:
-        plt.close(fig)
+        for page in pages:
+            plt.close(page.fig)
     return content
-
-
-def _header(fig, scene, content) -> None:
-    from matplotlib.patches import Rectangle
-    fig.patches.append(Rectangle((0, 0.93), 1, 0.07, transform=fig.transFigure, color="#2b3138", zorder=0))
-    fig.text(0.05, 0.968, "roofbeat - safety meeting brief", color="white", fontsize=9)
-    fig.text(0.05, 0.943, scene.title[:62], color="white", fontsize=11, weight="bold")
-    fig.text(0.95, 0.968, f"{content['date']}  |  {Path(scene.source).name}", color="#dddddd", fontsize=7, ha="right")
-    fig.text(0.95, 0.943, f"VERDICT: {content['verdict'].upper()}", color="white", fontsize=13, weight="bold",
-             ha="right")
-
-
-def _tables(fig, scene, content) -> None:
-    y = 0.915
-    for name, value in key_numbers(scene):
-        fig.text(0.05, y, name, fontsize=7.5, weight="bold")
-        fig.text(0.18, y, value if len(value) <= 118 else value[:115] + "...", fontsize=7.5)
-        y -= 0.016
-    y -= 0.008
-    fig.text(0.05, y, "action", fontsize=7.5, weight="bold")
-    heads = [("time (s)", 0.22), ("verdict", 0.31), ("grip", 0.41), ("balance (m)", 0.48), ("lift", 0.58),
-             ("lean (°)", 0.64), ("wind (m/s, Bft)", 0.71), ("landing/clear. (m)", 0.83)]
-    for head, x in heads:
-        fig.text(x, y, head, fontsize=7.5, weight="bold")
-    for a in content["actions"]:
-        y -= 0.015
-        fig.text(0.05, y, a["name"][:22], fontsize=7.5)
-        if not a["assessed"]:
-            fig.text(0.22, y, f"{a['start_s']:.1f}-{a['end_s']:.1f}", fontsize=7.5)
-            fig.text(0.31, y, "FAILS (after the first failure)", fontsize=7.5, weight="bold")
-            continue
-        cells = [f"{a['start_s']:.1f}-{a['end_s']:.1f}", a["verdict"].upper(), _n(a["grip_ratio_min"]),
-                 _n(a["balance_margin_min_m"]), _n(a["lift_ratio_min"]), f"{a['lean_max_deg']:.1f}",
-                 f"{a['apparent_wind_max_ms']:.1f}, {a['beaufort_max']}",
-                 f"{_n(a['landing_margin_min_m'])} / {_n(a['clearance_min_m'])}"]
-        for (head, x), cell in zip(heads, cells):
-            fig.text(x, y, cell, fontsize=7.5, weight="bold" if head == "verdict" else "normal")
-    y -= 0.022
-    first = content["first_failure"]
-    text = (f"First failure: {first['kind']} at {first['time_s']:.2f} s on {first['car_name'] or 'no roof'} "
-            f"- {first['detail']}") if first else "No failure in the simulated beat."
-    fig.text(0.05, y, text, fontsize=8.5, weight="bold")
-    import textwrap
-    wind_lines = textwrap.wrap(f"Apparent wind, highest: {content['apparent_wind']}", 135)
-    fig.text(0.05, y - 0.017, "\n".join(wind_lines[:2]), fontsize=7.5, va="top")
-    y -= 0.012 * (len(wind_lines[:2]) - 1)
-    env = content["envelope"]
-    if env:
-        from preview.analysis import limit_words
-        words = limit_words("speed", env["limits"][0], env["range"], scene.units)
-        fig.text(0.05, y - 0.04, f"Top speed: {words}", fontsize=8.5, weight="bold")
-
-
-def _n(x) -> str:
-    return "-" if x is None else f"{x:.2f}"
-
-
-def _footer(fig, content) -> None:
-    import textwrap
-    fig.text(0.05, 0.118, "CAUTION", fontsize=8, weight="bold")
-    fig.text(0.05, 0.11, "\n".join(textwrap.wrap(CAUTION, 120)), fontsize=7.5, va="top")
-    for k, role in enumerate(content["sign_off"]):
-        x = 0.05 + k * 0.47
-        fig.text(x, 0.025, f"{role}: ______________________________   date: __________", fontsize=7.5)
 
 
 def cmd_brief(args) -> int:
@@ -208,5 +395,5 @@ def cmd_brief(args) -> int:
         content = write_brief(scene, out, args.paper)
     except OSError as exc:
         raise OutputError(f"{out}: could not write: {exc.strerror or exc}") from None
-    print(f"wrote {out} and {out.with_suffix('.json')}; verdict {content['verdict']}")
+    print(f"wrote {out} ({content['pages']} pages) and {out.with_suffix('.json')}; verdict {content['verdict']}")
     return 0

@@ -4,7 +4,8 @@ Car frame: the camera rides with the consist and follows the performer's
 car-frame position smoothed over a second, so standing still means a still
 picture and the scenery streams past. Ground frame: the camera is at rest in
 the ground and only re-frames (an eased pan) when the performer nears the edge
-of the picture; between pans the scenery is at rest and the consist moves.
+of the picture; between pans the scenery is at rest and the consist moves. Or
+it stands fixed beside the track (trackside) and the consist passes through.
 """
 
 from __future__ import annotations
@@ -76,8 +77,13 @@ def _eased_ground_x(performer_ground_x: float, stride: float, origin: float) -> 
     return origin + (k + blend) * stride + stride * 0.25
 
 
-def camera_for(trajectory, t: float, frame: str, size: tuple[int, int], zoom: float = 1.0, top: int = 0) -> Camera:
-    """The camera of a view at time t (pure: same inputs, same camera)."""
+def camera_for(trajectory, t: float, frame: str, size: tuple[int, int], zoom: float = 1.0, top: int = 0,
+               trackside: float | None = None) -> Camera:
+    """The camera of a view at time t (pure: same inputs, same camera).
+
+    trackside: in the ground frame, a camera fixed beside the track at this
+    ground x (m): the consist passes through the picture.
+    """
     width, height = size
     scale = 48.0 * zoom * min(width / 1280, height / 720 * 1.2)
     i = trajectory.index_at(t)
@@ -90,6 +96,8 @@ def camera_for(trajectory, t: float, frame: str, size: tuple[int, int], zoom: fl
     z_center = max(0.32 * span, roof + 2.3 - 0.42 * span)
     if frame == CAR:
         return Camera(CAR, car_x, scale, width, height, top, s, z_center)
+    if trackside is not None:
+        return Camera(GROUND, trackside, scale, width, height, top, s, z_center)
     stride = 0.5 * width / scale
     center = _eased_ground_x(car_x + s, stride, trajectory.scene.start_x)
     return Camera(GROUND, center, scale, width, height, top, s, z_center)

@@ -37,8 +37,14 @@ def build_parser() -> argparse.ArgumentParser:
     render = sub.add_parser("render", help="export the preview headless to MP4, GIF or PNG frames")
     _add_scene_args(render)
     render.add_argument("-o", "--output", required=True, type=options.render_output,
-                        help="OUT.mp4, OUT.gif or a folder for PNG frames")
+                        help="OUT.mp4, OUT.gif or a folder for PNG frames; OUT.csv (joints, forces per "
+                             "frame) or OUT.glb (glTF 2.0 scene) for the beat as data")
     render.add_argument("--frame", choices=("ground", "car", "split"), default="car")
+    render.add_argument("--trackside", type=options.length, default=None, metavar="GROUND_X",
+                        help='ground frame: a camera fixed beside the track at this ground position, e.g. '
+                             '"120 m" (the consist passes through); default: the camera follows')
+    render.add_argument("--no-legend", dest="legend", action="store_false",
+                        help="leave out the legend strip (vector colours, scale bars, timeline marks)")
     render.add_argument("--from", dest="t_from", type=options.seconds, default=None, metavar="SECONDS")
     render.add_argument("--to", dest="t_to", type=options.seconds, default=None, metavar="SECONDS")
     render.add_argument("--fps", type=options.whole(1, 120, "frames per second"), default=None)
@@ -68,16 +74,10 @@ def build_parser() -> argparse.ArgumentParser:
 
 
 def cmd_check(args) -> int:
-    from physics.simulation import simulate
-    from physics.verdict import summarise
     from preview.report import json_report, text_report
+    from preview.session import make_playback
     scene = load(args)
-    trajectory = simulate(scene)
-    summary = summarise(scene, trajectory.events, trajectory.outcomes)
-    from physics.aftermath import phases
-    from physics.hazards import latest_duck_starts
-    summary["aftermath"] = phases(trajectory)
-    summary["ducks"] = latest_duck_starts(scene)
+    summary = make_playback(scene).summary
     print(json_report(scene, summary) if args.json else text_report(scene, summary))
     return 0
 

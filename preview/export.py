@@ -11,7 +11,6 @@ import math
 import os
 import sys
 import tempfile
-from dataclasses import replace
 from pathlib import Path
 
 import numpy as np
@@ -157,8 +156,8 @@ def gif_palette():
     ramp for anti-aliased edges, and a 6x6x6 colour cube for everything else."""
     from PIL import Image
 
-    from preview import frame
-    named = [v for v in vars(frame).values() if isinstance(v, tuple) and len(v) == 3
+    from preview import palette
+    named = [v for v in vars(palette).values() if isinstance(v, tuple) and len(v) == 3
              and all(isinstance(c, int) for c in v)]
     greys = [(g, g, g) for g in range(0, 256, 15)]
     cube = [(r, g, b) for r in range(0, 256, 51) for g in range(0, 256, 51) for b in range(0, 256, 51)]
@@ -189,15 +188,41 @@ def render(scene, args) -> int:
                          "export a part with --from and --to, or fewer --fps")
     out = Path(args.output)
     check_target(out, folder=out.suffix == "")
+    if out.suffix.lower() in (".csv", ".glb"):
+        return _render_data(scene, args, out, fps)
     if out.suffix.lower() == ".mp4" and even16(size) != size:
         size = even16(size)
         print(f"roofbeat: MP4 size rounded up to {size[0]}x{size[1]} (multiples of 16)", file=sys.stderr)
     playback = make_playback(scene)
-    view = replace(ViewSettings(frame=args.frame), caption=True)
+    trackside = getattr(args, "trackside", None)
+    frame = "ground" if trackside is not None and args.frame == "car" else args.frame
+    view = ViewSettings(frame=frame, trackside=trackside, legend=getattr(args, "legend", True))
     try:
         write_frames(playback, times, view, size, out)
     except OSError as exc:
         raise OutputError(f"{out}: could not write: {exc.strerror or exc}") from None
-    print(f"wrote {out} ({len(times)} frames at {fps} fps, {size[0]}x{size[1]}, {args.frame} frame); "
+    print(f"wrote {out} ({len(times)} frames at {fps} fps, {size[0]}x{size[1]}, {frame} frame); "
+          f"verdict {playback.summary['verdict']}")
+    return 0
+
+
+def _render_data(scene, args, out: Path, fps: float) -> int:
+    """The beat as data: a CSV table or a glTF 2.0 binary, sampled at the video frame rate."""
+    from preview.beat_data import beat_times, write_csv, write_glb
+    try:
+        times = beat_times(scene, fps, args.t_from, args.t_to)
+    except ValueError as exc:
+        raise UsageError(str(exc)) from None
+    if len(times) > MAX_FRAMES:
+        raise UsageError(f"{len(times):,} frames is more than one export writes ({MAX_FRAMES:,}): "
+                         "export a part with --from and --to, or fewer --fps")
+    playback = make_playback(scene)
+    writer = write_csv if out.suffix.lower() == ".csv" else write_glb
+    try:
+        with OutputSet() as outs:
+            writer(playback, times, outs.file(out))
+    except OSError as exc:
+        raise OutputError(f"{out}: could not write: {exc.strerror or exc}") from None
+    print(f"wrote {out} ({len(times)} frames at {fps} fps, {times[0]:.2f}-{times[-1]:.2f} s); "
           f"verdict {playback.summary['verdict']}")
     return 0

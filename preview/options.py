@@ -10,7 +10,7 @@ from pathlib import Path
 MAX_SAMPLES = 2_000_000
 MAX_POINTS = 401           # a sweep's grid, before refinement
 MAX_SEED = 2**63 - 1
-SIZE_RANGE = ((160, 120), (7680, 4320))
+SIZE_RANGE = ((640, 360), (7680, 4320))  # below 640x360 the caution and the panels do not fit
 PLOT_SUFFIXES = (".png", ".pdf", ".svg")
 
 
@@ -49,9 +49,9 @@ def frame_size(text: str) -> tuple[int, int]:
 
 def render_output(text: str) -> Path:
     path = Path(text)
-    if path.suffix.lower() not in (".mp4", ".gif", ""):
-        raise argparse.ArgumentTypeError(f"expected OUT.mp4, OUT.gif or a folder name (no suffix) for PNG frames, "
-                                         f"got {text!r}")
+    if path.suffix.lower() not in (".mp4", ".gif", ".csv", ".glb", ""):
+        raise argparse.ArgumentTypeError(f"expected OUT.mp4, OUT.gif, a folder name (no suffix) for PNG frames, "
+                                         f"OUT.csv or OUT.glb for the beat as data, got {text!r}")
     return path
 
 
@@ -75,3 +75,15 @@ def vary(text: str):
         return parse_vary(text)
     except ValueError as exc:
         raise argparse.ArgumentTypeError(str(exc)) from None
+
+
+def length(text: str) -> float:
+    """A ground position such as "120 m" or "400 ft" (metres without a unit), in metres."""
+    from physics.units import QuantityError, parse_quantity
+    try:
+        value = parse_quantity(text if any(c.isalpha() for c in text) else f"{text} m", "length")
+    except QuantityError as exc:
+        raise argparse.ArgumentTypeError(str(exc)) from None
+    if not math.isfinite(value) or abs(value) > 1e7:
+        raise argparse.ArgumentTypeError(f"expected a ground position within 10,000 km, got {text!r}")
+    return value

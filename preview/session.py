@@ -78,7 +78,28 @@ class Playback:
 
 
 def make_playback(scene, variant=None) -> Playback:
+    """Simulate and summarise: verdicts, events, what became of the body after a failure
+    (`aftermath`), when the performer reaches each structure (`arrivals`) and, for the scene
+    as written (no what-if variant), the latest start of each duck that still clears (`ducks`)."""
+    from physics.aftermath import phases
+    from physics.hazards import latest_duck_starts
     from physics.simulation import simulate
     from physics.verdict import summarise
     trajectory = simulate(scene, variant)
-    return Playback(trajectory, summarise(scene, trajectory.events, trajectory.outcomes))
+    summary = summarise(scene, trajectory.events, trajectory.outcomes)
+    summary["aftermath"] = phases(trajectory)
+    summary["arrivals"] = structure_arrivals(trajectory)
+    summary["ducks"] = latest_duck_starts(scene) if variant is None else []
+    return Playback(trajectory, summary)
+
+
+def structure_arrivals(trajectory) -> list[dict]:
+    """When the performer's centre of mass first passes under each structure's near edge (ground frame)."""
+    import numpy as np
+    ground_x = trajectory.com_path[:, 0] + trajectory.field("distance")
+    out = []
+    for s in trajectory.scene.structures:
+        under = np.flatnonzero(np.nan_to_num(ground_x, nan=-np.inf) >= s.x_start)
+        if under.size:
+            out.append({"name": s.name, "time_s": float(trajectory.times[under[0]])})
+    return out

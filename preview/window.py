@@ -15,13 +15,14 @@ import time
 from dataclasses import dataclass, replace
 from pathlib import Path
 
-from preview.frame import ViewSettings, draw_frame, timeline_rect
+from preview.frame import ViewSettings, draw_frame
+from preview.panels import timeline_rect
 from preview.session import Playback, make_playback
 
 RATES = (0.1, 0.25, 0.5, 1.0, 1.5, 2.0)
 FRAMES = ("car", "ground", "split")
-SPEED_STEP = 5 / 3.6   # m/s per what-if key press
-WIND_STEP = 1.0        # m/s
+# What-if steps per key press, in the display units: (speed, wind) in m/s.
+STEPS = {"metric": (5 / 3.6, 1.0), "imperial": (5 * 0.44704, 2 * 0.44704)}  # 5 km/h, 1 m/s; 5 mph, 2 mph
 
 
 @dataclass
@@ -36,6 +37,7 @@ class PlayerState:
     running: bool = True
     scrubbing: bool = False
     screenshots: int = 0
+    units: str | None = None     # the U key's choice, kept across re-loads
 
 
 def what_if_variant(scene, speed_delta: float, wind_delta: float):
@@ -67,7 +69,9 @@ def what_if_label(state: PlayerState, system: str) -> str:
 
 def resimulate(state: PlayerState) -> None:
     scene = state.playback.scene
-    state.playback = make_playback(scene, what_if_variant(scene, state.speed_delta, state.wind_delta))
+    changed = bool(state.speed_delta or state.wind_delta)
+    state.playback = make_playback(scene, what_if_variant(scene, state.speed_delta, state.wind_delta)
+                                   if changed else None)
     state.view = replace(state.view, what_if=what_if_label(state, scene.units) + (
         f" -> verdict {state.playback.summary['verdict']}" if (state.speed_delta or state.wind_delta) else ""))
 
@@ -104,11 +108,19 @@ def handle_key(state: PlayerState, key: str, screenshot_dir: Path | None = None,
     elif key == "h":
         state.view = replace(v, show_help=not v.show_help)
     elif key in ("up", "down"):
-        state.speed_delta += SPEED_STEP if key == "up" else -SPEED_STEP
+        step = STEPS[scene.units][0]
+        state.speed_delta += step if key == "up" else -step
         resimulate(state)
     elif key in ("w", "s"):
-        state.wind_delta += WIND_STEP if key == "w" else -WIND_STEP
+        step = STEPS[scene.units][1]
+        state.wind_delta += step if key == "w" else -step
         resimulate(state)
+    elif key == "l":
+        state.view = replace(v, legend=not v.legend)
+    elif key == "c":
+        state.view = trackside_toggled(state)
+    elif key == "u":
+        switch_units(state)
     elif key == "0":
         state.speed_delta = state.wind_delta = 0.0
         resimulate(state)
@@ -116,6 +128,31 @@ def handle_key(state: PlayerState, key: str, screenshot_dir: Path | None = None,
         save_screenshot(state, surface, screenshot_dir or Path.cwd())
     elif key == "escape":
         state.running = False
+
+
+def trackside_toggled(state: PlayerState) -> ViewSettings:
+    """A trackside camera fixed where the performer is now (ground frame), or back to following."""
+    v = state.view
+    if v.trackside is not None:
+        return replace(v, trackside=None)
+    tr = state.playback.trajectory
+    i = tr.index_at(state.t)
+    x = float(tr.com_path[i, 0] + tr.field("distance")[i])
+    if x != x:  # no body position (NaN): nothing to stand beside
+        return replace(v, message="trackside camera: no performer position at this time")
+    return replace(v, trackside=x, frame="ground" if v.frame == "car" else v.frame)
+
+
+def switch_units(state: PlayerState) -> None:
+    """Metric <-> imperial on every number shown; the physics is unchanged."""
+    scene = state.playback.scene
+    state.units = "imperial" if scene.units == "metric" else "metric"
+    state.playback = make_playback(replace(scene, units=state.units),
+                                   what_if_variant(scene, state.speed_delta, state.wind_delta)
+                                   if (state.speed_delta or state.wind_delta) else None)
+    if state.speed_delta or state.wind_delta:
+        state.view = replace(state.view, what_if=what_if_label(state, state.units) +
+                             f" -> verdict {state.playback.summary['verdict']}")
 
 
 def save_screenshot(state: PlayerState, surface, folder: Path) -> Path:
@@ -168,7 +205,11 @@ class SceneWatcher:
         from physics.scene_load import SceneError, load_scene
         try:
             scene = load_scene(self.path, self.overrides)
-            playback = make_playback(scene, what_if_variant(scene, state.speed_delta, state.wind_delta))
+            if state.units:
+                scene = replace(scene, units=state.units)
+            changed = bool(state.speed_delta or state.wind_delta)
+            playback = make_playback(scene, what_if_variant(scene, state.speed_delta, state.wind_delta)
+                                     if changed else None)
         except SceneError as exc:
             state.view = replace(state.view, message="scene not re-loaded, still playing the last good one:\n"
                                  + exc.render())

@@ -10,7 +10,13 @@ import pytest
 os.environ.setdefault("SDL_VIDEODRIVER", "dummy")
 os.environ.setdefault("SDL_AUDIODRIVER", "dummy")
 
+from hypothesis import settings  # noqa: E402
+
 from physics.scene_load import parse_scene  # noqa: E402
+
+# CI is reproducible: the same examples on every run (a failure found once is found again).
+settings.register_profile("roofbeat", derandomize=True)
+settings.load_profile("roofbeat")
 
 REPO = Path(__file__).resolve().parent.parent
 SCENES = sorted((REPO / "scenes").glob("*.toml"))

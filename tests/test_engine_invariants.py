@@ -1,6 +1,5 @@
 """Cross-checks and invariants of the engine: frames, scaling, determinism, robustness."""
 
-import math
 
 import numpy as np
 import pytest
@@ -216,3 +215,27 @@ def test_no_body_point_is_ever_inside_a_car_or_below_the_ground(path):
         inside = ((x > car.rear_x + tolerance) & (x < car.front_x - tolerance)
                   & (z > car.body_bottom + tolerance) & (z < car.roof_height - tolerance))
         assert not inside.any(), (car.name, tr.times[np.argwhere(inside)[0][0]])
+
+
+@pytest.mark.parametrize("speed,roof", [("160 km/h", "painted steel wet"), ("250 km/h", "painted steel wet"),
+                                        ("160 km/h", "painted steel dry"), ("250 km/h", "painted steel dry")])
+def test_a_body_blown_off_goes_off_once_and_never_rests_in_the_air(speed, roof):
+    # After a slip or topple the body slides, lies, goes over the end and comes down on the ground:
+    # a handful of phases, not a chatter on the roof's end, and never "in the air" while resting
+    # on a roof (a body the roof holds up is on the roof, not flying).
+    from physics.aftermath import phases
+    scene = parse_scene(scene_text(speed=speed, roof=roof,
+                                   actions=['do = "crouch"\nduration = "6 s"\ntransition = "0 s"']), "t.toml")
+    tr = simulate(scene)
+    steps = phases(tr)
+    assert 2 <= len(steps) <= 6, [p["state"] for p in steps]
+    assert steps[-1]["state"] == "on the ground beside or between the cars"
+    car = scene.cars[0]
+    ends = tr.ends()
+    low = ends[..., 1].reshape(len(ends), -1).min(axis=1)
+    x = ends[..., 0].reshape(len(ends), -1)
+    over = ((x > car.rear_x) & (x < car.front_x)).any(axis=1)
+    resting = (tr.field("mode") == Mode.FLIGHT) & over & (np.abs(low - car.roof_height) < 0.01)
+    run = max((len(r) for r in np.split(resting, np.flatnonzero(np.diff(resting.astype(int))) + 1) if r.all()),
+              default=0)
+    assert run * scene.step <= 0.1

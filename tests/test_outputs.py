@@ -19,7 +19,7 @@ from preview.outputs import EXPORT_MARKER
 from tests.conftest import REPO
 
 SCENE = str(REPO / "scenes" / "footbridge_duck.toml")
-SHORT = ["--from", "1", "--to", "1.4", "--size", "320x180", "--fps", "10"]
+SHORT = ["--from", "1", "--to", "1.4", "--size", "640x360", "--fps", "10"]
 
 
 def run(*args, limit_bytes=None, cwd=None):
@@ -75,7 +75,7 @@ def test_render_replaces_its_own_earlier_export(tmp_path):
     out = tmp_path / "frames"
     assert main(["render", SCENE, "-o", str(out), *SHORT]) == 0
     assert (out / EXPORT_MARKER).is_file() and len(list(out.glob("frame_*.png"))) == 5
-    assert main(["render", SCENE, "-o", str(out), "--from", "1", "--to", "1.2", "--size", "320x180", "--fps",
+    assert main(["render", SCENE, "-o", str(out), "--from", "1", "--to", "1.2", "--size", "640x360", "--fps",
                  "10"]) == 0
     assert len(list(out.glob("frame_*.png"))) == 3
     assert leftovers(tmp_path) == []

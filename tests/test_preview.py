@@ -13,7 +13,9 @@ from preview.camera import CAR, GROUND, camera_for
 from preview.canvas import RecordingCanvas
 from preview.export import frame_pixels, write_frames
 from preview.session import make_playback
-from preview.frame import AERO, CAR_BODY, FAILURE, INK, ViewSettings, cameras, draw_frame
+from preview.frame import ViewSettings, cameras, draw_frame
+from preview.palette import AERO, CAR_BODY, FAILURE, INK
+from preview.world import FORCE_PER_METRE
 from tests.conftest import REPO
 
 SIZE = (1280, 720)
@@ -85,7 +87,7 @@ def test_pixels_show_figure_vector_and_failure_marker(late_duck):
     assert near(pixels, cam.to_screen(*trunk_mid), INK)
     com = tuple(tr.com_path[i])
     aero = (tr.field("aero_x")[i], tr.field("aero_z")[i])
-    tip = cam.to_screen(com[0] + 0.8 * aero[0] / 400, com[1] + 0.8 * aero[1] / 400)
+    tip = cam.to_screen(com[0] + 0.8 * aero[0] / FORCE_PER_METRE, com[1] + 0.8 * aero[1] / FORCE_PER_METRE)
     assert near(pixels, tip, AERO, radius=4)
     # The failure marker appears at the failure place once its time has come, and not before.
     after = failure["time_s"] + 0.3
@@ -133,16 +135,16 @@ def test_split_view_has_both_frames(heritage):
 def test_gif_and_mp4_exports_decode_with_the_right_frames(heritage, tmp_path):
     from PIL import Image
     times = np.arange(0, 1.0, 1 / 10)
-    gif = write_frames(heritage, times, ViewSettings(frame="split"), (320, 180), tmp_path / "clip.gif")
+    gif = write_frames(heritage, times, ViewSettings(frame="split"), (640, 360), tmp_path / "clip.gif")
     with Image.open(gif) as im:
-        assert im.n_frames == len(times) and im.size == (320, 180)
+        assert im.n_frames == len(times) and im.size == (640, 360)
         assert im.info["duration"] == 100
     import imageio_ffmpeg
-    mp4 = write_frames(heritage, times, ViewSettings(), (320, 176), tmp_path / "clip.mp4")
+    mp4 = write_frames(heritage, times, ViewSettings(), (640, 352), tmp_path / "clip.mp4")
     reader = imageio_ffmpeg.read_frames(str(mp4))
     meta = next(reader)
     frames = list(reader)
-    assert meta["size"] == (320, 176) and len(frames) == len(times)
+    assert meta["size"] == (640, 352) and len(frames) == len(times)
     assert [p.name for p in tmp_path.iterdir() if p.name.startswith(".")] == []
 
 
@@ -160,7 +162,7 @@ def test_interrupted_export_leaves_nothing_under_the_name(heritage, tmp_path, mo
     for name in ("cut.gif", "cut.mp4", "cut_frames"):
         calls["n"] = 0
         with pytest.raises(KeyboardInterrupt):
-            write_frames(heritage, np.arange(0, 1, 0.1), ViewSettings(), (320, 176), tmp_path / name)
+            write_frames(heritage, np.arange(0, 1, 0.1), ViewSettings(), (640, 352), tmp_path / name)
         assert not (tmp_path / name).exists()
     assert list(tmp_path.iterdir()) == []
 

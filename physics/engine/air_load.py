@@ -14,8 +14,6 @@ from __future__ import annotations
 import math
 from collections import namedtuple
 
-import numpy as np
-
 from physics.engine.jit import kernel, small
 
 # Total force (N) and its torque about the pivot as a function of the lean:

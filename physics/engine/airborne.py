@@ -6,15 +6,15 @@ import math
 
 from physics.engine.air_load import rotate
 from physics.engine.beat_state import Beat, State, failed, travel, with_mode
-from physics.engine.flight import (Flight, crossing, inside_margin, kept_out_of_cars, land, on_the_ground, rk4,
-                                   take_off, touchdown_car)
+from physics.engine.flight import (Flight, crossing, inside_margin, kept_out_of_cars, land, on_the_ground,
+                                   rk4, take_off, touchdown_car)
 from physics.engine.jit import kernel, small
 from physics.engine.outcome import note_event, note_landing_margin, note_target, note_touchdown
 from physics.engine.overhead import anything_overhead, overhead_step
 from physics.engine.recording import record_flight
 from physics.engine.roof import car_at
 from physics.engine.sliding import Slide
-from physics.engine.stance import after_landing
+from physics.engine.stance import Balance, after_landing
 from physics.records import Event, Mode
 
 
@@ -34,7 +34,7 @@ def flight_iteration(v, inputs, env, state, act, out):
     if beat.mode == Mode.GONE or env.last:
         return State(beat, state.slide, state.balance, fl)
     new = rk4(fl, posture, env.speed, env.next_speed, env.accel, env.wind_x, env.wind_y, v.drag, v.mass, v.dt)
-    car, cross = touchdown_car(inputs.cars, fl, new)
+    car, cross = touchdown_car(inputs.cars, fl, new, not beat.assessing)
     if car >= 0:
         return touch_down(v, inputs, env, State(beat, state.slide, state.balance, fl), car, cross, act, out)
     beat, new = check_fall(v, inputs, env, beat, fl, new, act, out)
@@ -86,6 +86,8 @@ def touch_down(v, inputs, env, state, car, cross, act, out):
     cars = inputs.cars
     action = inputs.actions[act]
     beat = state.beat
+    if not beat.assessing:
+        return come_down(v, inputs, env, state, car, cross)
     ld = land(cars, car, cross, state.flight, inputs.postures[action.landed_row], v.roof_scale,
               v.params.recovery_step)
     tau = cross.frac * v.dt
@@ -117,3 +119,18 @@ def touch_down(v, inputs, env, state, car, cross, act, out):
     plan_row = beat.plan_row if beat.assessing else action.landed_row
     return State(Beat(mode, beat.jumped, act, beat.assessing, False, beat.failed_act, plan_row), slide,
                  after_landing(state.balance), state.flight)
+
+
+
+@kernel
+def come_down(v, inputs, env, state, car, cross):
+    """After a failure the body comes down onto a roof as it is, not onto its feet: down on the
+    roof at the lean it flew with, its lowest point the contact, sliding on the speed it keeps."""
+    fl = state.flight
+    beat = state.beat
+    bal = state.balance
+    lying = Balance(fl.lean, 0.0, 0.0, bal.brace_a, bal.brace_b, bal.brace_lift, bal.ext_lo, bal.ext_hi,
+                    bal.step_used, bal.outside, True, True)
+    slide = Slide(cross.x + fl.low_dx, cross.vx, 0.0, state.slide.gait_phase)
+    return State(Beat(Mode.DOWN.value, beat.jumped, beat.landed, beat.assessing, False, beat.failed_act,
+                      beat.plan_row), slide, lying, fl)

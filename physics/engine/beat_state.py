@@ -9,7 +9,7 @@ from __future__ import annotations
 
 from collections import namedtuple
 
-from physics.engine.jit import kernel, small
+from physics.engine.jit import small
 from physics.records import Mode
 
 # What stays fixed through one variant's run: its index b and parameters (a

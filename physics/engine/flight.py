@@ -122,9 +122,15 @@ def crossing(before, after, level):
 
 
 @kernel
-def touchdown_car(cars, before, after):
-    """(car, crossing) of a touchdown this step, car -1 if the body did not come down onto a roof."""
+def touchdown_car(cars, before, after, by_com):
+    """(car, crossing) of a touchdown this step, car -1 if the body did not come down onto a roof.
+
+    The roof under the lowest point takes the body; after a failure (by_com) only if the centre of
+    mass is over the same roof: a body going over a roof's end does not come back onto it.
+    """
     car = car_at(cars, after.x + after.low_dx)
+    if by_com and car_at(cars, after.x) != car:
+        car = -1
     if car < 0 or before.fallen:
         return -1, Crossing(-1.0, 0.0, 0.0, 0.0)
     cross = crossing(before, after, cars[car].roof_height)
@@ -152,7 +158,8 @@ def inside_margin(cars, car, x):
 @kernel
 def kept_out_of_cars(cars, before, after):
     """A body below a car's roof level cannot be inside that car: it meets the end wall it flew at
-    and stops against it (no bounce); over the roof a touchdown has already taken it."""
+    and stops against it (no bounce); a body that has fallen past a roof's end goes down beside
+    that end; over the roof a touchdown has already taken it."""
     for i in range(cars.shape[0]):
         car = cars[i]
         if after.z + after.low_dz >= car.roof_height:
@@ -163,6 +170,12 @@ def kept_out_of_cars(cars, before, after):
             return moved(after, car.front_x - after.left, after.z, 0.0, after.vz), True
         if before.x + before.right <= car.rear_x + EDGE_TOLERANCE:
             return moved(after, car.rear_x - after.right, after.z, 0.0, after.vz), True
+        if after.fallen or after.x < car.rear_x or after.x > car.front_x:
+            # Its lowest point already went down past this roof's end, or its centre of mass is past
+            # it: the body goes down past the end wall on that side, not back up onto the roof.
+            if after.x < 0.5 * (car.rear_x + car.front_x):
+                return moved(after, car.rear_x - after.right, after.z, 0.0, after.vz), True
+            return moved(after, car.front_x - after.left, after.z, 0.0, after.vz), True
         # It came down onto the roof: it rests on it, to touch down as it settles.
         return moved(after, after.x, car.roof_height - after.low_dz, after.vx, 0.0), True
     return after, False

@@ -40,6 +40,10 @@ def footing(v, inputs, beat, bal, slide, plan):
     cars = inputs.cars
     contact = Contact.BODY.value if bal.lying else posture.contact
     car = car_at(cars, slide.x)
+    if car < 0 and bal.lying:
+        # A body lying over a roof's end is on that roof while its centre of mass is.
+        cx, unused = rotate(posture.com_x, posture.com_z, math.cos(bal.lean), math.sin(bal.lean))
+        car = car_at(cars, slide.x + cx)
     mu_s, mu_k = roof_friction(cars, car, contact, v.roof_scale)
     gait_v = plan.gait_speed if beat.mode == Mode.PLANTED and not bal.lying else 0.0
     return Footing(row, contact, car, cars[car if car >= 0 else 0].roof_height, gait_v,
@@ -157,11 +161,12 @@ def grip_and_slide(v, inputs, env, beat, bal, load, ft, plan, slide, out):
 
 @kernel
 def leave_roof(v, inputs, env, state, load, ft, plan, act, out):
-    """At t_(k+1): off an edge the body flies from where it is, a toppled body whose centre of mass
-    has gone past a car end goes over it, and a jump takes off when it is ready."""
+    """At t_(k+1): off an edge the body flies from where it is (a body down on the roof once its
+    centre of mass has gone past a car end), and a jump takes off when it is ready."""
     beat, bal, slide = state.beat, state.balance, state.slide
     posture = inputs.postures[ft.row]
-    if car_at(inputs.cars, slide.x) < 0 or (beat.mode == Mode.DOWN and over_an_end(inputs.cars, posture, bal, slide)):
+    lying = beat.mode == Mode.DOWN or bal.lying
+    if (over_an_end(inputs.cars, posture, bal, slide) if lying else car_at(inputs.cars, slide.x) < 0):
         fl = take_off(posture, ft.row, bal.lean, slide.x, ft.roof_z, slide.u + ft.gait_v + bal.rate * load.com_z,
                       -bal.rate * load.com_x)
         return State(with_mode(beat, Mode.FLIGHT), slide, bal, fl)

@@ -13,7 +13,7 @@ import math
 from collections import namedtuple
 
 from physics import G
-from physics.engine.jit import kernel, small
+from physics.engine.jit import small
 
 # Carried state of the contact on the roof: pivot position (car frame, m), its
 # speed and acceleration over the roof (m/s, m/s^2), and the gait's phase (rad).

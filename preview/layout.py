@@ -1,0 +1,116 @@
+"""Keeping the picture's labels apart and inside their boxes.
+
+A frame is drawn panels first: each panel reserves its rectangle. Labels that
+can move (a failure callout, a structure's name, a drift figure, a message)
+then take the first of their candidate places that is free and inside their
+view, or the least covered one. Text is fitted to the width it is given,
+cut with an ellipsis rather than run out of its box.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+
+from preview.canvas import measure
+
+
+@dataclass(frozen=True)
+class Box:
+    x: float
+    y: float
+    w: float
+    h: float
+
+    @property
+    def right(self) -> float:
+        return self.x + self.w
+
+    @property
+    def bottom(self) -> float:
+        return self.y + self.h
+
+    def overlap(self, other: "Box") -> float:
+        """Area shared with another box (0 when apart)."""
+        w = min(self.right, other.right) - max(self.x, other.x)
+        h = min(self.bottom, other.bottom) - max(self.y, other.y)
+        return max(0.0, w) * max(0.0, h)
+
+    def inside(self, other: "Box") -> bool:
+        return (self.x >= other.x - 0.5 and self.y >= other.y - 0.5 and self.right <= other.right + 0.5
+                and self.bottom <= other.bottom + 0.5)
+
+    def clamped(self, area: "Box") -> "Box":
+        """This box moved (not resized) as little as it takes to lie inside `area`, where it fits."""
+        x = min(max(self.x, area.x), max(area.x, area.right - self.w))
+        y = min(max(self.y, area.y), max(area.y, area.bottom - self.h))
+        return Box(x, y, self.w, self.h)
+
+
+@dataclass
+class Layout:
+    """The boxes taken so far in one frame."""
+
+    taken: list = field(default_factory=list)
+
+    def reserve(self, box: Box) -> Box:
+        self.taken.append(box)
+        return box
+
+    def place(self, w: float, h: float, candidates, area: Box) -> Box:
+        """The first free candidate top-left (x, y) for a w x h box inside `area`, else the least covered; reserved."""
+        best, best_cover = None, None
+        candidates = list(candidates)
+        for x, y in candidates:
+            box = Box(x, y, w, h).clamped(area)
+            cover = sum(box.overlap(t) for t in self.taken)
+            if cover == 0:
+                return self.reserve(box)
+            if best is None or cover < best_cover:
+                best, best_cover = box, cover
+        # None of the wished-for places is free: the free place nearest the first one, if any.
+        x0, y0 = candidates[0] if candidates else (area.x, area.y)
+        free = [b for b in self._grid(w, h, area) if self.free(b)]
+        if free:
+            return self.reserve(min(free, key=lambda b: (b.x - x0) ** 2 + (b.y - y0) ** 2))
+        return self.reserve(best if best is not None else Box(area.x, area.y, w, h))
+
+    @staticmethod
+    def _grid(w: float, h: float, area: Box, step: float = 12.0):
+        ny, nx = int(max(0.0, area.h - h) // step) + 1, int(max(0.0, area.w - w) // step) + 1
+        for j in range(ny):
+            for i in range(nx):
+                yield Box(area.x + i * step, area.y + j * step, w, h)
+
+    def free(self, box: Box) -> bool:
+        return all(box.overlap(t) == 0 for t in self.taken)
+
+
+def fit(text: str, size: int, width: float, bold: bool = False, mono: bool = False) -> str:
+    """The text, cut with an ellipsis so that it is at most `width` pixels wide."""
+    if measure(text, size, bold, mono)[0] <= width:
+        return text
+    lo, hi = 0, len(text)
+    while lo < hi:
+        mid = (lo + hi + 1) // 2
+        if measure(text[:mid].rstrip() + "…", size, bold, mono)[0] <= width:
+            lo = mid
+        else:
+            hi = mid - 1
+    return text[:lo].rstrip() + "…" if lo else ""
+
+
+def wrap(text: str, size: int, width: float, bold: bool = False, mono: bool = False) -> list[str]:
+    """The text broken into lines at most `width` pixels wide (a word too long for a line is cut)."""
+    lines: list[str] = []
+    for paragraph in text.splitlines() or [""]:
+        line = ""
+        for word in paragraph.split(" "):
+            attempt = f"{line} {word}" if line else word
+            if measure(attempt, size, bold, mono)[0] <= width:
+                line = attempt
+            else:
+                if line:
+                    lines.append(line)
+                line = fit(word, size, width, bold, mono)
+        lines.append(line)
+    return lines

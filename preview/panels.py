@@ -1,0 +1,449 @@
+"""The picture's panels: the readout, the frame banners, the legend, the
+timeline, the caution line, the help and the messages.
+
+`plan` works out every panel's text and box for one frame and reserves the
+boxes in the frame's Layout (so the world's labels keep clear of them);
+`draw` then draws them over the world. Panels are opaque: what lies under one
+is hidden, never shown through a label. Every number is in the scene's
+display units.
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass, field
+
+from physics.aftermath import state_at
+from physics.records import EVENT_WORDS, Event, Mode
+from physics.units import display, to_display
+from physics.verdict import verdict_so_far
+from physics.wind_scales import beaufort
+from preview.camera import GROUND
+from preview.canvas import measure
+from preview.caution import CAUTION_SHORT
+from preview.layout import Box, Layout, fit, wrap
+from preview.palette import (AERO, FACT, FAILURE, FAINT, HOLDS, INK, MARGINAL, PANEL, PSEUDO, REACTION,
+                             SEGMENT_AERO, SOFT_INK, STRUCTURE, TRAIL, WEIGHT, WIND)
+from preview.report import marginal_words, phase_words
+from preview.timecode import timecode
+
+MARGIN = 10
+TIMELINE_H = 26
+TICK_H = 8          # room above the timeline for the structure and duck-by marks
+CAUTION_SIZE = 11
+
+# The vector keys 1-7 in order, with their colours and words.
+VECTOR_LEGEND = (
+    ("1", "weight", WEIGHT, "weight (at the centre of mass)"),
+    ("2", "aero", AERO, "air load on the body"),
+    ("3", "segments", SEGMENT_AERO, "air load per segment"),
+    ("4", "reaction", REACTION, "roof reaction and friction"),
+    ("5", "pseudo", PSEUDO, "pseudo-force (car frame)"),
+    ("6", "wind", WIND, "apparent wind"),
+    ("7", "balance", HOLDS, "support and balance point"),
+)
+
+HELP = (
+    ("space", "play / pause"), ("left / right", "one frame back / forward"),
+    ("[ and ]", "playback rate 0.1x - 2x"), ("F", "frame: car / ground / split"),
+    ("C", "ground frame: trackside camera here / follow"),
+    ("1 - 7", "weight, air load, per segment, roof reaction, pseudo-force, wind, balance"),
+    ("L", "legend"), ("U", "units: metric / imperial"), ("+ / -", "zoom"),
+    ("up / down", "what-if: vehicle speed +/- one step"), ("W / S", "what-if: ambient wind +/- one step"),
+    ("0", "clear what-if"), ("Home", "restart"), ("P", "screenshot to PNG"), ("H", "this help"),
+    ("Esc", "quit"), ("mouse", "click or drag the timeline to scrub"),
+)
+
+
+def text_size(size, boost: int = 0) -> int:
+    """Body text size for a canvas: one step smaller below 1100 px wide; `boost` for print."""
+    return (12 if size[0] >= 1100 else 11) + boost
+
+
+def caution_lines(size, boost: int = 0) -> list[str]:
+    return wrap(CAUTION_SHORT, CAUTION_SIZE + boost, size[0] - 2 * MARGIN)
+
+
+def caution_height(size, boost: int = 0) -> int:
+    return 8 + (14 + boost) * len(caution_lines(size, boost))
+
+
+def bottom_height(size, view=None, units: str = "metric") -> int:
+    """Height under the views: the legend strip (when shown), the timeline with its marks and the caution."""
+    base = TICK_H + TIMELINE_H + 6 + caution_height(size, _boost(view))
+    return base + (legend_strip(size, view, units) if legend_shown(size, view, units) else 0)
+
+
+def _boost(view) -> int:
+    return getattr(view, "text_boost", 0) if view is not None else 0
+
+
+def legend_strip(size, view, units: str) -> int:
+    return legend_layout(size, legend_rows(view, units, None), text_size(size, _boost(view)) - 1)[2] + 4
+
+
+def legend_shown(size, view, units: str) -> bool:
+    """The legend when asked for and the views keep at least 45 % of the height."""
+    if view is None or not view.legend:
+        return False
+    base = TICK_H + TIMELINE_H + 6 + caution_height(size, _boost(view))
+    return size[1] - base - legend_strip(size, view, units) >= 0.45 * size[1]
+
+
+def timeline_rect(size, boost: int = 0) -> tuple[int, int, int, int]:
+    width, height = size
+    return MARGIN, height - caution_height(size, boost) - TIMELINE_H - 4, width - 2 * MARGIN, TIMELINE_H
+
+
+@dataclass
+class Panels:
+    """One frame's panels: text rows and the boxes they were given."""
+
+    size: tuple
+    readout: Box
+    rows: list                    # (name, value, colour) of the readout
+    title: str
+    verdict: tuple                # (words, colour) of the verdict bar
+    why: list                     # lines under the verdict bar
+    banners: list                 # (Box, text)
+    legend: Box | None
+    legend_rows: list
+    legend_per_column: int
+    legend_columns: list          # column widths
+    ts: int = 12                  # body text size
+    name_w: float = 128           # width of the readout's name column
+    boost: int = 0
+    message: Box | None = None
+    message_lines: list = field(default_factory=list)
+    help: Box | None = None
+
+
+# ------------------------------------------------------------------- readout
+
+def readout_rows(playback, t: float, view) -> tuple[list, tuple, list]:
+    """The readout's rows, the verdict bar and the lines saying why, at time t."""
+    tr = playback.trajectory
+    scene = tr.scene
+    units = scene.units
+    i = tr.index_at(t)
+    f = lambda name: float(tr.record[name][i])  # noqa: E731
+    rows = [("timecode", f"{timecode(t, scene.frame_rate)}   {t:6.2f} s", INK)]
+    after = state_at(tr, i)
+    if after is None:
+        rows.append(("action", scene.actions[int(tr.timeline.steps["action"][i])].label, INK))
+    else:
+        first = playback.summary["first_failure"]
+        rows.append(("action", f"plan stopped at the {first['kind']}", FAILURE))
+    rows.append(("vehicle speed", display(f("speed"), "speed", units, ".1f"), INK))
+    app = math.hypot(f("app_x"), f("app_y"))
+    if math.isfinite(app):
+        rows.append(("apparent wind", f"{display(app, 'wind', units, '.1f')}, Beaufort {beaufort(app)}", INK))
+    if after is not None:
+        rows.append(("state", state_words(after, units), FAILURE))
+    else:
+        mode = int(f("mode"))
+        if mode == Mode.FLIGHT:
+            rows.append(("in the air", "no roof contact", INK))
+        else:
+            demand, avail = f("grip_demand"), f("grip_available")
+            grip = (f"{avail / demand:.2f} (needs {demand:.2f}, roof {avail:.2f})" if demand > 1e-6
+                    else "no horizontal load")
+            rows.append(("grip ratio", grip if math.isfinite(demand) else "n/a", INK))
+            mos = f("balance_margin")
+            rows.append(("balance margin", display(mos, "length", units, "+.2f") if math.isfinite(mos)
+                         else "n/a", INK))
+            lean = f("lean")
+            rows.append(("lean", f"{math.degrees(lean):+.1f}°" if math.isfinite(lean) else "n/a", INK))
+        gap, over = tr.overhead_gap(i)
+        if over is not None:
+            colour = FAILURE if gap < 0 else (MARGINAL if gap < scene.safety.clearance else INK)
+            rows.append(("overhead clearance", f"{display(gap, 'length', units, '+.2f')} to {over}", colour))
+    name, because = verdict_so_far(scene, tr.events, tr.outcomes, t)
+    colour = {"holds": HOLDS, "marginal": MARGINAL, "fails": FAILURE}[name]
+    why = []
+    if name == "marginal":
+        why = [f"{b['action']}: {marginal_words([b], units)}" for b in because]
+    elif name == "fails":
+        first = playback.summary["first_failure"]
+        why = [f"{first['kind']} at {first['time_s']:.2f} s: {first['detail']}"]
+    if view.what_if:
+        why.append(f"what-if: {view.what_if}")
+    return rows, (f"verdict so far: {name.upper()}", colour), why
+
+
+def state_words(phase: dict, units: str) -> str:
+    """The body's state after the failure: 'sliding, 1.20 m so far', 'down on the roof', ..."""
+    if phase["state"] == "sliding":
+        return f"sliding, {display(phase.get('so_far_m', 0.0), 'length', units)} so far"
+    if "ground_x_m" in phase:
+        return "off the consist, on the ground"
+    return phase_words(phase, units)
+
+
+# -------------------------------------------------------------------- legend
+
+BAR_SLOT = 60   # px: a scale bar is at most this long (nice_step rounds down)
+
+
+def nice_step(value: float) -> float:
+    """The largest 1, 2 or 5 x 10^k not above value (value > 0)."""
+    k = math.floor(math.log10(value))
+    for m in (5, 2, 1):
+        if m * 10 ** k <= value:
+            return m * 10 ** k
+    return 10 ** k
+
+
+def scale_bar(per_metre_si: float, dimension: str, units: str, px_per_m: float, want_px: float = BAR_SLOT):
+    """A round value in display units and its length in pixels, at most want_px long."""
+    per_unit, unit = to_display(1.0, dimension, units)   # display units per SI unit
+    px_per_unit = (1.0 / per_unit) / per_metre_si * px_per_m
+    value = nice_step(want_px / px_per_unit)
+    return value, unit, value * px_per_unit
+
+
+def legend_rows(view, units: str, px_per_m: float | None) -> list[tuple]:
+    """(kind, payload) rows: a vector key, the trail, a scale bar or a timeline mark.
+    px_per_m None: the bars at their longest (for sizing the strip)."""
+    from preview.world import FORCE_PER_METRE, SEGMENT_FORCE_PER_METRE, WIND_PER_METRE
+    rows = []
+    for key, name, colour, words in VECTOR_LEGEND:
+        rows.append(("vector", (key, colour if name in view.vectors else FAINT, words)))
+    rows.append(("trail", (TRAIL, f"centre of mass path, last {view.trail_seconds:g} s")))
+
+    def bar(per_metre, dimension, colour, what):
+        value, unit, px = scale_bar(per_metre, dimension, units, px_per_m or 100.0)
+        rows.append(("bar", (colour, BAR_SLOT if px_per_m is None else px, f"{value:g} {unit} {what}")))
+    bar(FORCE_PER_METRE, "force", INK, "(every force)")
+    if "segments" in view.vectors:
+        bar(SEGMENT_FORCE_PER_METRE, "force", SEGMENT_AERO, "(per-segment loads only)")
+    bar(WIND_PER_METRE, "wind", WIND, "(apparent wind)")
+    rows.append(("tick", (FAILURE, "timeline: failure")))
+    rows.append(("tick", (FACT, "timeline: take-off, touchdown, recovery step")))
+    rows.append(("mark", (STRUCTURE, "timeline: reaches a structure")))
+    rows.append(("flag", (MARGINAL, "timeline: latest duck start that clears")))
+    return rows
+
+
+def legend_row_width(row, size: int) -> float:
+    kind, payload = row
+    if kind == "bar":
+        return BAR_SLOT + 8 + measure(payload[2], size)[0]
+    return 30 + measure(payload[-1], size)[0]
+
+
+def legend_layout(size, rows: list, ts: int | None = None) -> tuple[int, list, int]:
+    """Rows per column, column widths and strip height: the fewest rows that fit the width."""
+    ts = ts or text_size(size) - 1
+    widths = [legend_row_width(r, ts) + 18 for r in rows]
+    room = size[0] - 2 * MARGIN - 8
+    for per_column in range(2, len(rows) + 1):
+        columns = [max(widths[k:k + per_column]) for k in range(0, len(rows), per_column)]
+        if sum(columns) <= room:
+            break
+    return per_column, columns, 8 + per_column * legend_row_height(ts)
+
+
+def legend_row_height(ts: int) -> int:
+    return ts + 5
+
+
+# ---------------------------------------------------------------------- plan
+
+def line_height(ts: int) -> int:
+    return ts + 6
+
+
+def plan(layout: Layout, size, playback, t: float, view, cams) -> Panels:
+    """Every panel's content and box for one frame; the boxes are reserved in `layout`."""
+    width, height = size
+    ts = text_size(size, _boost(view))
+    lh = line_height(ts)
+    units = playback.scene.units
+    bottom = bottom_height(size, view, units)
+    layout.reserve(Box(0, height - bottom, width, bottom))
+    # Readout, top-left of the first view.
+    rows, verdict, why = readout_rows(playback, t, view)
+    rw = min(400 + 12 * _boost(view), int(0.42 * width))
+    name_w = max(measure(n, ts)[0] for n, _, _ in rows) + 14
+    rows = [(n, fit(v, ts, rw - 20 - name_w, mono=True), c) for n, v, c in rows]
+    why_lines = [line for w in why for line in wrap(w, ts, rw - 20)][:4]
+    title = fit(playback.scene.title, ts + 1, rw - 20, bold=True)
+    bar_h = ts + 14
+    rh = (lh + 10) + lh * len(rows) + bar_h + 6 + (lh * len(why_lines) + 4 if why_lines else 0)
+    readout = (layout.reserve(Box(MARGIN, cams[0].top + MARGIN, rw, rh)) if view.readout
+               else Box(0, cams[0].top, 0, 0))
+    # A banner at the top-right of each view, beside the readout.
+    banners = []
+    for cam in cams:
+        text = banner_text(cam, view, units)
+        left = readout.right + MARGIN if cam is cams[0] else MARGIN
+        text = fit(text, ts + 1, width - MARGIN - left - 16, bold=True)
+        w, h = measure(text, ts + 1, True)
+        banners.append((layout.reserve(Box(width - MARGIN - w - 16, cam.top + MARGIN, w + 16, h + 8)), text))
+    # The legend strip above the timeline's marks, across the whole width.
+    legend, lrows, per_column, columns = None, [], 1, []
+    if legend_shown(size, view, units):
+        lrows = legend_rows(view, units, cams[0].scale)
+        per_column, columns, strip = legend_layout(size, lrows, ts - 1)
+        legend = layout.reserve(Box(MARGIN, height - bottom, width - 2 * MARGIN, strip))
+    panels = Panels(size, readout, rows, title, verdict, why_lines, banners, legend, lrows, per_column, columns,
+                    ts=ts, name_w=name_w, boost=_boost(view))
+    if view.message:
+        mw = min(560 + 40 * _boost(view), width - 2 * MARGIN)
+        lines = [line for part in view.message.splitlines() for line in wrap(part, ts, mw - 16)][:8]
+        mh = 10 + lh * len(lines)
+        area = Box(0, 0, width, height - bottom)
+        panels.message = layout.place(mw, mh, [(readout.right + MARGIN, MARGIN), ((width - mw) / 2, MARGIN),
+                                               (readout.right + MARGIN, area.bottom - mh - MARGIN),
+                                               (MARGIN, readout.bottom + MARGIN)], area)
+        panels.message_lines = lines
+    if view.show_help:
+        kw = max(measure(k, ts + 1, mono=True)[0] for k, _ in HELP) + 24
+        hw = min(width - 2 * MARGIN, kw + max(measure(w, ts + 1)[0] for _, w in HELP) + 32)
+        hh = min(height - 2 * MARGIN, 44 + line_height(ts + 1) * len(HELP))
+        panels.help = Box((width - hw) / 2, max(MARGIN, (height - hh) / 2), hw, hh)
+    return panels
+
+
+def banner_text(cam, view, units: str) -> str:
+    if cam.frame != GROUND:
+        return "CAR FRAME: consist at rest, scenery streams past"
+    if view.trackside is not None:
+        return f"GROUND FRAME: trackside camera at {display(view.trackside, 'length', units, '.0f')}, consist passes"
+    return "GROUND FRAME: track and scenery at rest"
+
+
+# ---------------------------------------------------------------------- draw
+
+def draw(canvas, panels: Panels, playback, t: float, view) -> None:
+    ts = panels.ts
+    if panels.readout.w > 0:
+        draw_readout(canvas, panels, ts)
+    canvas.tag = "banner"
+    for box, text in panels.banners:
+        canvas.rect(box.x, box.y, box.w, box.h, PANEL)
+        canvas.text((box.x + 8, box.y + 4), text, INK, ts + 1, bold=True)
+    if panels.legend is not None:
+        draw_legend(canvas, panels, ts - 1)
+    draw_timeline(canvas, playback, t, ts - 1, panels.boost)
+    draw_caution(canvas, panels.size, panels.boost)
+    if panels.message is not None:
+        canvas.tag = "message"
+        b = panels.message
+        canvas.rect(b.x, b.y, b.w, b.h, PANEL)
+        canvas.rect(b.x, b.y, b.w, b.h, FAILURE, width=2)
+        for k, line in enumerate(panels.message_lines):
+            canvas.text((b.x + 8, b.y + 5 + line_height(ts) * k), line, FAILURE, ts)
+    if panels.help is not None:
+        draw_help(canvas, panels.help, ts + 1)
+
+
+def draw_readout(canvas, panels: Panels, ts: int) -> None:
+    canvas.tag = "readout"
+    b = panels.readout
+    lh = line_height(ts)
+    canvas.rect(b.x, b.y, b.w, b.h, PANEL)
+    canvas.text((b.x + 10, b.y + 6), panels.title, INK, ts + 1, bold=True)
+    y = b.y + lh + 10
+    for name, value, colour in panels.rows:
+        canvas.text((b.x + 10, y), name, SOFT_INK, ts)
+        canvas.text((b.x + 10 + panels.name_w, y), value, colour, ts, mono=True)
+        y += lh
+    words, colour = panels.verdict
+    bar_h = ts + 14
+    canvas.rect(b.x, y + 2, b.w, bar_h, colour)
+    canvas.text((b.x + 10, y + 2 + (bar_h - measure(words, ts + 2, True)[1]) / 2),
+                fit(words, ts + 2, b.w - 20, bold=True), PANEL, ts + 2, bold=True)
+    y += bar_h + 8
+    for line in panels.why:
+        canvas.text((b.x + 10, y), line, colour if not line.startswith("what-if") else PSEUDO, ts)
+        y += lh
+
+
+def draw_legend(canvas, panels: Panels, ts: int) -> None:
+    canvas.tag = "legend"
+    b = panels.legend
+    canvas.rect(b.x, b.y, b.w, b.h, PANEL)
+    per = panels.legend_per_column
+    row_h = legend_row_height(ts)
+    lefts = [b.x + 8 + sum(panels.legend_columns[:c]) for c in range(len(panels.legend_columns))]
+    for n, (kind, payload) in enumerate(panels.legend_rows):
+        x = lefts[n // per]
+        y = b.y + 4 + (n % per) * row_h
+        mid = y + row_h / 2
+        words = payload[-1]
+        if kind == "vector":
+            key, colour, words = payload
+            canvas.arrow((x, mid), (x + 22, mid), colour, 3, head=7)
+            words = f"{key} {words}"
+        elif kind == "trail":
+            canvas.line((x, mid), (x + 22, mid), payload[0], 2)
+        elif kind == "bar":
+            colour, px, words = payload
+            canvas.line((x, mid), (x + px, mid), colour, 3)
+            canvas.line((x, mid - 5), (x, mid + 5), colour, 2)
+            canvas.line((x + px, mid - 5), (x + px, mid + 5), colour, 2)
+            canvas.text((x + BAR_SLOT + 8, y), words, INK, ts)
+            continue
+        elif kind == "tick":
+            canvas.line((x + 11, mid - 7), (x + 11, mid + 7), payload[0], 3)
+        elif kind == "mark":
+            canvas.rect(x + 6, mid - 4, 10, 8, payload[0])
+        elif kind == "flag":
+            canvas.polygon([(x + 5, mid - 5), (x + 17, mid - 5), (x + 11, mid + 5)], payload[0])
+        canvas.text((x + 30, y), words, SOFT_INK if kind == "vector" and payload[1] == FAINT else INK, ts)
+
+
+def draw_timeline(canvas, playback, t: float, ts: int, boost: int = 0) -> None:
+    """Action blocks, event ticks, structure and duck-by marks and the playhead; click or drag to scrub."""
+    canvas.tag = "timeline"
+    x, y, w, h = timeline_rect(canvas.size, boost)
+    duration = playback.scene.duration
+    at = lambda s: x + w * min(max(s, 0.0), duration) / duration  # noqa: E731
+    canvas.rect(x, y, w, h, PANEL)
+    for k, a in enumerate(playback.summary["actions"]):
+        x0, x1 = at(a["start_s"]), at(a["end_s"])
+        canvas.rect(x0, y, x1 - x0, h, (214, 219, 224) if k % 2 == 0 else (200, 207, 214))
+        label = fit(a["name"], ts, x1 - x0 - 8)
+        if label:
+            canvas.text((x0 + 4, y + (h - measure(label, ts)[1]) / 2), label, INK, ts)
+    facts = (EVENT_WORDS[Event.TAKEOFF], EVENT_WORDS[Event.TOUCHDOWN], EVENT_WORDS[Event.RECOVERY_STEP])
+    for e in playback.summary["events"]:
+        px = at(e["time_s"])
+        if e["failure"]:
+            canvas.line((px, y - 3), (px, y + h), FAILURE, 3)
+        elif e["kind"] in facts:
+            canvas.line((px, y), (px, y + h), FACT, 2)
+    for arrival in playback.summary.get("arrivals", []):
+        px = at(arrival["time_s"])
+        canvas.rect(px - 4, y - TICK_H, 8, TICK_H - 1, STRUCTURE)
+    for duck in playback.summary.get("ducks", []):
+        if duck.get("latest_start_s") is not None:
+            px = at(duck["latest_start_s"])
+            canvas.polygon([(px - 5, y - TICK_H), (px + 5, y - TICK_H), (px, y - 1)], MARGINAL)
+    px = at(t)
+    canvas.line((px, y - TICK_H), (px, y + h + 2), INK, 3)
+
+
+def draw_caution(canvas, size, boost: int = 0) -> None:
+    canvas.tag = "caution"
+    width, height = size
+    ch = caution_height(size, boost)
+    canvas.rect(0, height - ch, width, ch, INK)
+    for k, line in enumerate(caution_lines(size, boost)):
+        canvas.text((MARGIN, height - ch + 4 + (14 + boost) * k), line, PANEL, CAUTION_SIZE + boost)
+
+
+def draw_help(canvas, b: Box, ts: int) -> None:
+    canvas.tag = "help"
+    canvas.rect(b.x, b.y, b.w, b.h, PANEL)
+    canvas.rect(b.x, b.y, b.w, b.h, INK, width=2)
+    canvas.text((b.x + 16, b.y + 10), "Controls", INK, ts + 1, bold=True)
+    kw = max(measure(k, ts, mono=True)[0] for k, _ in HELP) + 24
+    for k, (key, what) in enumerate(HELP):
+        y = b.y + 38 + line_height(ts) * k
+        if y + line_height(ts) > b.bottom:
+            break
+        canvas.text((b.x + 16, y), key, INK, ts, mono=True)
+        canvas.text((b.x + 16 + kw, y), fit(what, ts, b.w - kw - 32), INK, ts)

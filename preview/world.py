@@ -1,0 +1,422 @@
+"""What one view shows of the world: track and scenery, structures and lines, the
+consist, the jumps' take-off marks and landing zones, the figure with its trail
+and force vectors, the failure marker, and the drift figure of a flight.
+
+Forces are drawn to one scale (FORCE_PER_METRE; the per-segment air loads to a
+second, stated scale), weight at the centre of mass and the roof's reaction
+below the roof at the contact, apart from it. Labels that can move are placed
+through the frame's Layout.
+"""
+
+from __future__ import annotations
+
+import math
+
+import numpy as np
+
+from physics import body
+from physics.records import Event, Mode
+from physics.units import display
+from preview.camera import CAR, GROUND, Camera
+from preview.layout import Box, fit
+from preview.palette import (AERO, CAR_BODY, CAR_EDGE, FAILURE, FAINT, FAR_LIMB, GROUND_TONE, HOLDS, INK,
+                             LANDING_ZONE, LINE_ZONE, PANEL, PAPER, PSEUDO, REACTION, SEGMENT_AERO, SKY, SOFT_INK,
+                             STRUCTURE, TRAIL, WEIGHT, WIND)
+
+FORCE_PER_METRE = 800.0         # N drawn as 1 m, every whole-body force: a standing body's weight reaches its roof
+SEGMENT_FORCE_PER_METRE = 80.0  # the per-segment air loads, drawn ten times larger, with a bar of their own
+WIND_PER_METRE = 10.0           # m/s of apparent wind drawn as 1 m
+REACTION_OFFSET = 12            # px the roof's reaction is drawn beside the weight's line
+
+
+def draw_view(canvas, playback, t: float, view, cam: Camera, layout, area: Box) -> None:
+    tr = playback.trajectory
+    scene = playback.scene
+    i = tr.index_at(t)
+    failure = playback.summary.get("first_failure")
+    failed = failure is not None and t >= failure["time_s"] - 1e-9
+    draw_backdrop(canvas, cam)
+    draw_scenery(canvas, cam)
+    keep_clear(layout, tr, i, cam, view)
+    draw_structures(canvas, scene, cam)
+    draw_consist(canvas, scene, cam)
+    draw_jumps(canvas, playback, t, cam, layout, area)
+    draw_trail(canvas, tr, i, view, cam)
+    if failed:
+        draw_figure(canvas, tr, tr.index_at(failure["time_s"]), cam, ghost=True)
+    draw_figure(canvas, tr, i, cam)
+    draw_vectors(canvas, tr, i, view, cam)
+    draw_structure_labels(canvas, scene, cam, layout, area)
+    if failed:
+        draw_failure_marker(canvas, playback, failure, cam, layout, area)
+    if cam.frame == GROUND:
+        draw_drift(canvas, tr, i, cam, layout, area)
+
+
+def keep_clear(layout, tr, i: int, cam: Camera, view) -> None:
+    """The figure's box (with a head's room around it) and the apparent wind arrow above it are
+    kept free of labels."""
+    ends = tr.ends(i)
+    if not np.isfinite(ends).all():
+        return
+    pts = [cam.to_screen(x, z) for x, z in ends.reshape(-1, 2)]
+    com = tr.com_path[i]
+    app_x = float(tr.record["app_x"][i])
+    if "wind" in view.vectors and math.isfinite(app_x):
+        pts += [cam.to_screen(com[0], com[1] + 1.3), cam.to_screen(com[0] - app_x / WIND_PER_METRE, com[1] + 1.3)]
+    pts = np.array(pts)
+    pad = 0.15 * cam.scale
+    x0, y0 = pts.min(axis=0) - pad
+    x1, y1 = pts.max(axis=0) + pad
+    layout.reserve(Box(x0, y0, x1 - x0, y1 - y0))
+
+
+def draw_backdrop(canvas, cam: Camera) -> None:
+    canvas.tag = "backdrop"
+    canvas.rect(0, cam.top, cam.width, cam.height, SKY)
+    rail_y = cam.to_screen(0.0, 0.0)[1]
+    if rail_y < cam.top + cam.height:
+        canvas.rect(0, rail_y, cam.width, cam.top + cam.height - rail_y, GROUND_TONE)
+
+
+def draw_scenery(canvas, cam: Camera) -> None:
+    """Sleepers, poles and distance markers, fixed to the ground."""
+    canvas.tag = "scenery"
+    left = cam.to_world(0, 0)[0] + cam.distance
+    right = cam.to_world(cam.width, 0)[0] + cam.distance
+    rail = cam.ground_to_screen(0.0, 0.0)[1]
+    canvas.line((0, rail), (cam.width, rail), SOFT_INK, 2)
+    for x in np.arange(math.floor(left / 0.65) * 0.65, right + 0.65, 0.65):
+        px = cam.ground_to_screen(x, 0.0)[0]
+        canvas.line((px, rail + 2), (px, rail + 7), FAINT, 2)
+    for x in np.arange(math.floor(left / 40.0) * 40.0, right + 40.0, 40.0):
+        base = cam.ground_to_screen(x, 0.0)
+        top = cam.ground_to_screen(x, 7.0)
+        canvas.line(base, top, SOFT_INK, 3)
+        canvas.line(top, (top[0] + 0.6 * cam.scale, top[1]), SOFT_INK, 2)
+    bottom = cam.top + cam.height
+    for x in np.arange(math.floor(left / 100.0) * 100.0, right + 100.0, 100.0):
+        px, py = cam.ground_to_screen(x, 0.0)
+        if py + 28 <= bottom and 18 <= px <= cam.width - 18:
+            canvas.rect(px - 18, py + 12, 36, 16, PANEL)
+            canvas.text((px, py + 20), f"{x:.0f}", INK, label_size(canvas) - 1, anchor="center", mono=True)
+
+
+def draw_structures(canvas, scene, cam: Camera) -> None:
+    canvas.tag = "structures"
+    for s in scene.structures:
+        x0, top = cam.ground_to_screen(s.x_start, s.soffit + 1.2)
+        x1, soffit = cam.ground_to_screen(s.x_start + s.span, s.soffit)
+        if x1 < 0 or x0 > cam.width:
+            continue
+        canvas.rect(x0, top, x1 - x0, soffit - top, STRUCTURE)
+        canvas.line((x0, soffit), (x1, soffit), INK, 2)
+        if s.kind in ("bridge", "footbridge"):
+            for xs in (s.x_start, s.x_start + s.span):
+                base = cam.ground_to_screen(xs, 0.0)
+                canvas.line(base, cam.ground_to_screen(xs, s.soffit), STRUCTURE, 5)
+    for line in scene.lines:
+        x0, wire = cam.ground_to_screen(line.x_start, line.wire_height)
+        x1, zone = cam.ground_to_screen(line.x_end, line.wire_height - line.exclusion)
+        canvas.rect(x0, wire, x1 - x0, zone - wire, LINE_ZONE, alpha=90)
+        canvas.line((x0, wire), (x1, wire), FAILURE, 2)
+
+
+def draw_structure_labels(canvas, scene, cam: Camera, layout, area: Box) -> None:
+    """Each structure in the picture named with its soffit, placed where it covers nothing."""
+    canvas.tag = "structures"
+    for s in scene.structures:
+        x0, top = cam.ground_to_screen(s.x_start, s.soffit + 1.2)
+        x1, soffit = cam.ground_to_screen(s.x_start + s.span, s.soffit)
+        if x1 < 0 or x0 > cam.width:
+            continue
+        ts = label_size(canvas)
+        label = fit(f"{s.name}, soffit {display(s.soffit, 'length', scene.units)}", ts, area.w - 8)
+        w, h = canvas_measure(label, ts)
+        mid = (x0 + x1) / 2
+        box = layout.place(w + 6, h + 4, [(mid - w / 2, top - h - 8), (mid - w / 2, soffit + 4),
+                                          (x1 + 6, top), (x0 - w - 12, top)], area)
+        canvas.rect(box.x, box.y, box.w, box.h, PANEL)
+        canvas.text((box.x + 3, box.y + 2), label, INK, ts)
+
+
+def label_size(canvas) -> int:
+    """The labels' text size on this canvas (the panels' body size)."""
+    from preview.panels import text_size
+    return text_size(canvas.size, getattr(canvas, "text_boost", 0))
+
+
+def canvas_measure(text: str, size: int, bold: bool = False) -> tuple[int, int]:
+    from preview.canvas import measure
+    return measure(text, size, bold)
+
+
+def draw_consist(canvas, scene, cam: Camera) -> None:
+    canvas.tag = "consist"
+    for car in scene.cars:
+        x0, roof = cam.to_screen(car.rear_x, car.roof_height)
+        x1, floor = cam.to_screen(car.front_x, car.body_bottom)
+        if x1 < 0 or x0 > cam.width:
+            continue
+        canvas.rect(x0, roof, x1 - x0, floor - roof, CAR_BODY)
+        canvas.rect(x0, roof, x1 - x0, floor - roof, CAR_EDGE, width=2)
+        canvas.line((x0, roof), (x1, roof), INK, 3)
+        wheel_r = 0.42 * cam.scale
+        for bogie in (car.rear_x + min(2.5, car.length * 0.2), car.front_x - min(2.5, car.length * 0.2)):
+            for dx in (-0.9, 0.9):
+                cx, cy = cam.to_screen(bogie + dx, 0.42)
+                canvas.circle((cx, cy), wheel_r, CAR_EDGE, 0)
+                canvas.circle((cx, cy), wheel_r * 0.35, PAPER, 0)
+        # The name at the middle of the part of the car in the picture.
+        ts = label_size(canvas) + 1
+        seen0, seen1 = max(x0, 4.0), min(x1, cam.width - 4.0)
+        name = fit(car.name, ts, max(0.0, seen1 - seen0 - 8))
+        if name:
+            canvas.text(((seen0 + seen1) / 2, (roof + floor) / 2), name, CAR_EDGE, ts, anchor="center")
+
+
+def draw_jumps(canvas, playback, t: float, cam: Camera, layout, area: Box) -> None:
+    """For each jump under way or done: the take-off mark, the declared landing car's roof as the
+    landing zone with its edges, and where the body came down with its margin or shortfall."""
+    scene, tr = playback.scene, playback.trajectory
+    canvas.tag = "jump"
+    for a, action in enumerate(scene.actions):
+        if action.kind != "jump" or action.takeoff_x is None or not (action.start <= t):
+            continue
+        car = scene.cars[action.landing_car]
+        x0, roof = cam.to_screen(car.rear_x, car.roof_height)
+        x1, _ = cam.to_screen(car.front_x, car.roof_height)
+        canvas.rect(x0, roof - 5, x1 - x0, 5, LANDING_ZONE)
+        for xe in (x0, x1):
+            canvas.line((xe, roof - 12), (xe, roof + 2), HOLDS, 2)
+        tx, ty = cam.to_screen(action.takeoff_x, scene.cars[scene.car_at(action.takeoff_x) or 0].roof_height)
+        canvas.polygon([(tx, ty), (tx - 6, ty + 10), (tx + 6, ty + 10)], INK)
+        ts = label_size(canvas)
+        box = layout.place(*_label_size("take-off", ts - 1), [(tx - 20, ty + 12), (tx - 60, ty + 12)], area)
+        canvas.text((box.x + 2, box.y + 1), "take-off", INK, ts - 1)
+        out = tr.outcomes[a]
+        if math.isfinite(out["touchdown_time"]) and t >= out["touchdown_time"]:
+            lx, ly = cam.to_screen(float(out["touchdown_x"]), car.roof_height)
+            margin = float(out["landing_margin_min"])
+            colour = HOLDS if margin >= scene.safety.landing_margin else FAILURE
+            canvas.circle((lx, ly), 6, colour, 2)
+            words = (f"landed {display(margin, 'length', scene.units)} inside {car.name}" if margin >= 0 else
+                     f"came down {display(-margin, 'length', scene.units)} outside {car.name}")
+            w, h = _label_size(words, ts)
+            box = layout.place(w, h, [(lx - w / 2, ly + 14), (lx + 10, ly - h - 10), (lx - w - 10, ly - h - 10)],
+                               area)
+            canvas.rect(box.x, box.y, box.w, box.h, PANEL)
+            canvas.text((box.x + 3, box.y + 2), words, colour, ts)
+
+
+def _label_size(text: str, size: int, bold: bool = False) -> tuple[int, int]:
+    w, h = canvas_measure(text, size, bold)
+    return w + 6, h + 4
+
+
+def _screen_ends(tr, i, cam: Camera, pinned: bool = False) -> np.ndarray:
+    """Segment endpoints in pixels; `pinned` keeps a past pose where it was in the ground frame."""
+    ends = tr.ends(i)
+    shift = float(tr.field("distance")[i]) if pinned and cam.frame == GROUND else None
+    out = np.empty(ends.shape)
+    for s in range(ends.shape[0]):
+        for j in range(2):
+            x, z = ends[s, j]
+            out[s, j] = cam.ground_to_screen(x + shift, z) if shift is not None else cam.to_screen(x, z)
+    return out
+
+
+def _struck_by(tr, i: int) -> bool:
+    strike = tr.events[Event.STRIKE]["time"]
+    return math.isfinite(strike) and tr.times[i] >= strike
+
+
+def draw_figure(canvas, tr, i: int, cam: Camera, ghost: bool = False) -> None:
+    """Stick figure: far limbs lighter and thinner, near limbs in ink, head as a ring.
+
+    A body out of the run is drawn where it lies on the ground; a struck body
+    is shown by its ghost at the strike only.
+    """
+    canvas.tag = "ghost" if ghost else "figure"
+    if not np.isfinite(tr.ends(i)).all():
+        return
+    if not ghost and tr.field("mode")[i] == Mode.GONE and _struck_by(tr, i):
+        return
+    pts = _screen_ends(tr, i, cam, pinned=ghost)
+    stature_px = tr.scene.performer.stature * cam.scale
+    far = (body.UARM_F, body.FARM_F, body.THIGH_F, body.SHANK_F, body.FOOT_F)
+    order = list(far) + [s for s in range(body.N_SEGMENTS) if s not in far and s != body.HEAD]
+    for s in order:
+        color = FAINT if ghost else (FAR_LIMB if s in far else INK)
+        width = max(2, int(stature_px * (0.035 if s == body.TRUNK else 0.02)))
+        canvas.line(pts[s, 0], pts[s, 1], color, width)
+    neck, top = pts[body.HEAD, 0], pts[body.HEAD, 1]
+    head_c = (neck[0] + 0.6 * (top[0] - neck[0]), neck[1] + 0.6 * (top[1] - neck[1]))
+    radius = 0.4 * math.hypot(top[0] - neck[0], top[1] - neck[1])
+    canvas.line(neck, head_c, FAINT if ghost else INK, max(2, int(stature_px * 0.02)))
+    canvas.circle(head_c, radius, FAINT if ghost else INK, max(2, int(stature_px * 0.015)))
+
+
+def draw_trail(canvas, tr, i: int, view, cam: Camera) -> None:
+    """The centre of mass path, drawn at rest in the current frame: the last few
+    seconds, or the whole of the current flight if that began earlier."""
+    canvas.tag = "trail"
+    n = max(1, int(view.trail_seconds / tr.scene.step))
+    mode = tr.field("mode")
+    start = max(0, i - n)
+    if mode[i] == Mode.FLIGHT:
+        grounded = np.nonzero(mode[:i + 1] != Mode.FLIGHT)[0]
+        start = min(start, int(grounded[-1]) + 1 if grounded.size else 0)
+    xs = tr.com_path[start:i + 1:4, 0]
+    zs = tr.com_path[start:i + 1:4, 1]
+    dist = tr.field("distance")[start:i + 1:4]
+    points = []
+    for x, z, s in zip(xs, zs, dist):
+        if math.isfinite(x) and math.isfinite(z):
+            # At rest in this frame: ground-frame points keep their ground x.
+            points.append(cam.ground_to_screen(x + s, z) if cam.frame == GROUND else cam.to_screen(x, z))
+    canvas.polyline(points, TRAIL, 2)
+
+
+def _force_arrow(canvas, cam, origin, force, color, tag, per_metre=FORCE_PER_METRE, push=False, shift=0.0):
+    """A force drawn to scale from its point of application, or, for contact
+    forces (push=True), drawn ending at the point it pushes on; shift: pixels aside."""
+    canvas.tag = tag
+    x, z = origin
+    dx, dz = force[0] / per_metre, force[1] / per_metre
+    a, b = ((x - dx, z - dz), (x, z)) if push else ((x, z), (x + dx, z + dz))
+    pa, pb = cam.to_screen(*a), cam.to_screen(*b)
+    canvas.arrow((pa[0] + shift, pa[1]), (pb[0] + shift, pb[1]), color, 3)
+
+
+def draw_vectors(canvas, tr, i: int, view, cam: Camera) -> None:
+    f = lambda name: float(tr.record[name][i])  # noqa: E731
+    com = tuple(tr.com_path[i])
+    mode = int(f("mode"))
+    if not all(map(math.isfinite, com)) or mode == Mode.GONE:
+        return
+    on_roof = mode in (Mode.PLANTED, Mode.SLIDING, Mode.DOWN)
+    if on_roof and "balance" in view.vectors:
+        draw_balance(canvas, f, com, cam)  # under the arrows that start at the centre of mass
+    if "weight" in view.vectors:
+        _force_arrow(canvas, cam, com, (0.0, -tr.weight), WEIGHT, "weight")
+    if "aero" in view.vectors:
+        _force_arrow(canvas, cam, com, (f("aero_x"), f("aero_z")), AERO, "aero")
+    if "segments" in view.vectors:
+        ends = tr.ends(i)
+        forces = tr.segment_forces(i)
+        for s in range(body.N_SEGMENTS):
+            mid = (ends[s, :, 0].mean(), ends[s, :, 1].mean())
+            _force_arrow(canvas, cam, mid, forces[s], SEGMENT_AERO, "segments", SEGMENT_FORCE_PER_METRE)
+    if on_roof and "reaction" in view.vectors:
+        base = (f("pivot_x"), f("contact_z"))
+        aside = -REACTION_OFFSET if tr.timeline.postures["support_lo"][int(f("row"))] < 0 else REACTION_OFFSET
+        _force_arrow(canvas, cam, base, (0.0, f("normal")), REACTION, "normal", push=True, shift=aside)
+        _force_arrow(canvas, cam, base, (f("need_x"), 0.0), REACTION, "friction", push=True, shift=aside)
+    pseudo = float(tr.pseudo_force_path[i])
+    if "pseudo" in view.vectors and cam.frame == CAR and abs(pseudo) > 1.0:
+        _force_arrow(canvas, cam, com, (pseudo, 0.0), PSEUDO, "pseudo")
+    if "wind" in view.vectors:
+        canvas.tag = "wind"
+        head = (com[0], com[1] + 1.3)
+        w = (f("app_x"), f("app_z") if math.isfinite(f("app_z")) else 0.0)
+        if all(map(math.isfinite, w)):
+            p0 = cam.to_screen(head[0] - w[0] / WIND_PER_METRE, head[1] - w[1] / WIND_PER_METRE)
+            canvas.arrow(p0, cam.to_screen(*head), WIND, 2)
+
+
+def draw_balance(canvas, f, com, cam: Camera) -> None:
+    canvas.tag = "balance"
+    canvas.circle(cam.to_screen(*com), 5, INK, 0)
+    pivot, roof = f("pivot_x"), f("contact_z")
+    lo, hi = pivot + f("support_lo"), pivot + f("support_hi")
+    if math.isfinite(lo):
+        canvas.line(cam.to_screen(lo, roof - 0.03), cam.to_screen(hi, roof - 0.03), HOLDS, 4)
+    xcom = pivot + f("xcom")
+    if math.isfinite(xcom):
+        px, py = cam.to_screen(xcom, roof - 0.03)
+        color = HOLDS if lo <= xcom <= hi else FAILURE
+        canvas.polygon([(px, py - 2), (px - 6, py + 10), (px + 6, py + 10)], color)
+
+
+def draw_failure_marker(canvas, playback, failure, cam: Camera, layout, area: Box) -> None:
+    """A ringed cross where the failure happened, and a callout with its kind, time and numbers."""
+    canvas.tag = "failure"
+    tr = playback.trajectory
+    i = tr.index_at(failure["time_s"])
+    z = tr.com_path[i, 1]
+    z = z if math.isfinite(z) else playback.scene.cars[0].roof_height + 1.0
+    if cam.frame == GROUND:
+        px, py = cam.ground_to_screen(failure["x_ground_m"], z)
+    else:
+        px, py = cam.to_screen(failure["x_car_m"], z)
+    label = f"{failure['kind'].upper()}  {failure['time_s']:.2f} s"
+    if not (area.x <= px <= area.right and area.y <= py <= area.bottom):
+        draw_failure_pointer(canvas, label, px, py, cam, layout, area, playback.scene.units)
+        return
+    r = 16
+    canvas.circle((px, py), r, FAILURE, 3)
+    canvas.line((px - r * 0.7, py - r * 0.7), (px + r * 0.7, py + r * 0.7), FAILURE, 3)
+    canvas.line((px - r * 0.7, py + r * 0.7), (px + r * 0.7, py - r * 0.7), FAILURE, 3)
+    ts = label_size(canvas)
+    (lw, lh), (dw, dh) = canvas_measure(label, ts + 3, True), canvas_measure(failure["detail"], ts)
+    width = min(area.w - 12, max(lw, dw) + 16)
+    detail = fit(failure["detail"], ts, width - 16)
+    h = lh + dh + 12
+    box = layout.place(width, h, [(px + 30, py - r - 38 - h), (px - 30 - width, py - r - 38 - h),
+                                  (px + 30, py + r + 20), (px - 30 - width, py + r + 20),
+                                  (px - width / 2, py - r - 64 - h)], area)
+    anchor = (box.x, box.bottom) if box.x > px else (box.right, box.bottom)
+    canvas.line((px, py - r if box.bottom < py else py + r), anchor if box.bottom < py else (anchor[0], box.y),
+                FAILURE, 2)
+    canvas.rect(box.x, box.y, box.w, box.h, PANEL)
+    canvas.rect(box.x, box.y, box.w, box.h, FAILURE, width=2)
+    canvas.text((box.x + 8, box.y + 4), fit(label, ts + 3, box.w - 16, bold=True), FAILURE, ts + 3, bold=True)
+    canvas.text((box.x + 8, box.y + 6 + lh), detail, INK, ts)
+
+
+def draw_failure_pointer(canvas, label: str, px: float, py: float, cam: Camera, layout, area: Box,
+                         units: str) -> None:
+    """The failure happened outside this view (the ground frame keeps it where it was): a tag at
+    the view's edge pointing toward it, with how far away it is."""
+    behind = px < area.x
+    metres = abs((px - (area.x if behind else area.right)) / cam.scale)
+    words = f"{label}, {display(metres, 'length', units, '.0f')} {'back' if behind else 'ahead'} off the picture"
+    ts = label_size(canvas)
+    words = fit(words, ts, area.w / 2)
+    w, h = _label_size(words, ts)
+    w += 14
+    y = min(max(py - h / 2, area.y), area.bottom - h)
+    box = layout.place(w, h, [(area.x if behind else area.right - w, y), (area.x if behind else area.right - w,
+                                                                          area.bottom - h - 40)], area)
+    canvas.rect(box.x, box.y, box.w, box.h, PANEL)
+    canvas.rect(box.x, box.y, box.w, box.h, FAILURE, width=2)
+    mid = box.y + box.h / 2
+    tip, back = (box.x + 2, box.x + 10) if behind else (box.right - 2, box.right - 10)
+    canvas.polygon([(tip, mid), (back, mid - 5), (back, mid + 5)], FAILURE)
+    canvas.text((box.x + (14 if behind else 3), box.y + 2), words, FAILURE, ts)
+
+
+def draw_drift(canvas, tr, i: int, cam: Camera, layout, area: Box) -> None:
+    """During a flight, in the ground frame: how far the body has gone over the ground and relative to the car."""
+    mode = tr.field("mode")
+    if mode[i] != Mode.FLIGHT:
+        return
+    grounded = np.nonzero(mode[:i + 1] != Mode.FLIGHT)[0]
+    k0 = int(grounded[-1]) + 1 if grounded.size else 0
+    com = tr.com_path
+    dist = tr.field("distance")
+    over_ground = (com[i, 0] + dist[i]) - (com[k0, 0] + dist[k0])
+    relative = com[i, 0] - com[k0, 0]
+    units = tr.scene.units
+    words = (f"in the air {tr.times[i] - tr.times[k0]:.2f} s: {display(over_ground, 'length', units)} over the "
+             f"ground, {display(relative, 'length', units)} relative to the car")
+    canvas.tag = "drift"
+    ts = label_size(canvas)
+    words = fit(words, ts, area.w - 16)
+    w, h = _label_size(words, ts)
+    px, py = cam.ground_to_screen(com[i, 0] + dist[i], com[i, 1])
+    box = layout.place(w, h, [(px - w / 2, py - 3 * cam.scale), (px - w / 2, py + cam.scale),
+                              (area.x + 8, area.bottom - h - 8)], area)
+    canvas.rect(box.x, box.y, box.w, box.h, PANEL)
+    canvas.text((box.x + 3, box.y + 2), words, TRAIL, ts)
