@@ -102,13 +102,18 @@ def draw_scenery(canvas, cam: Camera) -> None:
             canvas.text((px, py + 20), f"{x:.0f}", INK, label_size(canvas) - 1, anchor="center", mono=True)
 
 
-def draw_structures(canvas, scene, cam: Camera) -> None:
-    canvas.tag = "structures"
+def structures_in_view(scene, cam: Camera):
+    """(structure, (left, deck top, right, soffit) in pixels) for each structure in the picture."""
     for s in scene.structures:
         x0, top = cam.ground_to_screen(s.x_start, s.soffit + 1.2)
         x1, soffit = cam.ground_to_screen(s.x_start + s.span, s.soffit)
-        if x1 < 0 or x0 > cam.width:
-            continue
+        if x1 >= 0 and x0 <= cam.width:
+            yield s, (x0, top, x1, soffit)
+
+
+def draw_structures(canvas, scene, cam: Camera) -> None:
+    canvas.tag = "structures"
+    for s, (x0, top, x1, soffit) in structures_in_view(scene, cam):
         canvas.rect(x0, top, x1 - x0, soffit - top, STRUCTURE)
         canvas.line((x0, soffit), (x1, soffit), INK, 2)
         if s.kind in ("bridge", "footbridge"):
@@ -125,11 +130,7 @@ def draw_structures(canvas, scene, cam: Camera) -> None:
 def draw_structure_labels(canvas, scene, cam: Camera, layout, area: Box) -> None:
     """Each structure in the picture named with its soffit, placed where it covers nothing."""
     canvas.tag = "structures"
-    for s in scene.structures:
-        x0, top = cam.ground_to_screen(s.x_start, s.soffit + 1.2)
-        x1, soffit = cam.ground_to_screen(s.x_start + s.span, s.soffit)
-        if x1 < 0 or x0 > cam.width:
-            continue
+    for s, (x0, top, x1, soffit) in structures_in_view(scene, cam):
         ts = label_size(canvas)
         label = fit(f"{s.name}, soffit {display(s.soffit, 'length', scene.units)}", ts, area.w - 8)
         w, h = canvas_measure(label, ts)
