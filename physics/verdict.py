@@ -126,13 +126,14 @@ def describe(scene: Scene, kind: Event, row) -> str:
     if kind == Event.SLIP:
         return f"grip needed {demand:.3f}, roof gives {available:.3f}"
     if kind in (Event.TOPPLE, Event.RECOVERY_STEP):
+        side = "front" if demand > available else "rear"
         return (f"extrapolated centre of mass {display(abs(demand - available), 'length', u, '.3f')} outside "
-                "the support")
+                f"the support, toward the consist's {side}")
     if kind == Event.LIFT:
         return (f"the roof no longer bears the body: contact force {display(-demand, 'force', u, '.0f')} "
                 "(wind lifting or tipping it off)")
     if kind == Event.FALL:
-        return "came down off the roof (gap or car end)"
+        return _fall(scene, row)
     if kind == Event.STRIKE:
         return (f"body point {display(demand - available, 'length', u)} above the soffit at "
                 f"{display(available, 'length', u)}")
@@ -150,6 +151,24 @@ def describe(scene: Scene, kind: Event, row) -> str:
         return (f"touchdown at {display(demand, 'wind', u)} along and {display(available, 'wind', u)} down, "
                 "relative to the roof")
     return ""
+
+
+def _fall(scene: Scene, row) -> str:
+    """Where a body came down off the roofs: in which gap or past which end, how far from the nearest roof."""
+    x = float(row["x_car"])
+    u = scene.units
+    cars = sorted(scene.cars, key=lambda c: c.rear_x)            # rear to front
+    if x < cars[0].rear_x:
+        return f"came down {display(cars[0].rear_x - x, 'length', u)} past the rear end of {cars[0].name}"
+    if x > cars[-1].front_x:
+        return f"came down {display(x - cars[-1].front_x, 'length', u)} past the front end of {cars[-1].name}"
+    for behind, ahead in zip(cars, cars[1:]):
+        if behind.front_x <= x <= ahead.rear_x:
+            near, gap = (behind, x - behind.front_x) if x - behind.front_x <= ahead.rear_x - x \
+                else (ahead, ahead.rear_x - x)
+            return (f"came down in the gap between {behind.name} and {ahead.name}, "
+                    f"{display(gap, 'length', u)} from {near.name}'s end")
+    return "came down off the roof"
 
 
 def _missed_landing(scene: Scene, row) -> str:

@@ -81,20 +81,32 @@ def _planned(scene, name: str) -> float | None:
         return None
 
 
-def limit_words(name: str, limit: dict, span: list[float], system: str) -> str:
-    """One limit in plain words, saying plainly when it is only a bound."""
+def limit_words(name: str, limit: dict, span: list[float], system: str, others: list | None = None) -> str:
+    """One limit in plain words, saying plainly when it is only a bound, and that "does not fail"
+    is not a value to plan on. `others`: every limit of the sweep (for the words of the second)."""
     level = limit["level"]
+    planning = level == "holds with the required factors"
     if limit["value"] is None:
-        return f"{level}: nowhere from {display(name, span[0], system)} to {display(name, span[1], system)}"
+        where = f"from {display(name, span[0], system)} to {display(name, span[1], system)}"
+        return (f"no value {where} holds with the required factors" if planning
+                else f"every value {where} fails")
     value = display(name, limit["value"], system)
+    head = "holds with the required factors" if planning else "does not fail"
     if limit["bound"]:
-        words = f"{level} up to at least {value} (the end of the sweep: the limit lies beyond it)"
+        words = f"{head} up to at least {value} (the end of the sweep: the limit lies beyond it)"
     else:
-        words = f"{level} up to {value}"
+        words = f"{head} up to {value}"
         if limit["failure_beyond"]:
             words += f"; beyond it the first failure is a {limit['failure_beyond']}"
     if not limit["all_below"]:
         words += " (not at every value below it: see the table)"
+    if not planning:
+        factored = next((o for o in others or [] if o["level"] == "holds with the required factors"), None)
+        if factored is not None and factored["value"] is None:
+            words += "; it never meets the required factors: not a value to plan on"
+        elif factored is not None and factored["value"] < limit["value"] * (1 - 1e-9):
+            first = display(name, factored["value"], system)
+            words += f"; above {first} it holds only below the required factors (marginal): plan to {first}"
     return words
 
 
@@ -121,7 +133,7 @@ def envelope_text(scene, summary: dict) -> str:
         lines.append(f"threshold ({t['kind']}): {display(name, t['value'], system)} (+/- {tol})"
                      f": {t['below']} below, {t['above']} above; first failure beyond: {t['failure_beyond'] or '-'}")
     for limit in summary["limits"]:
-        lines.append(limit_words(name, limit, summary["range"], system))
+        lines.append(limit_words(name, limit, summary["range"], system, summary["limits"]))
     lines += ["", "CAUTION: " + CAUTION]
     return "\n".join(lines)
 

@@ -19,11 +19,11 @@ import datetime as dt
 import hashlib
 import json
 import math
-import textwrap
 from pathlib import Path
 
 import numpy as np
 
+from physics.records import Mode
 from physics.units import display, to_display
 from preview.caution import CAUTION
 from preview.outputs import OutputSet, check_target
@@ -45,6 +45,8 @@ CHECKLIST = [
     "The roof surface, the weather and the wind on the day were checked against the scene's values.",
 ]
 INK, SOFT, RULE = "#2b3138", "#5f656c", "#c9c6bf"
+NOT_MODELLED = ("Not modelled: sideways balance, the roof's side edges and crosswind on them; curves, cant and "
+                "car-body sway; the roof's crown; injury. See physics/README.md, \"Not modelled\".")
 BODY = 8.0        # pt, the pages' body text
 ROW = 0.17        # in, a table row
 
@@ -55,6 +57,11 @@ def scene_digest(path: str) -> str:
         return hashlib.sha256(Path(path).read_bytes()).hexdigest()
     except OSError:
         return ""
+
+
+def scene_has_spreads(scene) -> bool:
+    """Whether the scene states an uncertainty on any value (used at its central value here)."""
+    return bool(scene.uncertain)
 
 
 def key_numbers(scene) -> list[tuple[str, str]]:
@@ -105,25 +112,68 @@ def brief_content(scene, playback, sweep_summary) -> dict:
 
 
 def key_times(playback) -> list[tuple[str, float]]:
-    """Two moments worth a picture: before and after the failure, in the air and landed, or the
-    hardest moment (highest grip demand) and the end."""
-    from physics.records import Mode
+    """Two moments worth a picture: before and after the failure; in the air and landed; the
+    tightest overhead clearance and the hardest moment; or the hardest moment and the end."""
     tr = playback.trajectory
     duration = playback.scene.duration
     first = playback.summary["first_failure"]
     flying = np.nonzero(tr.field("mode") == Mode.FLIGHT)[0]
+    demand = tr.field("grip_demand")
+    critical = ("highest grip demand", float(tr.times[int(np.nanargmax(np.where(np.isfinite(demand), demand, -1)))]))
     if first:
         return [("just before the failure", max(0.0, first["time_s"] - 0.5)),
                 (f"{first['kind']} at {first['time_s']:.2f} s, and after", min(duration, first["time_s"] + 0.4))]
     if flying.size:
         return [("in the air", float(tr.times[flying[len(flying) // 2]])),
                 ("landed", float(tr.times[min(flying[-1] + 12, tr.times.size - 1)]))]
-    demand = tr.field("grip_demand")
-    critical = float(tr.times[int(np.nanargmax(np.where(np.isfinite(demand), demand, -1)))])
-    return [("highest grip demand", critical), ("end of the beat", duration)]
+    if playback.scene.structures:
+        gaps = np.array([tr.overhead_gap(i)[0] for i in range(0, tr.times.size, 4)])
+        if np.isfinite(gaps).any():
+            return [("tightest overhead clearance", float(tr.times[4 * int(np.argmin(gaps))])), critical]
+    return [critical, ("end of the beat", duration)]
+
+
+def frame_facts(playback, t: float) -> str:
+    """What the readout would say at t, in one line beside a key frame."""
+    from physics.aftermath import state_at
+    from preview.panels import state_words
+    tr = playback.trajectory
+    units = playback.scene.units
+    i = tr.index_at(t)
+    f = lambda name: float(tr.record[name][i])  # noqa: E731
+    parts = [f"speed {display(f('speed'), 'speed', units, '.0f')}"]
+    wind = math.hypot(f("app_x"), f("app_y"))
+    if math.isfinite(wind):
+        parts.append(f"apparent wind {display(wind, 'wind', units, '.1f')}")
+    after = state_at(tr, i)
+    if after is not None:
+        parts.append(f"the body: {state_words(after, units)}")
+    elif int(f("mode")) == Mode.FLIGHT:
+        parts.append("in the air")
+    else:
+        demand = f("grip_demand")
+        if demand > 1e-6 and math.isfinite(demand):
+            parts.append(f"grip ratio {f('grip_available') / demand:.2f}")
+        if math.isfinite(f("balance_margin")):
+            parts.append(f"balance margin {display(f('balance_margin'), 'length', units, '+.3f')}")
+    gap, over = tr.overhead_gap(i)
+    if over is not None:
+        parts.append(f"overhead clearance {display(gap, 'length', units, '+.2f')}")
+    return ", ".join(parts)
 
 
 # --------------------------------------------------------------------- pages
+
+def fitted_lines(words: str, size_pt: float, width_in: float, bold: bool = False) -> list[str]:
+    """Lines of at most width_in inches at size_pt, measured with DejaVu Sans (measured at 4x for precision)."""
+    from preview.layout import wrap
+    return wrap(words, int(round(size_pt * 4)), width_in * 72 * 4, bold=bold) or [""]
+
+
+def fitted(words: str, size_pt: float, width_in: float, bold: bool = False) -> str:
+    from preview.layout import fit
+    return fit(words, int(round(size_pt * 4)), width_in * 72 * 4, bold=bold)
+
 
 class Page:
     """A page with a text cursor that runs down from the top (inches)."""
@@ -144,9 +194,10 @@ class Page:
         self.fig.text(self.fx(x_in), self.fy(self.y), words, fontsize=size, weight=weight, color=color, va="top",
                       **kw)
 
-    def para(self, words: str, size=BODY, weight="normal", width_chars: int = 138, x_in: float = MARGIN_IN,
-             color=INK, gap: float = 0.03) -> None:
-        lines = textwrap.wrap(words, width_chars) or [""]
+    def para(self, words: str, size=BODY, weight="normal", x_in: float = MARGIN_IN, color=INK,
+             gap: float = 0.03) -> None:
+        """Text wrapped to the page's right margin, measured in the bundled font (the one the PDF embeds)."""
+        lines = fitted_lines(words, size, self.w - MARGIN_IN - x_in, weight == "bold")
         self.text(x_in, "\n".join(lines), size, weight, color, linespacing=1.25)
         self.y -= len(lines) * size * 1.25 / 72 + gap
 
@@ -177,7 +228,7 @@ def _header(page: Page, scene, content, subtitle: str) -> None:
                                       color=INK, zorder=0))
     page.fig.text(page.fx(MARGIN_IN), page.fy(page.h - 0.22), f"roofbeat  |  {subtitle}", color="white",
                   fontsize=8.5, va="center")
-    title = scene.title if len(scene.title) <= 70 else scene.title[:69] + "…"
+    title = fitted(scene.title, 12, page.w - 2 * MARGIN_IN - 2.9, bold=True)   # clear of the verdict
     page.fig.text(page.fx(MARGIN_IN), page.fy(page.h - 0.5), title, color="white", fontsize=12, weight="bold",
                   va="center")
     page.fig.text(page.fx(page.w - MARGIN_IN), page.fy(page.h - 0.22),
@@ -194,7 +245,7 @@ def _page_one(page: Page, scene, content, sweep, sweep_summary):
     _header(page, scene, content, "safety meeting brief")
     for name, value in key_numbers(scene):
         page.text(MARGIN_IN, name, BODY, "bold")
-        lines = textwrap.wrap(value, 112) or [""]
+        lines = fitted_lines(value, BODY, page.w - 2 * MARGIN_IN - 1.0)
         page.text(MARGIN_IN + 1.0, "\n".join(lines[:2]), BODY, linespacing=1.25)
         page.y -= ROW * len(lines[:2]) + 0.01
     page.rule()
@@ -203,9 +254,10 @@ def _page_one(page: Page, scene, content, sweep, sweep_summary):
     page.heading("what happens")
     first = content["first_failure"]
     if first:
-        where = first["car_name"] or "off the roof"
+        where = f"on {first['car_name']}" if first["car_name"] else "off the roof"
+        start = " (at the very start: the beat cannot begin as written)" if first["time_s"] < 1e-6 else ""
         page.para(f"First failure: {first['kind']} at {timecode(first['time_s'], scene.frame_rate)} "
-                  f"({first['time_s']:.2f} s) on {where}: {first['detail']}.", BODY + 0.5, "bold")
+                  f"({first['time_s']:.2f} s){start} {where}: {first['detail']}.", BODY + 0.5, "bold")
         after = "; then ".join(phase_words(p, system) for p in content["aftermath"])
         if after:
             page.para(f"After it (the plan stops; the body goes where the physics takes it): {after}.")
@@ -216,8 +268,11 @@ def _page_one(page: Page, scene, content, sweep, sweep_summary):
     if env:
         from preview.analysis import limit_words
         for limit in env["limits"]:
-            page.para("Top speed: " + limit_words("speed", limit, env["range"], system) + ".", BODY + 0.5,
-                      "bold" if limit is env["limits"][0] else "normal")
+            page.para("Top speed: " + limit_words("speed", limit, env["range"], system, env["limits"]) + ".",
+                      BODY + 0.5, "bold" if limit is env["limits"][0] else "normal")
+        if any(a.kind in ("duck", "prone") for a in scene.actions) and scene.structures:
+            page.para("A duck timed on the clock meets a structure later at a lower speed: the speeds above "
+                      "assume the duck is cued by time; cue it by the structure's approach on the day.")
     for duck in content["ducks"]:
         if duck["latest_start_s"] is None:
             words = f"no start of '{duck['name']}' clears the structure"
@@ -228,6 +283,15 @@ def _page_one(page: Page, scene, content, sweep, sweep_summary):
                 words += (f" (planned {duck['planned_start_s']:.2f} s: " +
                           (f"{spare:.2f} s to spare)" if spare >= 0 else f"{-spare:.2f} s too late)"))
         page.para(f"Duck: {words}.", BODY + 0.5, "bold")
+    facts = [e for e in content["events"] if not e["failure"]]
+    if facts:
+        page.para("Facts of the beat: " + "; ".join(f"{e['kind']} at {e['time_s']:.2f} s"
+                                                   + (f" ({e['detail']})" if e["kind"] == "recovery step" else "")
+                                                   for e in facts) + ".")
+    page.para(NOT_MODELLED, color=SOFT)
+    if scene_has_spreads(scene):
+        page.para("This scene states uncertainties (+/-): the verdict above is the central run; "
+                  "`roofbeat risk` gives the share of runs that fail.", color=SOFT)
     page.rule()
     if sweep is not None:
         room = page.y - MARGIN_IN - 0.4 - CLOSING_IN
@@ -261,7 +325,7 @@ def _closing(page: Page, content) -> None:
         page.para(item, x_in=MARGIN_IN + 0.22, gap=0.02)
     page.rule()
     page.heading("caution")
-    page.para(CAUTION, width_chars=130)
+    page.para(CAUTION)
     page.y -= 0.12
     for k, role in enumerate(SIGN_OFF):
         x = MARGIN_IN + (k % 2) * (page.w - 2 * MARGIN_IN) / 2
@@ -277,9 +341,9 @@ def _actions_table(page: Page, scene, content) -> None:
     req = content["required_factors"]
     length_unit = to_display(1.0, "length", system)[1]
     wind_unit = to_display(1.0, "wind", system)[1]
-    heads = [("action", 0.0), ("time (s)", 1.3), ("verdict", 1.95), ("grip ratio", 2.6),
-             (f"balance ({length_unit})", 3.25), ("lift ratio", 3.95), ("lean (°)", 4.55),
-             (f"wind ({wind_unit}, Bft)", 5.05), (f"landing ({length_unit})", 5.95), (f"clear. ({length_unit})", 6.65)]
+    heads = [("action", 0.0), ("time (s)", 1.25), ("verdict", 1.85), ("grip ratio", 2.72),
+             (f"balance ({length_unit})", 3.35), ("lift ratio", 4.05), ("lean (°)", 4.62),
+             (f"wind ({wind_unit}, Bft)", 5.1), (f"landing ({length_unit})", 5.98), (f"clear. ({length_unit})", 6.65)]
     needed = {"grip ratio": "grip ratio", f"balance ({length_unit})": "balance margin", "lift ratio": "lift ratio",
               f"landing ({length_unit})": "landing margin", f"clear. ({length_unit})": "overhead clearance"}
     page.heading("verdict per action: margins beside the factors required (≥)")
@@ -294,16 +358,17 @@ def _actions_table(page: Page, scene, content) -> None:
     page.y -= ROW
     length = lambda v: "-" if v is None else f"{to_display(v, 'length', system)[0]:.2f}"  # noqa: E731
     ratio = lambda v: "-" if v is None else f"{v:.2f}"  # noqa: E731
+    length3 = lambda v: "-" if v is None else f"{to_display(v, 'length', system)[0]:+.3f}"  # noqa: E731
     for a in content["actions"]:
         name = a["name"] if len(a["name"]) <= 20 else a["name"][:19] + "…"
         cells = [name, f"{a['start_s']:.1f}-{a['end_s']:.1f}"]
         if not a["assessed"]:
             page.text(MARGIN_IN, cells[0])
-            page.text(MARGIN_IN + 1.3, cells[1])
-            page.text(MARGIN_IN + 1.95, "FAILS: not reached, the beat failed before it", BODY, "bold")
+            page.text(MARGIN_IN + 1.25, cells[1])
+            page.text(MARGIN_IN + 1.85, "FAILS: not reached, the beat failed before it", BODY, "bold")
             page.y -= ROW
             continue
-        cells += [a["verdict"].upper(), ratio(a["grip_ratio_min"]), length(a["balance_margin_min_m"]),
+        cells += [a["verdict"].upper(), ratio(a["grip_ratio_min"]), length3(a["balance_margin_min_m"]),
                   ratio(a["lift_ratio_min"]), f"{a['lean_max_deg']:.1f}",
                   f"{to_display(a['apparent_wind_max_ms'], 'wind', system)[0]:.1f}, {a['beaufort_max']}",
                   length(a["landing_margin_min_m"]), length(a["clearance_min_m"])]
@@ -320,18 +385,14 @@ def _actions_table(page: Page, scene, content) -> None:
 def _page_two(page: Page, scene, content, playback) -> None:
     from preview.canvas import FigureCanvas
     from preview.frame import ViewSettings, draw_frame
-    from preview.panels import state_words
-    from physics.aftermath import state_at
     _header(page, scene, content, "key frames")
     frame = "split" if any(a.kind == "jump" for a in scene.actions) else "car"
     width_in = page.w - 2 * MARGIN_IN
     height_in = width_in * KEY_FRAME_SIZE[1] / KEY_FRAME_SIZE[0]
-    tr = playback.trajectory
     for label, t in key_times(playback):
-        after = state_at(tr, tr.index_at(t))
-        state = f"; the body: {state_words(after, scene.units)}" if after else ""
         page.para(f"{label}: {timecode(t, scene.frame_rate)} ({t:.2f} s), {frame} frame"
-                  f"{'s' if frame == 'split' else ''}{state}", BODY + 0.5, "bold", gap=0.06)
+                  f"{'s' if frame == 'split' else ''}", BODY + 0.5, "bold", gap=0.0)
+        page.para(frame_facts(playback, t), BODY, gap=0.06)
         ax = page.fig.add_axes((page.fx(MARGIN_IN), page.fy(page.y - height_in), page.fx(width_in),
                                 page.fy(height_in)))
         draw_frame(FigureCanvas(ax, KEY_FRAME_SIZE), playback, min(t, scene.duration),

@@ -22,7 +22,8 @@ from preview.camera import GROUND
 from preview.canvas import measure
 from preview.caution import CAUTION_SHORT
 from preview.layout import Box, Layout, fit, wrap
-from preview.palette import (AERO, FACT, FAILURE, FAINT, HOLDS, INK, MARGINAL, PANEL, PSEUDO, REACTION,
+from preview.palette import (AERO, FACT, FAILURE, FAINT, HOLDS, INK, LANDING_ZONE, MARGINAL, PANEL, PSEUDO,
+                             REACTION,
                              SEGMENT_AERO, SOFT_INK, STRUCTURE, TRAIL, WEIGHT, WIND)
 from preview.report import marginal_words, phase_words
 from preview.timecode import timecode
@@ -40,7 +41,7 @@ VECTOR_LEGEND = (
     ("4", "reaction", REACTION, "roof reaction and friction"),
     ("5", "pseudo", PSEUDO, "pseudo-force (car frame)"),
     ("6", "wind", WIND, "apparent wind"),
-    ("7", "balance", HOLDS, "support and balance point"),
+    ("7", "balance", HOLDS, "support (bar), balance point (▲)"),
 )
 
 HELP = (
@@ -166,6 +167,12 @@ def readout_rows(playback, t: float, view) -> tuple[list, tuple, list]:
     elif name == "fails":
         first = playback.summary["first_failure"]
         why = [f"{first['kind']} at {first['time_s']:.2f} s: {first['detail']}"]
+    whole = playback.summary["verdict"]
+    first = playback.summary["first_failure"]
+    if name != "fails" and whole != "holds":
+        # A still must not look safer than the beat: say how the whole beat ends.
+        ends = f" ({first['kind']} at {first['time_s']:.2f} s)" if first else ""
+        why.insert(0, f"whole beat: {whole.upper()}{ends}")
     if view.what_if:
         why.append(f"what-if: {view.what_if}")
     return rows, (f"verdict so far: {name.upper()}", colour), why
@@ -218,6 +225,7 @@ def legend_rows(view, units: str, px_per_m: float | None) -> list[tuple]:
     if "segments" in view.vectors:
         bar(SEGMENT_FORCE_PER_METRE, "force", SEGMENT_AERO, "(per-segment loads only)")
     bar(WIND_PER_METRE, "wind", WIND, "(apparent wind)")
+    rows.append(("zone", (LANDING_ZONE, "landing zone (a jump's landing roof)")))
     rows.append(("tick", (FAILURE, "timeline: failure")))
     rows.append(("tick", (FACT, "timeline: take-off, touchdown, recovery step")))
     rows.append(("mark", (STRUCTURE, "timeline: reaches a structure")))
@@ -267,7 +275,7 @@ def plan(layout: Layout, size, playback, t: float, view, cams) -> Panels:
     rw = min(400 + 12 * _boost(view), int(0.42 * width))
     name_w = max(measure(n, ts)[0] for n, _, _ in rows) + 14
     rows = [(n, fit(v, ts, rw - 20 - name_w, mono=True), c) for n, v, c in rows]
-    why_lines = [line for w in why for line in wrap(w, ts, rw - 20)][:4]
+    why_lines = [line for w in why for line in wrap(w, ts, rw - 20, bold=w.startswith("whole beat"))][:5]
     title = fit(playback.scene.title, ts + 1, rw - 20, bold=True)
     bar_h = ts + 14
     rh = (lh + 10) + lh * len(rows) + bar_h + 6 + (lh * len(why_lines) + 4 if why_lines else 0)
@@ -308,10 +316,11 @@ def plan(layout: Layout, size, playback, t: float, view, cams) -> Panels:
 
 def banner_text(cam, view, units: str) -> str:
     if cam.frame != GROUND:
-        return "CAR FRAME: consist at rest, scenery streams past"
+        return "CAR FRAME: consist at rest, scenery streams past; travel →"
     if view.trackside is not None:
-        return f"GROUND FRAME: trackside camera at {display(view.trackside, 'length', units, '.0f')}, consist passes"
-    return "GROUND FRAME: track and scenery at rest"
+        return (f"GROUND FRAME: trackside camera at {display(view.trackside, 'length', units, '.0f')}, "
+                "consist passes; travel →")
+    return "GROUND FRAME: track and scenery at rest; travel →"
 
 
 # ---------------------------------------------------------------------- draw
@@ -357,7 +366,12 @@ def draw_readout(canvas, panels: Panels, ts: int) -> None:
                 fit(words, ts + 2, b.w - 20, bold=True), PANEL, ts + 2, bold=True)
     y += bar_h + 8
     for line in panels.why:
-        canvas.text((b.x + 10, y), line, colour if not line.startswith("what-if") else PSEUDO, ts)
+        tone = colour
+        if line.startswith("what-if"):
+            tone = PSEUDO
+        elif line.startswith("whole beat"):
+            tone = FAILURE if "FAILS" in line else MARGINAL
+        canvas.text((b.x + 10, y), line, tone, ts, bold=line.startswith("whole beat"))
         y += lh
 
 
@@ -390,6 +404,8 @@ def draw_legend(canvas, panels: Panels, ts: int) -> None:
             canvas.line((x + 11, mid - 7), (x + 11, mid + 7), payload[0], 3)
         elif kind == "mark":
             canvas.rect(x + 6, mid - 4, 10, 8, payload[0])
+        elif kind == "zone":
+            canvas.rect(x, mid - 2, 22, 5, payload[0])
         elif kind == "flag":
             canvas.polygon([(x + 5, mid - 5), (x + 17, mid - 5), (x + 11, mid + 5)], payload[0])
         canvas.text((x + 30, y), words, SOFT_INK if kind == "vector" and payload[1] == FAINT else INK, ts)

@@ -54,37 +54,62 @@ def _length(scene, values):
     return np.array([to_display(v, "length", scene.units)[0] for v in np.atleast_1d(values)]), unit
 
 
+# Each margin the verdict weighs: (outcome field, [safety] factor, words, colour).
+MARGINS = (
+    ("grip_ratio_min", "grip_ratio", "grip ratio", GRIP),
+    ("balance_margin_min", "balance_margin", "balance margin", BALANCE),
+    ("lift_ratio_min", "lift_ratio", "lift ratio", LIFT),
+    ("landing_margin_min", "landing_margin", "landing margin", "#3e825c"),
+    ("clearance_min", "clearance", "overhead clearance", "#8a6d57"),
+)
+CLIP = 3.0   # margins are drawn up to three times what is required; above, the curve runs along the top
+
+
 def draw_envelope(ax, scene, sweep, summary) -> None:
-    """Margins against the varied value, Beaufort bands of the apparent wind behind, the limits labelled."""
+    """Every margin the verdict weighs, as a multiple of what the scene requires, against the varied
+    value: below 1 is below the required factor. Where runs fail the curves stop and the band is
+    shaded (a failed run's margins only reach its failure). Beaufort force of the apparent wind
+    behind, the limits labelled, the planned value marked."""
+    from physics.units import display as show
     from preview.analysis import display
     x, label = _x_display(scene, sweep.name, sweep.values)
     m = sweep.result.outcomes
-    _beaufort_bands(ax, x, m["apparent_wind_max"].max(axis=1))
-    grip = m["grip_ratio_min"].min(axis=1)
-    lift = m["lift_ratio_min"].min(axis=1)
-    bal, unit = _length(scene, m["balance_margin_min"].min(axis=1))
-    s = scene.safety
-    handles = [ax.plot(x, np.where(np.isfinite(grip), np.minimum(grip, 5), np.nan), color=GRIP,
-                       label="grip ratio, lowest (friction available / needed)")[0],
-               ax.plot(x, lift, color=LIFT, label="lift ratio, lowest (normal force / weight)")[0],
-               ax.axhline(s.grip_ratio, color=GRIP, ls=":", lw=1, label=f"grip ratio required ({s.grip_ratio:g})"),
-               ax.axhline(1.0, color=SOFT, ls="--", lw=0.8, label="ratio 1: the limit itself")]
-    ax2 = ax.twinx()
-    ax2.grid(False)
-    ax2.spines["right"].set_visible(True)
-    required, _ = _length(scene, s.balance_margin)
-    handles += [ax2.plot(x, np.where(np.isfinite(bal), bal, np.nan), color=BALANCE,
-                         label=f"balance margin, lowest ({unit})")[0],
-                ax2.axhline(required[0], color=BALANCE, ls=":", lw=1,
-                            label=f"balance margin required ({required[0]:.2f} {unit})")]
-    ax2.set_ylabel(f"balance margin ({unit})", color=BALANCE)
+    codes = np.asarray(sweep.codes)
+    _beaufort_bands(ax, x, m["apparent_wind_max"].max(axis=1), codes)
+    handles = []
+    fails = codes == 2
+    for k in range(len(x)):
+        if fails[k]:
+            lo = x[k - 1] if k else x[k]
+            hi = x[k + 1] if k + 1 < len(x) else x[k]
+            ax.axvspan(0.5 * (lo + x[k]), 0.5 * (x[k] + hi), color=VERDICT_COLORS[2], alpha=0.10, lw=0, zorder=0)
+    if fails.any():
+        from matplotlib.patches import Patch
+        handles.append(Patch(color=VERDICT_COLORS[2], alpha=0.25, label="runs that fail (curves stop)"))
+    lowest = 0.0
+    for field, factor, words, colour in MARGINS:
+        values = m[field].min(axis=1)
+        if not np.isfinite(values).any():
+            continue   # this beat has no such margin (no jump, no structure)
+        required = float(getattr(scene.safety, factor))
+        relative = values / max(required, 1e-9)
+        drawn = np.where(np.isfinite(relative) & ~fails, np.clip(relative, -0.5, CLIP), np.nan)
+        if np.isfinite(drawn).any():
+            lowest = min(lowest, float(np.nanmin(drawn)))
+        need = show(required, "length", scene.units) if factor in ("balance_margin", "landing_margin",
+                                                                   "clearance") else f"{required:g}"
+        handles.append(ax.plot(x, drawn, color=colour, lw=1.6, label=f"{words} ÷ required ({need})")[0])
+    handles.append(ax.axhline(1.0, color=INK, ls=":", lw=1, label="1 = just the required factor"))
+    ax.axhline(0.0, color=SOFT, lw=0.6)
     for limit, colour in zip(summary["limits"], (VERDICT_COLORS[1], VERDICT_COLORS[2])):
         if limit["value"] is None:
             continue
         lx, _ = _x_display(scene, sweep.name, [limit["value"]])
         words = ("at least " if limit["bound"] else "") + display(sweep.name, limit["value"], scene.units)
+        name = "holds with the required factors" if limit["level"] == "holds with the required factors" \
+            else "does not fail"
         handles.append(ax.axvline(lx[0], color=colour, lw=1.6, ls="--" if limit["bound"] else "-",
-                                  label=f"{limit['level']} up to {words}"))
+                                  label=f"{name} up to {words}"))
         ax.annotate(words, (lx[0], 1.0), xycoords=("data", "axes fraction"), rotation=90, va="top", ha="right",
                     fontsize=7, color=colour, xytext=(-2, -2), textcoords="offset points")
     if summary.get("planned") is not None:
@@ -93,23 +118,33 @@ def draw_envelope(ax, scene, sweep, summary) -> None:
                                   label=f"planned: {display(sweep.name, summary['planned'], scene.units)}"))
     for code in (0, 1, 2):
         handles.append(ax.scatter([], [], color=VERDICT_COLORS[code], s=14, marker="s", label=VERDICT_WORDS[code]))
-    ax.scatter(x, np.full(len(x), -0.1), c=[VERDICT_COLORS[c] for c in sweep.codes], s=12, marker="s",
+    ax.scatter(x, np.full(len(x), -0.1), c=[VERDICT_COLORS[c] for c in codes], s=12, marker="s",
                transform=ax.get_xaxis_transform(), clip_on=False)
     ax.set_xlabel(label + "   (squares: the verdict at each swept value)", labelpad=16)
-    ax.set_ylabel("ratio")
-    ax.set_ylim(bottom=0)
-    ax.legend(handles=handles, loc="upper left", bbox_to_anchor=(1.12, 1.0), fontsize=6.5)
+    ax.set_ylabel(f"margin ÷ required (drawn up to {CLIP:g})")
+    ax.set_ylim(min(0.0, lowest - 0.05), CLIP + 0.1)
+    ax.legend(handles=handles, loc="upper left", bbox_to_anchor=(1.02, 1.0), fontsize=6.5)
 
 
-def _beaufort_bands(ax, x, wind) -> None:
+def _beaufort_bands(ax, x, wind, codes) -> None:
+    """Alternate shading by Beaufort force; one label per run of equal force (runs that fail have
+    only the wind up to their failure, so they are left unlabelled)."""
     forces = np.array([beaufort(w) for w in wind])
     for k in range(len(x) - 1):
         shade = 0.985 - 0.03 * (forces[k] % 2)
         ax.axvspan(x[k], x[k + 1], color=(shade, shade, shade * 0.99), lw=0, zorder=0)
-    for f in sorted(set(forces)):
-        idx = np.nonzero(forces == f)[0]
-        ax.text(x[idx].mean(), 0.02, f"Bft {f}", transform=ax.get_xaxis_transform(), ha="center", fontsize=6.5,
-                color=SOFT)
+    start = 0
+    last_label = -np.inf
+    span = (x[-1] - x[0]) or 1.0
+    for k in range(1, len(x) + 1):
+        if k == len(x) or forces[k] != forces[start]:
+            run = slice(start, k)
+            middle = float(np.mean(x[run]))
+            if k - start >= 2 and not (codes[run] == 2).any() and middle - last_label > 0.06 * span:
+                ax.text(middle, 0.02, f"Bft {forces[start]}", transform=ax.get_xaxis_transform(), ha="center",
+                        fontsize=6.5, color=SOFT)
+                last_label = middle
+            start = k
 
 
 def _save(fig, path: Path) -> None:

@@ -18,6 +18,7 @@ from physics import body
 from physics.records import Event, Mode
 from physics.units import display
 from preview.camera import CAR, GROUND, Camera
+from preview.canvas import measure
 from preview.layout import Box, fit
 from preview.palette import (AERO, CAR_BODY, CAR_EDGE, FAILURE, FAINT, FAR_LIMB, GROUND_TONE, HOLDS, INK,
                              LANDING_ZONE, LINE_ZONE, PANEL, PAPER, PSEUDO, REACTION, SEGMENT_AERO, SKY, SOFT_INK,
@@ -27,6 +28,9 @@ FORCE_PER_METRE = 800.0         # N drawn as 1 m, every whole-body force: a stan
 SEGMENT_FORCE_PER_METRE = 80.0  # the per-segment air loads, drawn ten times larger, with a bar of their own
 WIND_PER_METRE = 10.0           # m/s of apparent wind drawn as 1 m
 REACTION_OFFSET = 12            # px the roof's reaction is drawn beside the weight's line
+# Failures at a place fixed in the ground (a structure, a line): in the ground frame their marker and
+# ghost stay there; every other failure happened on a car and is drawn on the car as it moves on.
+GROUND_FIXED = ("strike", "line")
 
 
 def draw_view(canvas, playback, t: float, view, cam: Camera, layout, area: Box) -> None:
@@ -36,19 +40,20 @@ def draw_view(canvas, playback, t: float, view, cam: Camera, layout, area: Box) 
     failure = playback.summary.get("first_failure")
     failed = failure is not None and t >= failure["time_s"] - 1e-9
     draw_backdrop(canvas, cam)
-    draw_scenery(canvas, cam)
+    draw_scenery(canvas, cam, scene.units)
     keep_clear(layout, tr, i, cam, view)
     draw_structures(canvas, scene, cam)
     draw_consist(canvas, scene, cam)
     draw_jumps(canvas, playback, t, cam, layout, area)
     draw_trail(canvas, tr, i, view, cam)
     if failed:
-        draw_figure(canvas, tr, tr.index_at(failure["time_s"]), cam, ghost=True)
+        # Under the figure: the body as it is now stays in sight over the marker of where it failed.
+        draw_failure_marker(canvas, playback, failure, cam, layout, area)
+        draw_figure(canvas, tr, tr.index_at(failure["time_s"]), cam, ghost=True,
+                    pinned=failure["kind"] in GROUND_FIXED)
     draw_figure(canvas, tr, i, cam)
     draw_vectors(canvas, tr, i, view, cam)
     draw_structure_labels(canvas, scene, cam, layout, area)
-    if failed:
-        draw_failure_marker(canvas, playback, failure, cam, layout, area)
     if cam.frame == GROUND:
         draw_drift(canvas, tr, i, cam, layout, area)
 
@@ -64,6 +69,8 @@ def keep_clear(layout, tr, i: int, cam: Camera, view) -> None:
     app_x = float(tr.record["app_x"][i])
     if "wind" in view.vectors and math.isfinite(app_x):
         pts += [cam.to_screen(com[0], com[1] + 1.3), cam.to_screen(com[0] - app_x / WIND_PER_METRE, com[1] + 1.3)]
+    for unused, (x0, top, x1, soffit) in structures_in_view(tr.scene, cam):
+        layout.reserve(Box(x0, top, x1 - x0, soffit - top))   # the deck and its soffit stay in sight
     pts = np.array(pts)
     pad = 0.15 * cam.scale
     x0, y0 = pts.min(axis=0) - pad
@@ -79,8 +86,8 @@ def draw_backdrop(canvas, cam: Camera) -> None:
         canvas.rect(0, rail_y, cam.width, cam.top + cam.height - rail_y, GROUND_TONE)
 
 
-def draw_scenery(canvas, cam: Camera) -> None:
-    """Sleepers, poles and distance markers, fixed to the ground."""
+def draw_scenery(canvas, cam: Camera, units: str = "metric") -> None:
+    """Sleepers, lineside posts and distance boards, fixed to the ground."""
     canvas.tag = "scenery"
     left = cam.to_world(0, 0)[0] + cam.distance
     right = cam.to_world(cam.width, 0)[0] + cam.distance
@@ -89,17 +96,18 @@ def draw_scenery(canvas, cam: Camera) -> None:
     for x in np.arange(math.floor(left / 0.65) * 0.65, right + 0.65, 0.65):
         px = cam.ground_to_screen(x, 0.0)[0]
         canvas.line((px, rail + 2), (px, rail + 7), FAINT, 2)
-    for x in np.arange(math.floor(left / 40.0) * 40.0, right + 40.0, 40.0):
-        base = cam.ground_to_screen(x, 0.0)
-        top = cam.ground_to_screen(x, 7.0)
-        canvas.line(base, top, SOFT_INK, 3)
-        canvas.line(top, (top[0] + 0.6 * cam.scale, top[1]), SOFT_INK, 2)
+    for x in np.arange(math.floor(left / 20.0) * 20.0, right + 20.0, 20.0):
+        canvas.line(cam.ground_to_screen(x, 0.0), cam.ground_to_screen(x, 1.0), FAINT, 3)  # a low post
+    step = 100.0 if units == "metric" else 300 * 0.3048     # a board every 100 m or 300 ft
     bottom = cam.top + cam.height
-    for x in np.arange(math.floor(left / 100.0) * 100.0, right + 100.0, 100.0):
+    ts = label_size(canvas) - 1
+    for x in np.arange(math.floor(left / step) * step, right + step, step):
         px, py = cam.ground_to_screen(x, 0.0)
-        if py + 28 <= bottom and 18 <= px <= cam.width - 18:
-            canvas.rect(px - 18, py + 12, 36, 16, PANEL)
-            canvas.text((px, py + 20), f"{x:.0f}", INK, label_size(canvas) - 1, anchor="center", mono=True)
+        words = display(x, "length", units, ".0f")
+        w, h = measure(words, ts, mono=True)
+        if py + 14 + h <= bottom and w / 2 + 4 <= px <= cam.width - w / 2 - 4:
+            canvas.rect(px - w / 2 - 3, py + 12, w + 6, h + 2, PANEL)
+            canvas.text((px, py + 13 + h / 2), words, INK, ts, anchor="center", mono=True)
 
 
 def structures_in_view(scene, cam: Camera):
@@ -119,7 +127,7 @@ def draw_structures(canvas, scene, cam: Camera) -> None:
         if s.kind in ("bridge", "footbridge"):
             for xs in (s.x_start, s.x_start + s.span):
                 base = cam.ground_to_screen(xs, 0.0)
-                canvas.line(base, cam.ground_to_screen(xs, s.soffit), STRUCTURE, 5)
+                canvas.line(base, cam.ground_to_screen(xs, s.soffit), FAINT, 4)   # beside the track
     for line in scene.lines:
         x0, wire = cam.ground_to_screen(line.x_start, line.wire_height)
         x1, zone = cam.ground_to_screen(line.x_end, line.wire_height - line.exclusion)
@@ -232,7 +240,7 @@ def _struck_by(tr, i: int) -> bool:
     return math.isfinite(strike) and tr.times[i] >= strike
 
 
-def draw_figure(canvas, tr, i: int, cam: Camera, ghost: bool = False) -> None:
+def draw_figure(canvas, tr, i: int, cam: Camera, ghost: bool = False, pinned: bool = False) -> None:
     """Stick figure: far limbs lighter and thinner, near limbs in ink, head as a ring.
 
     A body out of the run is drawn where it lies on the ground; a struck body
@@ -243,7 +251,7 @@ def draw_figure(canvas, tr, i: int, cam: Camera, ghost: bool = False) -> None:
         return
     if not ghost and tr.field("mode")[i] == Mode.GONE and _struck_by(tr, i):
         return
-    pts = _screen_ends(tr, i, cam, pinned=ghost)
+    pts = _screen_ends(tr, i, cam, pinned=pinned)
     stature_px = tr.scene.performer.stature * cam.scale
     far = (body.UARM_F, body.FARM_F, body.THIGH_F, body.SHANK_F, body.FOOT_F)
     order = list(far) + [s for s in range(body.N_SEGMENTS) if s not in far and s != body.HEAD]
@@ -297,7 +305,7 @@ def draw_vectors(canvas, tr, i: int, view, cam: Camera) -> None:
     if not all(map(math.isfinite, com)) or mode == Mode.GONE:
         return
     on_roof = mode in (Mode.PLANTED, Mode.SLIDING, Mode.DOWN)
-    if on_roof and "balance" in view.vectors:
+    if mode in (Mode.PLANTED, Mode.SLIDING) and "balance" in view.vectors:
         draw_balance(canvas, f, com, cam)  # under the arrows that start at the centre of mass
     if "weight" in view.vectors:
         _force_arrow(canvas, cam, com, (0.0, -tr.weight), WEIGHT, "weight")
@@ -347,10 +355,10 @@ def draw_failure_marker(canvas, playback, failure, cam: Camera, layout, area: Bo
     i = tr.index_at(failure["time_s"])
     z = tr.com_path[i, 1]
     z = z if math.isfinite(z) else playback.scene.cars[0].roof_height + 1.0
-    if cam.frame == GROUND:
-        px, py = cam.ground_to_screen(failure["x_ground_m"], z)
+    if cam.frame == GROUND and failure["kind"] in GROUND_FIXED:
+        px, py = cam.ground_to_screen(failure["x_ground_m"], z)   # where the structure or line is
     else:
-        px, py = cam.to_screen(failure["x_car_m"], z)
+        px, py = cam.to_screen(failure["x_car_m"], z)             # on the car, wherever it now is
     label = f"{failure['kind'].upper()}  {failure['time_s']:.2f} s"
     if not (area.x <= px <= area.right and area.y <= py <= area.bottom):
         draw_failure_pointer(canvas, label, px, py, cam, layout, area, playback.scene.units)

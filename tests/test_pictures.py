@@ -282,12 +282,18 @@ def test_drift_figure_in_the_air_is_the_recorded_flight(playbacks):
 
 
 def test_failure_out_of_the_ground_view_is_pointed_at_not_drawn_elsewhere(playbacks):
-    pb = playbacks["night_freight"]
+    # A strike is at the bridge, fixed in the ground: once the bridge is out of the picture the
+    # marker is a tag at the edge pointing back to it.
+    pb = playbacks["footbridge_late_duck"]
     first = pb.summary["first_failure"]
-    canvas = drawn(pb, first["time_s"] + 3.0, ViewSettings(frame="ground"), (1280, 720))
+    canvas = drawn(pb, first["time_s"] + 0.8, ViewSettings(frame="ground", trackside=200.0), (1280, 720))
     words = texts_of(canvas, "failure")
-    assert "back off the picture" in words and "SLIP" in words
+    assert "back off the picture" in words and "STRIKE" in words
     assert not [c for c in canvas.tagged("failure") if c[0] == "circle"]
+    # A slip happened on the car: the marker rides on the car.
+    slip = playbacks["night_freight"]
+    canvas = drawn(slip, slip.summary["first_failure"]["time_s"] + 3.0, ViewSettings(frame="ground"), (1280, 720))
+    assert [c for c in canvas.tagged("failure") if c[0] == "circle"]
 
 
 def test_window_keys_for_legend_trackside_and_units(playbacks):
@@ -319,3 +325,42 @@ def test_pixels_of_a_frame_at_the_smallest_window_show_the_whole_caution(playbac
     caution = " ".join(s for t, s, _ in canvas.text_boxes() if t == "caution")
     assert caution == CAUTION_SHORT
     assert math.isclose(sum(1 for t, _, _ in canvas.text_boxes() if t == "caution"), 2)
+
+
+def test_a_still_before_the_failure_says_how_the_whole_beat_ends(playbacks):
+    pb = playbacks["gap_crossing_frontward"]
+    first = pb.summary["first_failure"]
+    words = texts_of(drawn(pb, first["time_s"] - 0.4, ViewSettings(), (1280, 720)), "readout")
+    assert "verdict so far: HOLDS" in words
+    assert f"whole beat: FAILS (fall at {first['time_s']:.2f} s)" in words
+    calm = texts_of(drawn(playbacks["heritage_excursion"], 3.0, ViewSettings(), (1280, 720)), "readout")
+    assert "whole beat" not in calm   # a beat that holds needs no warning line
+
+
+def test_ghost_of_a_failure_on_the_car_rides_with_the_car_in_the_ground_frame(playbacks):
+    def ghost_x(pb, t):
+        canvas = drawn(pb, t, ViewSettings(frame="ground", trackside=0.0), (1280, 720))
+        xs = [p[0] for kind, args, _, tag in canvas.calls if tag == "ghost" and kind == "line" for p in args]
+        return min(xs)
+    slip = playbacks["night_freight"]            # a slip happens on the car: its ghost moves with it
+    t0 = slip.summary["first_failure"]["time_s"] + 0.1
+    tr = slip.trajectory
+    moved = tr.field("distance")[tr.index_at(t0 + 0.2)] - tr.field("distance")[tr.index_at(t0)]
+    cam = cameras(slip, t0, ViewSettings(frame="ground", trackside=0.0), (1280, 720))[0]
+    assert ghost_x(slip, t0 + 0.2) - ghost_x(slip, t0) == pytest.approx(moved * cam.scale, rel=1e-6)
+    strike = playbacks["footbridge_late_duck"]   # a strike happens at the bridge: its ghost stays there
+    t1 = strike.summary["first_failure"]["time_s"] + 0.1
+    assert ghost_x(strike, t1 + 0.2) == pytest.approx(ghost_x(strike, t1))
+
+
+def test_the_highest_apparent_wind_reported_includes_the_air_met_in_flight(playbacks):
+    for name, pb in playbacks.items():
+        tr = pb.trajectory
+        first = pb.summary["first_failure"]
+        until = first["time_s"] if first else math.inf
+        seen = np.hypot(tr.field("app_x"), tr.field("app_y"))[(tr.times < until - 1e-9)]
+        seen = seen[np.isfinite(seen)]
+        if not seen.size:
+            continue   # failed at the first step: nothing assessed
+        reported = max(a["apparent_wind_max_ms"] for a in pb.summary["actions"])
+        assert seen.max() <= reported + 1e-9, name

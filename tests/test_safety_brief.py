@@ -223,3 +223,18 @@ def test_risk_prints_a_table_in_the_scenes_display_units(capsys):
     assert re.search(r"balance margin, lowest\s+\d+\.\d+ ft", out)
     assert main(["risk", str(REPO / "scenes" / "night_freight.toml"), "--samples", "60", "--units", "metric"]) == 0
     assert re.search(r"mass\s+\d+\.\d+ kg", capsys.readouterr().out)
+
+
+def test_limit_words_never_offer_a_failing_speed_to_plan_on():
+    from preview.analysis import limit_words
+    span = [10.0, 60.0]
+    none = {"level": "holds with the required factors", "value": None, "bound": False, "all_below": False,
+            "failure_beyond": None}
+    at_all = {"level": "holds at all", "value": 17.3, "bound": False, "all_below": True, "failure_beyond": "fall"}
+    assert limit_words("speed", none, span, "metric") == "no value from 36.00 km/h to 216.00 km/h holds with the " \
+                                                           "required factors"
+    words = limit_words("speed", at_all, span, "metric", [none, at_all])
+    assert words.startswith("does not fail up to 62.28 km/h") and "not a value to plan on" in words
+    factored = dict(none, value=12.0)
+    words = limit_words("speed", at_all, span, "metric", [factored, at_all])
+    assert "above 43.20 km/h it holds only below the required factors (marginal): plan to 43.20 km/h" in words

@@ -4,12 +4,12 @@ from __future__ import annotations
 
 import math
 
-from physics.engine.air_load import rotate
+from physics.engine.air_load import air_load, rotate
 from physics.engine.beat_state import Beat, State, failed, travel, with_mode
 from physics.engine.flight import (Flight, crossing, inside_margin, kept_out_of_cars, land, on_the_ground,
                                    rk4, take_off, touchdown_car)
 from physics.engine.jit import kernel, small
-from physics.engine.outcome import note_event, note_landing_margin, note_target, note_touchdown
+from physics.engine.outcome import note_air, note_event, note_landing_margin, note_target, note_touchdown
 from physics.engine.overhead import anything_overhead, overhead_step
 from physics.engine.recording import record_flight
 from physics.engine.roof import car_at
@@ -29,6 +29,12 @@ def flight_iteration(v, inputs, env, state, act, out):
     if anything_overhead(inputs):
         cx, cz = rotate(posture.com_x, posture.com_z, math.cos(fl.lean), math.sin(fl.lean))
         beat = overhead_step(v, inputs, env, beat, posture, fl.lean, fl.x - cx, fl.z - cz, act, out)
+    if beat.assessing and beat.mode == Mode.FLIGHT:
+        # The air met in the air counts in the action's maxima, as on the roof.
+        app_x = env.wind_x - (env.speed + fl.vx)
+        air = air_load(posture, math.cos(fl.lean), math.sin(fl.lean), app_x, env.wind_y, -fl.vz, v.drag)
+        note_air(out.outcomes[v.b, act], math.sqrt(app_x * app_x + env.wind_y * env.wind_y),
+                 math.sqrt(air.fx * air.fx + air.fy * air.fy + air.fz * air.fz))
     if out.recording:
         record_flight(out.record[env.k], env, fl, posture, v.drag, beat.mode)
     if beat.mode == Mode.GONE or env.last:

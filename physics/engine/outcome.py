@@ -46,6 +46,13 @@ def note_stance(out, mu_static, demand, margin, lift_ratio, lean_required, wind,
 
 
 @small
+def note_air(out, wind, drag):
+    """The apparent wind (m/s, horizontal) and the air load (N) met in the air into the action's outcome."""
+    out.apparent_wind_max = max(out.apparent_wind_max, wind)
+    out.drag_max = max(out.drag_max, drag)
+
+
+@small
 def note_clearance(out, gap):
     out.clearance_min = min(out.clearance_min, gap)
 
