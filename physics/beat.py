@@ -269,7 +269,7 @@ def _gait(scene: Scene, times: np.ndarray):
             kind = "run" if action.kind == "jump" else action.kind
             ramp = np.clip((times[inside] - action.start) / max(action.transition, 1e-9), 0, 1)
             speed[inside] = action.toward * action.speed * ramp
-            friction[inside] = action.gait_friction
+            friction[inside] = action.gait_friction * ramp   # the push grows with the gait's speed
             rate[inside] = 2 * action.speed / (STRIDE_FRACTION[kind] * scene.performer.stature)
     return idx, speed, friction, rate
 

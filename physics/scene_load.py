@@ -31,12 +31,25 @@ GAIT_KINDS = ("walk", "run", "crawl")
 AIR_POSTURES = ("tuck", "spread", "upright")
 STRUCTURE_KINDS = ("bridge", "footbridge", "gantry", "tunnel")
 
-# Peak horizontal ground reaction / body weight in level gait, used as the
-# friction demand of gait. Walking: required coefficient of friction about
-# 0.17-0.22 (Redfern et al. 2001, Ergonomics 44:1138; from memory). Running:
-# about 0.3-0.4 (from memory). Crawling on knees and forearms: taken as
-# walking (from memory). Each can be set per action.
-GAIT_FRICTION_DEFAULT = {"walk": 0.2, "run": 0.4, "crawl": 0.2}
+# Peak horizontal ground reaction / body weight in level gait at a reference
+# speed, used as the friction demand of gait: (peak at the reference, reference
+# speed m/s). Walking: required coefficient of friction about 0.17-0.22 at
+# ordinary walking speed, about 1.4 m/s (Redfern et al. 2001, Ergonomics
+# 44:1138; from memory). Running: about 0.3-0.4 at an easy run (from memory).
+# Crawling on knees and forearms: taken as walking at an ordinary crawl of
+# about 0.6 m/s (from memory). The horizontal forces of gait grow with its
+# speed (the utilised friction rises with walking speed; from memory), so the
+# default is scaled with the action's speed, linearly, up to 1.5 times the
+# reference value: a 1 cm/s crawl asks almost nothing of the roof. A value
+# given in the scene is used as given.
+GAIT_FRICTION_AT = {"walk": (0.2, 1.4), "run": (0.4, 3.5), "crawl": (0.2, 0.6)}
+GAIT_FRICTION_MAX_SCALE = 1.5
+
+
+def gait_friction_default(kind: str, speed: float) -> float:
+    """Peak gait push / body weight for a gait at `speed` (m/s) when the scene does not say."""
+    peak, reference = GAIT_FRICTION_AT[kind]
+    return peak * min(max(speed, 0.0) / reference, GAIT_FRICTION_MAX_SCALE)
 
 
 MAX_TEXT = 120  # characters in a title, name or label
@@ -464,14 +477,14 @@ def _actions(raw: dict, r: _Reader, cars: list[Car], performer: Performer | None
         speed, gait_friction = 0.0, 0.0
         if kind in GAIT_KINDS:
             speed = r.quantity(item, "speed", path, "speed", minimum=0.0, maximum=12.0)
-            gait_friction = r.number(item, "gait_friction", path, default=GAIT_FRICTION_DEFAULT[kind],
-                                     minimum=0.0, maximum=1.5)
+            gait_friction = r.number(item, "gait_friction", path,
+                                     default=gait_friction_default(kind, speed or 0.0), minimum=0.0, maximum=1.5)
         label = r.text(item, "label", path, default=kind)
         extra = _jump(item, path, r, cars, performer) if kind == "jump" else {}
         if kind == "jump":
             # A run-up is a run: it asks the roof for a runner's grip.
             speed = extra.pop("speed", 0.0)
-            gait_friction = r.number(item, "gait_friction", path, default=GAIT_FRICTION_DEFAULT["run"],
+            gait_friction = r.number(item, "gait_friction", path, default=gait_friction_default("run", speed),
                                      minimum=0.0, maximum=1.5)
         actions.append(Action(kind, t, duration, transition, speed or 0.0, toward, gait_friction or 0.0,
                               label=str(label), **extra))

@@ -239,3 +239,24 @@ def test_a_body_blown_off_goes_off_once_and_never_rests_in_the_air(speed, roof):
     run = max((len(r) for r in np.split(resting, np.flatnonzero(np.diff(resting.astype(int))) + 1) if r.all()),
               default=0)
     assert run * scene.step <= 0.1
+
+
+def test_gait_push_grows_with_the_gaits_speed_and_ramps_in():
+    # Walking at the reference speed asks the roof for 0.2 of body weight (Redfern et al. 2001, from
+    # memory); a 1 cm/s crawl asks almost nothing, so it slips no sooner than lying still would.
+    from physics.beat import build_timeline
+    from physics.scene_load import gait_friction_default
+    assert gait_friction_default("walk", 1.4) == pytest.approx(0.2)
+    assert gait_friction_default("crawl", 0.01) == pytest.approx(0.2 * 0.01 / 0.6)
+    assert gait_friction_default("run", 20.0) == pytest.approx(0.4 * 1.5)
+    crawl = ['do = "crawl"\nspeed = "1 cm/s"\nduration = "6 s"\ntransition = "2 s"']
+    scene = parse_scene(scene_text(speed="60 km/h", roof="painted steel wet", actions=crawl), "t.toml")
+    assert scene.actions[0].gait_friction == pytest.approx(0.2 * 0.01 / 0.6)
+    steps = build_timeline(scene).steps
+    half = np.searchsorted(steps["time"], 1.0)   # half way through the 2 s transition
+    assert steps["gait_friction"][half] == pytest.approx(0.5 * scene.actions[0].gait_friction, rel=0.02)
+    assert steps["gait_friction"][np.searchsorted(steps["time"], 3.0)] == pytest.approx(
+        scene.actions[0].gait_friction)
+    given = parse_scene(scene_text(actions=['do = "walk"\nspeed = "0.5 m/s"\ngait_friction = 0.3\n'
+                                            'duration = "4 s"']), "t.toml")
+    assert given.actions[0].gait_friction == 0.3   # a value the scene gives is used as given
