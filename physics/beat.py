@@ -227,9 +227,9 @@ def _steps(scene, times, rows, hip, contact, gait, facing) -> np.ndarray:
     n = times.size
     steps = np.zeros(n, STEP)
     steps["time"] = times
-    steps["speed"] = consist.speed_at(scene.keyframes, times)
-    steps["accel"] = consist.acceleration_at(scene.keyframes, times)
-    steps["distance"] = consist.distance_travelled(scene.keyframes, times)
+    steps["speed"] = consist.speed_at(scene.keyframes, times, scene.jerk)
+    steps["accel"] = consist.acceleration_at(scene.keyframes, times, scene.jerk)
+    steps["distance"] = consist.distance_travelled(scene.keyframes, times, scene.jerk)
     steps["gust_x"], steps["gust_y"] = air.gust_profile(times, scene.air.gusts)
     steps["row"] = rows
     pivot_moves = (contact[1:] != contact[:-1]) | (gait[1:] != gait[:-1])

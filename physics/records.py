@@ -177,6 +177,7 @@ OUTCOME = np.dtype([
     ("takeoff_time", "f8"), ("takeoff_x", "f8"),
     ("touchdown_time", "f8"), ("touchdown_x", "f8"), ("touchdown_car", "i8"),
     ("touchdown_speed", "f8"),         # horizontal speed relative to the roof at touchdown, m/s
+    ("recovery_steps", "i8"),          # recovery steps taken
 ])
 OUTCOME_MINIMA = ("grip_ratio_min", "balance_margin_min", "lift_ratio_min", "landing_margin_min", "clearance_min")
 OUTCOME_TIMES = ("takeoff_time", "takeoff_x", "touchdown_time", "touchdown_x", "touchdown_speed")
@@ -204,7 +205,7 @@ RECORD = np.dtype([
     ("grip_demand", "f8"),        # friction needed (quasi-static)
     ("grip_available", "f8"),     # static friction of the roof under the contact
     ("xcom", "f8"),               # extrapolated centre of mass relative to the pivot, m
-    ("support_lo", "f8"), ("support_hi", "f8"),  # support incl. a recovery step, relative to the pivot, m
+    ("support_lo", "f8"), ("support_hi", "f8"),  # support of the feet (or knees, hands) relative to the pivot, m
     ("balance_margin", "f8"),     # margin of stability, m
     ("lean_required", "f8"),      # rad
 ])

@@ -141,6 +141,7 @@ class Scene:
     step: float
     structures: tuple[Structure, ...] = ()
     lines: tuple[Line, ...] = ()
+    jerk: float = 2.0    # m/s^3, how fast the consist's acceleration changes (physics.consist.DEFAULT_JERK)
     raw: dict = field(default_factory=dict, compare=False, repr=False)
     # Spread (SI, +/-) of values written with an uncertainty, by sweep parameter
     # name (speed, wind_speed, mass, drag_area, reaction_time) or, for a car's

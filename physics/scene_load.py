@@ -13,7 +13,7 @@ from pathlib import Path
 
 from physics import G
 from physics import air as air_model
-from physics.consist import distance_travelled
+from physics.consist import DEFAULT_JERK, distance_travelled
 from physics.scene import (Action, Air, Car, Gust, Keyframe, Line, Performer, Safety, Scene, Structure,
                            Turbulence)
 from physics.scene_file import key_lines, parse_toml, read_text
@@ -279,7 +279,7 @@ def _build(raw: dict, r: _Reader, source: str) -> Scene | None:
     units = r.choice(raw, "units", "", ("metric", "imperial"), default="metric")
     frame_rate = r.number(raw, "frame_rate", "", default=24, integer=True, minimum=1, maximum=120)
     cars = _cars(r.table(raw, "consist", ""), r)
-    keyframes = _motion(r.table(raw, "motion", ""), r)
+    keyframes, jerk = _motion(r.table(raw, "motion", ""), r)
     air = _air(r.table(raw, "air", "", required=False), r)
     performer = _performer(r.table(raw, "performer", ""), r)
     start_car, start_x = _start(r.table(raw, "start", ""), r, cars)
@@ -288,14 +288,14 @@ def _build(raw: dict, r: _Reader, source: str) -> Scene | None:
     sim = r.table(raw, "simulation", "", required=False)
     r.unknown(sim, "simulation", ("rate",))
     rate = r.quantity(sim, "rate", "simulation", "frequency", default=240.0, minimum=60.0, maximum=2000.0)
-    structures = _structures(raw, r, keyframes)
+    structures = _structures(raw, r, keyframes, jerk)
     lines = _lines(raw, r)
     if actions and rate:
         _beat_length(r, sum(a.duration for a in actions), rate, len(actions))
     if r.problems:
         return None
     return Scene(title, source, units, frame_rate, tuple(cars), tuple(keyframes), air, performer, start_x,
-                 start_car, tuple(actions), safety, 1.0 / rate, tuple(structures), tuple(lines), raw,
+                 start_car, tuple(actions), safety, 1.0 / rate, tuple(structures), tuple(lines), jerk, raw,
                  dict(r.uncertain))
 
 
@@ -369,14 +369,17 @@ def _roof(consist: dict, item: dict, path: str, n: int, r: _Reader) -> tuple[str
     return (surface.name if surface else "explicit"), (sole_s, sole_k, body_s, body_k)
 
 
-def _motion(motion: dict, r: _Reader) -> list[Keyframe]:
-    r.unknown(motion, "motion", ("speed", "keyframes"))
+def _motion(motion: dict, r: _Reader) -> tuple[list[Keyframe], float]:
+    """The keyframes and the jerk (m/s^3) the consist's acceleration changes with."""
+    r.unknown(motion, "motion", ("speed", "keyframes", "jerk"))
+    jerk = r.quantity(motion, "jerk", "motion", "jerk", default=DEFAULT_JERK, positive=True, maximum=100.0)
+    jerk = DEFAULT_JERK if jerk is None else jerk
     if ("speed" in motion) == ("keyframes" in motion):
         r.fail("motion", "give either speed (constant) or keyframes (a list of time and speed), not both")
-        return []
+        return [], jerk
     if "speed" in motion:
         speed = r.quantity(motion, "speed", "motion", "speed", **_limits("speed"), uncertain_as="speed")
-        return [Keyframe(0.0, speed)] if speed is not None else []
+        return ([Keyframe(0.0, speed)] if speed is not None else []), jerk
     frames = []
     for path, item in r.items(motion, "keyframes", "motion"):
         r.unknown(item, path, ("time", "speed"))
@@ -386,7 +389,7 @@ def _motion(motion: dict, r: _Reader) -> list[Keyframe]:
             if frames and t <= frames[-1].time:
                 r.fail(f"{path}.time", "keyframe times must increase")
             frames.append(Keyframe(t, v))
-    return frames
+    return frames, jerk
 
 
 def _air(data: dict, r: _Reader) -> Air:
@@ -550,7 +553,7 @@ def _safety(data: dict, r: _Reader) -> Safety:
     )
 
 
-def _structures(raw: dict, r: _Reader, keyframes: list[Keyframe]) -> list[Structure]:
+def _structures(raw: dict, r: _Reader, keyframes: list[Keyframe], jerk: float) -> list[Structure]:
     out = []
     for path, item in r.items(raw, "structures", "", required=False):
         r.unknown(item, path, ("kind", "name", "at", "reached_at", "span", "soffit"))
@@ -562,7 +565,7 @@ def _structures(raw: dict, r: _Reader, keyframes: list[Keyframe]) -> list[Struct
             x = r.quantity(item, "at", path, "length", minimum=0.0)
         else:
             t = r.quantity(item, "reached_at", path, "time", minimum=0.0)
-            x = None if t is None or not keyframes else _distance_at(keyframes, t)
+            x = None if t is None or not keyframes else _distance_at(keyframes, t, jerk)
             if x is not None and x <= 0.0:
                 r.fail(f"{path}.reached_at", f"the consist has not moved by {t:g} s, so it reaches nothing then; "
                                              "give at (the distance along the track) instead")
@@ -574,8 +577,8 @@ def _structures(raw: dict, r: _Reader, keyframes: list[Keyframe]) -> list[Struct
     return out
 
 
-def _distance_at(keyframes: list[Keyframe], t: float) -> float:
-    return float(distance_travelled(keyframes, t))
+def _distance_at(keyframes: list[Keyframe], t: float, jerk: float) -> float:
+    return float(distance_travelled(keyframes, t, jerk))
 
 
 def _lines(raw: dict, r: _Reader) -> list[Line]:

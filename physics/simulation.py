@@ -110,6 +110,9 @@ class Trajectory:
         z = np.where(stays, rel[..., 1], z)
         base_x = np.where(on_roof[:, 0, 0], rec["pivot_x"], rec["flight_x"])[:, None, None]
         base_z = np.where(on_roof[:, 0, 0], rec["contact_z"], rec["flight_z"])[:, None, None]
+        # On the roof the rigid lean can take a forward-reaching lower leg of a gait (or a posture just
+        # after a recovery step) below the roof; such a point is shown on the roof (the knee bends).
+        z = np.where(on_roof, np.maximum(z, 0.0), z)
         out = np.stack([x + base_x, z + base_z], axis=-1)
         return out[0] if index is not None and np.ndim(index) == 0 else out
 
@@ -268,7 +271,7 @@ def run_kernel(v: Variants, inputs: Inputs, events, outcomes, record, chunks: in
     width = max(delays, inputs.body["crossflow_area"].shape[1])
 
     def scratch():
-        return np.zeros((4, width))
+        return np.zeros((5, width))
     if not jit.compiled():
         with np.errstate(over="ignore"):
             args = _python_views([params, roof_scale, inputs, 0, count, events, outcomes, record, scratch()])

@@ -215,6 +215,7 @@ def summarise(scene: Scene, events: np.ndarray, outcomes: np.ndarray) -> dict:
             "clearance_min_m": _finite(m["clearance_min"]),
             "takeoff_s": _finite(m["takeoff_time"]),
             "touchdown_s": _finite(m["touchdown_time"]),
+            "recovery_steps": int(m["recovery_steps"]),
         }
         actions.append(row)
     overall = NAMES[int(codes.max())] if len(codes) else "holds"

@@ -378,7 +378,9 @@ def _actions_table(page: Page, scene, content) -> None:
             page.text(MARGIN_IN + x, cell, BODY, "bold" if bold else "normal")
         page.y -= ROW
         if a["marginal_because"]:
-            page.para("why marginal: " + marginal_words(a["marginal_because"], system), BODY - 0.5,
+            steps = a.get("recovery_steps") or 0
+            stepped = f"; {steps} recovery step{'s' if steps > 1 else ''} taken" if steps else ""
+            page.para("why marginal: " + marginal_words(a["marginal_because"], system) + stepped, BODY - 0.5,
                       x_in=MARGIN_IN + 0.2, color=SOFT)
 
 

@@ -59,6 +59,9 @@ def text_report(scene, summary: dict) -> str:
             lines.append(" " * 16 + "; ".join(extra) + f" {to_display(0, 'length', system)[1]}")
         if row["marginal_because"]:
             lines.append(" " * 16 + "marginal because " + marginal_words(row["marginal_because"], system))
+        if row.get("recovery_steps"):
+            n = row["recovery_steps"]
+            lines.append(" " * 16 + f"{n} recovery step{'s' if n > 1 else ''}: the performer had to step to stay up")
     lines.append("")
     lines.append("required: " + required_words(summary["required_factors"], system))
     lines.append("grip = roof friction available / needed (min); balance = margin of stability (min); "

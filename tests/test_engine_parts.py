@@ -41,14 +41,19 @@ def posture_of(name, com=(0.0, 1.0), support=(-0.05, 0.2)):
 def test_lean_into_a_steady_load_matches_closed_form():
     # A body of weight W whose centre of mass is h above the pivot, pushed by a
     # horizontal load F at that height, balances with the pressure under the
-    # centre of mass when tan(lean) = F / W (statics; into the load).
+    # centre of mass when tan(lean) = F / W (statics; into the load): the lean the
+    # load needs. The performer aims to keep the pressure at `aimed_cop` instead,
+    # so leans a little more: W h sin(lean) - F h cos(lean) = W * aimed.
     W, h = 75 * G, 1.0
     posture = posture_of("stand", com=(0.0, h), support=(-0.1, 0.1))
+    aimed = stance.aimed_cop(posture)
+    assert aimed == pytest.approx(-0.1 + stance.QUIET_COP * 0.2)
     for F in (0.0, 50.0, 200.0, 400.0):
-        braced = stance.Balance(0.0, 0.0, 0.0, -h * F, W * h, 0.0, 0.0, 0.0, False, 0.0, False, False)
+        braced = stance.Balance(0.0, 0.0, 0.0, -h * F, W * h, 0.0, 0.0, 0.0, 0.0, False, False)
         target = stance.lean_target(braced, posture, W, math.radians(60))
-        assert target.lean == pytest.approx(math.atan2(F, W), abs=1e-12)
         assert target.required == pytest.approx(math.atan2(F, W), abs=1e-12)
+        lean = target.lean
+        assert W * h * math.sin(lean) - F * h * math.cos(lean) == pytest.approx(W * aimed, abs=1e-9)
 
 
 def test_lean_solve_is_exact_nearest_upright_or_says_unsolvable():

@@ -135,8 +135,7 @@ def come_down(v, inputs, env, state, car, cross):
     fl = state.flight
     beat = state.beat
     bal = state.balance
-    lying = Balance(fl.lean, 0.0, 0.0, bal.brace_a, bal.brace_b, bal.brace_lift, bal.ext_lo, bal.ext_hi,
-                    bal.step_used, bal.outside, True, True)
+    lying = Balance(fl.lean, 0.0, 0.0, bal.brace_a, bal.brace_b, bal.brace_lift, bal.steps, 0.0, 0.0, True, True)
     slide = Slide(cross.x + fl.low_dx, cross.vx, 0.0, state.slide.gait_phase)
     return State(Beat(Mode.DOWN.value, beat.jumped, beat.landed, beat.assessing, False, beat.failed_act,
                       beat.plan_row), slide, lying, fl)

@@ -16,7 +16,7 @@ from physics.records import Mode
 # records.PARAMS row), its roof friction multiplier per car, the body's drag
 # factors, mass (kg) and weight (N), the engine step (s), and the delay lines
 # of the balance controller.
-Variant = namedtuple("Variant", "b params roof_scale drag mass weight dt buf_err buf_rate")
+Variant = namedtuple("Variant", "b params roof_scale drag mass weight dt buf_err buf_rate buf_ff")
 # Where the results go; `recording` when this variant fills `record`.
 Outputs = namedtuple("Outputs", "events outcomes record recording")
 # Progress of the beat: the body's Mode, the last jump taken and landed (action

@@ -78,9 +78,9 @@ def run_variants(params, roof_scale, inputs, first, last, events, outcomes, reco
     chunks on a thread pool (it releases the GIL). For each step k: the posture
     row and any restart, then the body on the roof or in the air.
 
-    scratch: (4, n) working memory of this call (the engine allocates
-    nothing): the two delay lines of the balance controller and the body's
-    drag factors.
+    scratch: (5, n) working memory of this call (the engine allocates
+    nothing): the three delay lines of the balance controller (rows 0, 1, 4)
+    and the body's drag factors (rows 2, 3).
     """
     steps = inputs.steps
     n = steps.shape[0]
@@ -92,7 +92,7 @@ def run_variants(params, roof_scale, inputs, first, last, events, outcomes, reco
         n_seg = inputs.body[0].crossflow_area.shape[0]
         drag = body_drag(inputs.body[0], p.density, p.drag_scale, scratch[2, :n_seg], scratch[3, :n_seg])
         v = Variant(b, p, roof_scale[b], drag, p.mass, p.mass * G, dt, scratch[0, :delay + 1],
-                    scratch[1, :delay + 1])
+                    scratch[1, :delay + 1], scratch[4, :delay + 1])
         tb = start_turbulence(p.turbulence_seed, p.turbulence_sigma)
         state = start_state(p)
         for k in range(n):

@@ -16,8 +16,8 @@ from physics.engine.overhead import anything_overhead, overhead_step
 from physics.engine.recording import record_roof
 from physics.engine.roof import car_at, roof_friction
 from physics.engine.sliding import Slide, gait_force, grip_demand, slide_direction, slide_step
-from physics.engine.stance import (balance_step, delayed_cop, judge_support, lie_down, carry_on, restart, settle,
-                                   with_lean)
+from physics.engine.stance import (balance_step, carry_on, delayed_cop, equilibrium_cop, judge_support, lie_down,
+                                   restart, settle, stepped, with_lean)
 from physics.records import ActionCode, Contact, Event, Mode
 
 STANDING_TAKEOFF_DELAY = 0.3  # s from the start of a standing jump to take-off (the dip before it; from memory)
@@ -47,7 +47,7 @@ def footing(v, inputs, beat, bal, slide, plan):
     mu_s, mu_k = roof_friction(cars, car, contact, v.roof_scale)
     gait_v = plan.gait_speed if beat.mode == Mode.PLANTED and not bal.lying else 0.0
     return Footing(row, contact, car, cars[car if car >= 0 else 0].roof_height, gait_v,
-                   posture.support_lo - bal.ext_lo, posture.support_hi + bal.ext_hi, mu_s, mu_k)
+                   posture.support_lo, posture.support_hi, mu_s, mu_k)
 
 
 @kernel
@@ -69,12 +69,22 @@ def roof_iteration(v, inputs, env, state, plan, act, out):
     if restart_now:
         v.buf_err[:] = 0.0
         v.buf_rate[:] = 0.0
+        v.buf_ff[:] = equilibrium_cop(load, bal.lean)
         bal = carry_on(bal)
     if load.normal <= 0.0 and beat.mode != Mode.DOWN:
         return lift_off(v, inputs, env, State(beat, slide, bal, state.flight), ft, load, out)
     was_assessing = beat.assessing
     lean_k, rate_k = bal.lean, bal.rate
     beat, bal, xcom, margin = balance(v, inputs, env, beat, bal, load, target, ft, plan.settling, slide.x, out)
+    if bal.shift != 0.0:
+        # A recovery step: the feet move, the body stays; the controller starts afresh from here.
+        if was_assessing:
+            out.outcomes[v.b, act].recovery_steps += 1
+        slide = Slide(slide.x + bal.shift, slide.u, slide.udot, slide.gait_phase)
+        bal = stepped(bal)
+        v.buf_err[:] = bal.lean - target.lean
+        v.buf_rate[:] = bal.rate
+        v.buf_ff[:] = equilibrium_cop(load, bal.lean)
     beat, grip, moved = grip_and_slide(v, inputs, env, beat, bal, load, ft, plan, slide, out)
     lean_required = 0.0 if plan.settling else target.required
     air = load.air
@@ -116,10 +126,10 @@ def balance(v, inputs, env, beat, bal, load, target, ft, settling, x, out):
         lean = target.lean if ft.contact != Contact.BODY else bal.lean
         return beat, with_lean(bal, lean, 0.0, 0.0), math.nan, math.nan
     posture = inputs.postures[ft.row]
-    cop = delayed_cop(bal, target, posture, beat.mode, ft.lo, ft.hi, v.buf_err, v.buf_rate, env.k)
+    cop = delayed_cop(bal, load, target, posture, beat.mode, ft.lo, ft.hi, v.buf_err, v.buf_rate, v.buf_ff, env.k)
     bal, xcom, margin = balance_step(bal, load, target, posture, beat.mode, cop, ft.lo, ft.hi, v.mass, v.dt)
     judged = judge_support(bal, beat.mode, ft.contact == Contact.FEET, xcom, margin, ft.lo, ft.hi,
-                           v.params.recovery_step, v.dt)
+                           v.params.recovery_step, posture, v.dt)
     bal = judged.balance
     if judged.happened == 1:
         note_event(out.events, v.b, Event.RECOVERY_STEP, env.t, x, env.distance, inputs.cars, xcom, judged.bound)

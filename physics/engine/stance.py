@@ -1,13 +1,18 @@
 """Stance and balance: the whole-body lean as an inverted pendulum about the pivot.
 
-The performer braces for the load felt over about ANTICIPATION_TIME (the
-anticipatory lean, solved in closed form) and corrects errors with a PD law on
-the lean, delayed by the reaction time; the centre of pressure is clipped to the
-support, which bounds the ankle torque. Balance is judged by the margin of
-stability of Hof, Gazendam & Sinke (2005, J. Biomech. 38:1-8): the distance
-from the extrapolated centre of mass x + v / omega0, omega0 = sqrt(g / l), to the
-edge of the support. One recovery step may extend the support; a topple is the
-extrapolated centre of mass staying outside for TOPPLE_HOLD.
+The centre of pressure answers the load the body felt a reaction time ago (it
+moves to where that load is held, the automatic postural response) and a PD
+law on the lean's error, both delayed by the reaction time; it is clipped to
+the support, which bounds the ankle torque. Over about ANTICIPATION_TIME the
+performer leans into the load (the braced lean, solved in closed form), which
+brings the centre of pressure back toward the middle of the feet. Balance is
+judged by the margin of stability of Hof, Gazendam & Sinke (2005, J. Biomech.
+38:1-8): the distance from the extrapolated centre of mass x + v / omega0,
+omega0 = sqrt(g / l), to the edge of the support, x being where the load's
+resultant passes the roof. A performer allowed to step takes recovery steps
+(as many as it takes, each after STEP_TIME, at most recovery_step long); a
+topple is a step that cannot reach, or the extrapolated centre of mass staying
+outside for TOPPLE_HOLD when no step is allowed.
 """
 
 from __future__ import annotations
@@ -26,19 +31,26 @@ from physics.records import Mode
 # tests); human ankle-strategy models use gains of this size (from memory).
 KP_FACTOR = 1.6
 KD_FACTOR = 0.8
-ANTICIPATION_TIME = 0.8   # s, the performer braces for the load felt over about this long (from memory)
+ANTICIPATION_TIME = 2.5   # s, the performer leans into a sustained load over about this long (calibrated, see tests)
 TOPPLE_HOLD = 0.1         # s the extrapolated com must stay outside the reach before it is a topple
+# s from the extrapolated com leaving the support to a recovery step landing: a step reaches about 20 cm
+# after at least 300 ms (lateral perturbations in walking, J. Exp. Biol. 2010, 213(15):2655, as
+# summarised to us; the paper was not re-read for this).
+STEP_TIME = 0.3
 LIE_ANGLE = 1.4           # rad: a toppled body is lying on the roof past this lean
 MIN_PENDULUM = 0.05       # m, shortest pendulum length used for omega0 and the gains
 SETTLE_PASSES = 3         # passes of lean <-> load when the balance restarts
+# Fraction of the support from the heel to the toes where a steady stance keeps its centre of pressure:
+# in quiet standing it lies a few centimetres ahead of the ankle (from memory), about 0.04 m of a
+# 0.27 m foot whose ankle is 0.07 m from the heel.
+QUIET_COP = 0.4
 
 # Carried state: lean (rad) and its rate and acceleration; the braced load
 # (torque coefficients a, b in N m and aerodynamic lift in N); the support
 # extension of a recovery step behind and ahead (m); whether the step is used;
 # how long the extrapolated com has been outside (s); whether the balance
 # restarts this step; whether the body lies on the roof.
-Balance = namedtuple("Balance", "lean rate accel brace_a brace_b brace_lift ext_lo ext_hi step_used outside "
-                                "restart lying")
+Balance = namedtuple("Balance", "lean rate accel brace_a brace_b brace_lift steps shift outside restart lying")
 
 # Loads on a planted posture at a lean: the air load, the rotated centre of
 # mass (m), the car-frame pseudo-force (N), the normal force (N) and the
@@ -61,13 +73,13 @@ BalanceStep = namedtuple("BalanceStep", "balance xcom margin happened bound")
 @small
 def upright():
     """A standing body about to take its braced lean."""
-    return Balance(0.0, 0.0, 0.0, 0.0, 0.0, 0.0, 0.0, 0.0, False, 0.0, True, False)
+    return Balance(0.0, 0.0, 0.0, 0.0, 0.0, 0.0, 0.0, 0.0, 0.0, True, False)
 
 
 @small
 def after_landing(bal):
-    """Balance on the feet after a touchdown: upright, restarting; a recovery step already used stays used."""
-    return Balance(0.0, 0.0, 0.0, 0.0, 0.0, 0.0, 0.0, 0.0, bal.step_used, bal.outside, True, False)
+    """Balance on the feet after a touchdown: upright, restarting; the recovery steps taken stay counted."""
+    return Balance(0.0, 0.0, 0.0, 0.0, 0.0, 0.0, bal.steps, 0.0, 0.0, True, False)
 
 
 @small
@@ -128,39 +140,60 @@ def brace(bal, load, dt):
         a = bal.brace_a + (load.alpha - bal.brace_a) * w
         b = bal.brace_b + (load.beta - bal.brace_b) * w
         lift = bal.brace_lift + (load.air.fz - bal.brace_lift) * w
-    return Balance(bal.lean, bal.rate, bal.accel, a, b, lift, bal.ext_lo, bal.ext_hi, bal.step_used, bal.outside,
-                   bal.restart, bal.lying)
+    return Balance(bal.lean, bal.rate, bal.accel, a, b, lift, bal.steps, bal.shift, bal.outside, bal.restart,
+                   bal.lying)
+
+
+@small
+def aimed_cop(posture):
+    """Where the performer keeps the centre of pressure when the load is steady: QUIET_COP of the way
+    from the heel (the support's shorter side from the pivot) toward the toes."""
+    lo, hi = posture.support_lo, posture.support_hi
+    if hi >= -lo:
+        return lo + QUIET_COP * (hi - lo)
+    return hi - QUIET_COP * (hi - lo)
 
 
 @kernel
 def lean_target(bal, posture, weight, max_lean):
-    """The lean that balances the braced load with the centre of pressure mid-support."""
+    """The lean that balances the braced load with the centre of pressure where the performer keeps
+    it (aimed_cop); and the lean the load needs, the lean at which the load's resultant passes under
+    the body's own centre of mass (for a standing body, the ankle: the reckoning tan(lean) = F / W)."""
     normal = max(weight - bal.brace_lift, 1e-6)
+    cop = aimed_cop(posture)
+    lean, unused = solve_lean(bal.brace_a, bal.brace_b, cop * normal)
     quarter = 0.25 * (posture.support_hi - posture.support_lo)
-    cop = min(max(posture.com_x, posture.support_lo + quarter), posture.support_hi - quarter)
-    lean, solvable = solve_lean(bal.brace_a, bal.brace_b, cop * normal)
-    required = abs(lean) if solvable else 0.5 * math.pi
+    under = min(max(posture.com_x, posture.support_lo + quarter), posture.support_hi - quarter)
+    needed, solvable = solve_lean(bal.brace_a, bal.brace_b, under * normal)
+    required = abs(needed) if solvable else 0.5 * math.pi
     return LeanTarget(min(max(lean, -max_lean), max_lean), required, cop, normal)
 
 
 @small
 def with_lean(bal, lean, rate, accel):
-    return Balance(lean, rate, accel, bal.brace_a, bal.brace_b, bal.brace_lift, bal.ext_lo, bal.ext_hi,
-                   bal.step_used, bal.outside, bal.restart, bal.lying)
+    return Balance(lean, rate, accel, bal.brace_a, bal.brace_b, bal.brace_lift, bal.steps, bal.shift,
+                   bal.outside, bal.restart, bal.lying)
+
+
+@small
+def stepped(bal):
+    """The balance once a recovery step's shift has been applied to the contact."""
+    return Balance(bal.lean, bal.rate, bal.accel, bal.brace_a, bal.brace_b, bal.brace_lift, bal.steps, 0.0,
+                   bal.outside, bal.restart, bal.lying)
 
 
 @small
 def restart(bal):
     """The balance to be restarted next step (a new pivot, a turn, a landing)."""
-    return Balance(bal.lean, bal.rate, bal.accel, bal.brace_a, bal.brace_b, bal.brace_lift, bal.ext_lo, bal.ext_hi,
-                   bal.step_used, bal.outside, True, bal.lying)
+    return Balance(bal.lean, bal.rate, bal.accel, bal.brace_a, bal.brace_b, bal.brace_lift, bal.steps, bal.shift,
+                   bal.outside, True, bal.lying)
 
 
 @small
 def carry_on(bal):
     """The balance once restarted: it carries on from here."""
-    return Balance(bal.lean, bal.rate, bal.accel, bal.brace_a, bal.brace_b, bal.brace_lift, bal.ext_lo, bal.ext_hi,
-                   bal.step_used, bal.outside, False, bal.lying)
+    return Balance(bal.lean, bal.rate, bal.accel, bal.brace_a, bal.brace_b, bal.brace_lift, bal.steps, bal.shift,
+                   bal.outside, False, bal.lying)
 
 
 @kernel
@@ -185,20 +218,31 @@ def settle(bal, posture, wx, wy, mass, frame_accel, drag, max_lean, dt, leans):
 
 
 @small
-def delayed_cop(bal, target, posture, mode, lo, hi, buf_err, buf_rate, k):
+def equilibrium_cop(load, lean):
+    """Where the centre of pressure must be (m from the pivot) for the load on the body at this lean to
+    turn it neither way: the point where gravity, the pseudo-force and the air load together pass the roof."""
+    return (load.alpha * math.cos(lean) + load.beta * math.sin(lean)) / max(load.normal, 1e-6)
+
+
+@small
+def delayed_cop(bal, load, target, posture, mode, lo, hi, buf_err, buf_rate, buf_ff, k):
     """Centre of pressure (m from the pivot) the ankle strategy commands now.
 
-    The lean error and rate enter a ring buffer; what was read reaction_time ago
-    sets the command (PD). A toppled body has its pressure at the support edge.
+    What the body felt reaction_time ago sets the command: the centre of
+    pressure that held the load it felt then (the automatic postural response
+    to a felt push), plus a PD correction of the lean's error and rate then,
+    all clipped to the support. A toppled body has its pressure at the support
+    edge.
     """
     size = buf_err.shape[0]
     buf_err[k % size] = bal.lean - target.lean
     buf_rate[k % size] = bal.rate
+    buf_ff[k % size] = equilibrium_cop(load, bal.lean)
     old = (k + 1) % size
     if mode == Mode.DOWN:
         return hi if bal.lean > 0 else lo
     height = max(posture.com_z, MIN_PENDULUM)
-    cop = target.cop + KP_FACTOR * height * buf_err[old] + KD_FACTOR * height * buf_rate[old]
+    cop = buf_ff[old] + KP_FACTOR * height * buf_err[old] + KD_FACTOR * height * buf_rate[old]
     return min(max(cop, lo), hi)
 
 
@@ -206,7 +250,10 @@ def delayed_cop(bal, target, posture, mode, lo, hi, buf_err, buf_rate, k):
 def balance_step(bal, load, target, posture, mode, cop, lo, hi, mass, dt):
     """Advance the lean one step about the pivot with the centre of pressure at `cop`.
 
-    Returns (balance, xcom relative to the pivot, margin of stability).
+    Returns (balance, xcom relative to the pivot, margin of stability). The
+    extrapolated centre of mass is Hof's x + v / omega0 with the load's own
+    equilibrium point for x: where gravity, the pseudo-force and the air load
+    together pass the roof (the centre of mass itself in still air at rest).
     """
     c = math.cos(bal.lean)
     s = math.sin(bal.lean)
@@ -216,38 +263,64 @@ def balance_step(bal, load, target, posture, mode, cop, lo, hi, mass, dt):
     rate = bal.rate + accel * dt
     lean = bal.lean + rate * dt
     height = max(posture.com_z, MIN_PENDULUM)
-    xcom = (bal.brace_a * c + bal.brace_b * s) / target.normal + rate * load.com_z / math.sqrt(G / height)
+    xcom = equilibrium_cop(load, bal.lean) + rate * load.com_z / math.sqrt(G / height)
     margin = min(hi - xcom, xcom - lo)
     return with_lean(bal, lean, rate, accel), xcom, margin
 
 
 @small
-def judge_support(bal, mode, contact_feet, xcom, margin, lo, hi, recovery_step, dt):
-    """Recovery step or topple when the extrapolated centre of mass leaves the support.
+def lean_for_com(posture, com_x):
+    """The lean that puts the posture's centre of mass at com_x (m) from the pivot."""
+    reach = math.hypot(posture.com_x, posture.com_z)
+    phase = math.atan2(posture.com_x, posture.com_z)
+    return math.asin(min(max(com_x / max(reach, 1e-9), -1.0), 1.0)) - phase
 
-    Returns BalanceStep; `happened` 1 is a recovery step (the support grows by
-    recovery_step on that side), 2 a topple (the body goes down).
+
+@small
+def judge_support(bal, mode, contact_feet, xcom, margin, lo, hi, recovery_step, posture, dt):
+    """Recovery steps or a topple when the extrapolated centre of mass leaves the support.
+
+    A performer who may step (recovery_step > 0, on their feet) steps once the
+    extrapolated centre of mass has been outside for STEP_TIME: the feet move
+    (the pivot shifts, `shift`, at most recovery_step) to put the support's
+    middle under it, the body where it was; as many steps as it takes. A step
+    that cannot reach it, or a performer who may not step, is a topple once it
+    has been outside for TOPPLE_HOLD. Returns BalanceStep; `happened` 1 is a
+    recovery step, 2 a topple.
     """
     happened = 0
     bound = hi if xcom > hi else lo
-    ext_lo, ext_hi, used, outside = bal.ext_lo, bal.ext_hi, bal.step_used, bal.outside
+    lean, rate, steps, shift, outside = bal.lean, bal.rate, bal.steps, 0.0, bal.outside
     if mode == Mode.PLANTED:
         if margin < 0.0:
-            if not used and contact_feet:
-                used = True
-                happened = 1
-                if xcom > hi:
-                    ext_hi = recovery_step
+            outside += dt
+            stepping = contact_feet and recovery_step > 0.0
+            wanted = xcom - 0.5 * (lo + hi)
+            if stepping and outside >= STEP_TIME:
+                if abs(wanted) - recovery_step > 0.5 * (hi - lo):
+                    happened = 2            # no step reaches it
                 else:
-                    ext_lo = recovery_step
-            else:
-                outside += dt
-                if outside >= TOPPLE_HOLD:
-                    happened = 2
+                    happened = 1
+                    shift = min(max(wanted, -recovery_step), recovery_step)
+                    cx, cz = rotate(posture.com_x, posture.com_z, math.cos(lean), math.sin(lean))
+                    lean = lean_for_com(posture, cx - shift)
+                    # The body keeps its rigid posture: a step is no longer than leaves every leaning
+                    # point above the roof (a long step would put a knee through it).
+                    for unused in range(30):
+                        if lowest_leaning_point(posture, lean) >= 0.0:
+                            break
+                        shift *= 0.8
+                        lean = lean_for_com(posture, cx - shift)
+                    unused, cz_new = rotate(posture.com_x, posture.com_z, math.cos(lean), math.sin(lean))
+                    rate = rate * cz / max(cz_new, MIN_PENDULUM)   # the centre of mass keeps its speed
+                    steps += 1.0
+                    outside = 0.0
+            elif not stepping and outside >= TOPPLE_HOLD:
+                happened = 2
         else:
             outside = 0.0
-    new = Balance(bal.lean, bal.rate, bal.accel, bal.brace_a, bal.brace_b, bal.brace_lift, ext_lo, ext_hi, used,
-                  outside, bal.restart, bal.lying)
+    new = Balance(lean, rate, bal.accel, bal.brace_a, bal.brace_b, bal.brace_lift, steps, shift, outside,
+                  bal.restart, bal.lying)
     return BalanceStep(new, xcom, margin, happened, bound)
 
 
@@ -257,8 +330,8 @@ def lie_down(bal, posture):
     if abs(bal.lean) < LIE_ANGLE and lowest_leaning_point(posture, bal.lean) > 0.0:
         return bal
     lean = max(-LIE_ANGLE, min(LIE_ANGLE, bal.lean))
-    return Balance(lean, 0.0, 0.0, bal.brace_a, bal.brace_b, bal.brace_lift, bal.ext_lo, bal.ext_hi,
-                   bal.step_used, bal.outside, bal.restart, True)
+    return Balance(lean, 0.0, 0.0, bal.brace_a, bal.brace_b, bal.brace_lift, bal.steps, bal.shift,
+                   bal.outside, bal.restart, True)
 
 
 @kernel
