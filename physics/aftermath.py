@@ -48,19 +48,26 @@ def _phase(tr, first: int, last: int, mode: int) -> dict:
     times = tr.times
     phase = {"state": PHASE_WORDS[Mode(mode)], "from_s": float(times[first]), "to_s": float(times[last])}
     if mode in (Mode.SLIDING, Mode.DOWN, Mode.PLANTED):
-        x = tr.field("pivot_x")[first:last + 1]
-        speed = np.abs(tr.field("slide_speed")[first:last + 1])
-        phase["distance_m"] = float(abs(x[-1] - x[0]))
+        phase["distance_m"] = _moved(tr, first, last)
+        speed = np.hypot(tr.field("slide_speed")[first:last + 1], tr.field("slide_speed_y")[first:last + 1])
         phase["peak_speed_ms"] = float(np.nanmax(speed)) if speed.size else 0.0
     elif mode == Mode.GONE:
         struck = not math.isnan(tr.events[Event.STRIKE]["time"]) and tr.events[Event.STRIKE]["time"] <= times[first]
         if struck:
             phase["state"] = "struck: out of the run"
         else:
-            com = tr.com_path[first]
-            phase["state"] = "on the ground beside or between the cars"
+            com = tr.com_path3[first]
+            widest = max(car.width for car in tr.scene.cars)
+            phase["state"] = ("on the ground beside or between the cars" if abs(com[1]) <= 0.5 * widest else
+                              f"on the ground beside the track, {'left' if com[1] > 0 else 'right'} of the cars")
             phase["ground_x_m"] = float(com[0] + tr.field("distance")[first])
     return phase
+
+
+def _moved(tr, first: int, last: int) -> float:
+    """How far the contact moved over the roof between two steps (m), along and across the track."""
+    x, y = tr.field("pivot_x"), tr.field("pivot_y")
+    return float(math.hypot(x[last] - x[first], y[last] - y[first]))
 
 
 def state_at(trajectory, index: int) -> dict | None:
@@ -73,6 +80,6 @@ def state_at(trajectory, index: int) -> dict | None:
         if phase["from_s"] <= t <= phase["to_s"]:
             if phase["state"] == "sliding":
                 k0 = trajectory.index_at(phase["from_s"])
-                phase["so_far_m"] = float(abs(trajectory.field("pivot_x")[index] - trajectory.field("pivot_x")[k0]))
+                phase["so_far_m"] = _moved(trajectory, k0, index)
             return phase
     return None

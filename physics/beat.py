@@ -82,19 +82,24 @@ def _gait_phase(cycles: np.ndarray) -> np.ndarray:
     return 2 * np.pi * np.round(cycles * GAIT_PHASES) / GAIT_PHASES
 
 
-def _contact_for_steps(scene: Scene, times: np.ndarray) -> np.ndarray:
+def _contact_for_steps(scene: Scene, times: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """How the body touches the roof at each step, and half the support's width across the roof (m)."""
     contact = np.zeros(times.size, dtype=np.int64)
-    kind_before = "stand"
+    half = np.zeros(times.size)
+    kind_before, width_before = "stand", "stand"
     for action in scene.actions:
         inside = (times >= action.start - 1e-12) & (times < action.end - 1e-12)
         if action is scene.actions[-1]:
             inside |= times >= action.end - 1e-12
         kind = {"walk": "stand", "run": "stand", "jump": "stand"}.get(action.kind, action.kind)
+        width = action.kind if action.kind in body.HALF_WIDTH_FRACTION else "run" if action.speed > 0 else kind
         settled = times >= action.start + 0.5 * action.transition
         contact[inside & settled] = body.CONTACT_OF[kind]
         contact[inside & ~settled] = body.CONTACT_OF[kind_before]
-        kind_before = kind
-    return contact
+        half[inside & settled] = body.HALF_WIDTH_FRACTION[width]
+        half[inside & ~settled] = body.HALF_WIDTH_FRACTION[width_before]
+        kind_before, width_before = kind, width
+    return contact, half * scene.performer.stature
 
 
 def place(angles: np.ndarray, facing: np.ndarray, contact: np.ndarray, stature: float, gait=None):
@@ -157,28 +162,32 @@ def build_timeline(scene: Scene) -> Timeline:
     n = max(2, int(round(scene.duration / scene.step)) + 1)  # the engine's step is the first two times apart
     times = np.arange(n) * scene.step
     angles, facing = _angles_for_steps(scene, times)
-    contact = _contact_for_steps(scene, times)
+    contact, half = _contact_for_steps(scene, times)
     gait = _gait_rows(scene, times)
-    extra_angles, extra_facing = [], []
+    extra_angles, extra_facing, extra_half = [], [], []
     for action in scene.actions:
         in_air = action.air_posture if action.kind == "jump" else "upright"
-        extra_angles += [body.POSTURES[in_air], body.POSTURES["crouch" if action.kind == "jump" else "stand"]]
+        landed = "crouch" if action.kind == "jump" else "stand"
+        extra_angles += [body.POSTURES[in_air], body.POSTURES[landed]]
         extra_facing += [action.toward if action.kind == "jump" else scene.performer.facing] * 2
+        extra_half += [body.HALF_WIDTH_FRACTION["stand"], body.HALF_WIDTH_FRACTION[landed]]
     # Last, the body lying flat on the ground after a fall from the consist.
     extra_angles.append(body.POSTURES["prone"])
     extra_facing.append(scene.performer.facing)
+    extra_half.append(body.HALF_WIDTH_FRACTION["prone"])
     extra_contact = np.full(len(extra_angles), Contact.FEET, dtype=np.int64)
     extra_contact[-1] = Contact.BODY
     all_angles = np.vstack([angles, np.array(extra_angles, float)])
     all_facing = np.concatenate([facing, np.array(extra_facing, float)])
     all_contact = np.concatenate([contact, extra_contact])
     all_gait = np.concatenate([gait, np.zeros(len(extra_angles), dtype=bool)])
+    all_half = np.concatenate([half, np.array(extra_half) * scene.performer.stature])
     # One posture row per distinct posture: a long stand is one row, not thousands.
-    key = np.column_stack([all_angles, all_facing, all_contact, all_gait])
+    key = np.column_stack([all_angles, all_facing, all_contact, all_gait, all_half])
     unique, row_of = _distinct_rows(key)
-    postures, hip = _postures(unique[:, :body.N_SEGMENTS], unique[:, body.N_SEGMENTS],
-                              unique[:, body.N_SEGMENTS + 1].astype(np.int64), unique[:, body.N_SEGMENTS + 2] > 0.5,
-                              scene.performer.stature)
+    n_seg = body.N_SEGMENTS
+    postures, hip = _postures(unique[:, :n_seg], unique[:, n_seg], unique[:, n_seg + 1].astype(np.int64),
+                              unique[:, n_seg + 2] > 0.5, scene.performer.stature, unique[:, n_seg + 3])
     steps = _steps(scene, times, row_of[:n], hip[row_of[:n]], contact, gait, facing)
     return Timeline(steps, postures, _action_table(scene, row_of[n:-1]), int(row_of[-1]))
 
@@ -200,7 +209,7 @@ def _distinct_rows(key: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
     return key[first], of_run[np.cumsum(changed) - 1]
 
 
-def _postures(angles, facing, contact, gait, stature) -> tuple[np.ndarray, np.ndarray]:
+def _postures(angles, facing, contact, gait, stature, half_width) -> tuple[np.ndarray, np.ndarray]:
     ends, com, inertia, support, rotates, ratio, hip = place(angles, facing, contact, stature, gait)
     out = np.zeros(len(angles), POSTURE)
     out["ends"] = ends
@@ -211,6 +220,7 @@ def _postures(angles, facing, contact, gait, stature) -> tuple[np.ndarray, np.nd
     out["support_lo"], out["support_hi"] = support[:, 0], support[:, 1]
     out["contact"] = contact
     out["drag_ratio"] = ratio
+    out["half_width"] = half_width
     return out, hip
 
 
@@ -242,7 +252,8 @@ def _steps(scene, times, rows, hip, contact, gait, facing) -> np.ndarray:
         if a > 0 and action.transition > 0:
             settling |= (times >= action.start - 1e-12) & (times < action.start + action.transition + 0.25)
     steps["settling"] = settling
-    steps["action"], steps["gait_speed"], steps["gait_friction"], steps["gait_rate"] = _gait(scene, times)
+    (steps["action"], steps["gait_speed"], steps["gait_friction"], steps["gait_rate"],
+     steps["gait_speed_y"]) = _gait(scene, times)
     return steps
 
 
@@ -260,18 +271,21 @@ def _gait(scene: Scene, times: np.ndarray):
     speed = np.zeros(times.size)
     friction = np.zeros(times.size)
     rate = np.zeros(times.size)
+    across = np.zeros(times.size)
     for a, action in enumerate(scene.actions):
         inside = times >= action.start - 1e-12
         idx[inside] = a
         speed[inside] = 0.0
         friction[inside] = 0.0
+        across[inside] = 0.0
         if action.kind in ("walk", "run", "crawl", "jump") and action.speed > 0:
             kind = "run" if action.kind == "jump" else action.kind
             ramp = np.clip((times[inside] - action.start) / max(action.transition, 1e-9), 0, 1)
-            speed[inside] = action.toward * action.speed * ramp
+            speed[inside] = action.toward * action.speed * ramp * np.cos(action.angle)
+            across[inside] = action.speed * ramp * np.sin(action.angle)
             friction[inside] = action.gait_friction * ramp   # the push grows with the gait's speed
             rate[inside] = 2 * action.speed / (STRIDE_FRACTION[kind] * scene.performer.stature)
-    return idx, speed, friction, rate
+    return idx, speed, friction, rate, across
 
 
 def _action_table(scene: Scene, extra_rows: np.ndarray) -> np.ndarray:

@@ -64,6 +64,24 @@ CROSSFLOW_CD = np.full(N_SEGMENTS, 1.1)
 # the flow still takes drag; a blunt end has Cd about 0.8, the trunk behind the
 # rounded head and shoulders about 0.6 (both from memory).
 AXIAL_CD = np.array([0.8, 0.6, 0, 0, 0, 0, 0, 0, 0.8, 0, 0, 0.8])
+# In a side wind each segment shows its depth instead of its breadth, and the far arm and leg stand
+# in the wake of the near ones a diameter or two downstream, where a tandem cylinder takes little
+# drag (Zdravkovich's review of tandem cylinders, from memory): they count at SIDE_SHELTER. The
+# near arm hangs against the trunk's flank and counts in full. Side-on drag area of the standing
+# figure over its frontal drag area: side_ratio() (about 0.6).
+SIDE_SHELTER = 0.1
+SIDE_WEIGHT = np.array([1, 1, 1, 1, SIDE_SHELTER, SIDE_SHELTER, 1, 1, 1, SIDE_SHELTER, SIDE_SHELTER, SIDE_SHELTER])
+
+# Half the width of the support across the roof, fraction of stature (the frontal plane; the
+# figure itself is drawn in one plane). Feet: the outer edges of feet set about hip width apart in
+# a natural stance, wider in a brace; a walk's base is a narrower step width (about 0.1 m between
+# the feet's centres); knees and hands, and a body lying, are wider. All from memory.
+HALF_WIDTH_FRACTION = {"stand": 0.09, "upright": 0.09, "tuck": 0.09, "spread": 0.09, "brace": 0.17,
+                       "crouch": 0.12, "duck": 0.12, "kneel": 0.12, "prone": 0.14, "crawl": 0.14,
+                       "walk": 0.06, "run": 0.05}
+# Where the limbs sit across the body for the end view, fraction of stature from the midline (from
+# memory): shoulders, hips. Only the drawing uses them.
+SHOULDER_HALF, HIP_HALF = 0.10, 0.055
 
 # Posture angles in degrees, one per segment in SEGMENTS order.
 POSTURES = {
@@ -156,6 +174,7 @@ class BodyConstants:
     com_fraction: np.ndarray   # (12,)
     crossflow_area: np.ndarray  # (12,) Cd * breadth * length, m^2 (before calibration)
     axial_area: np.ndarray      # (12,) Cd * end area, m^2 (before calibration)
+    side_area: np.ndarray       # (12,) Cd * depth * length in a side wind, sheltered limbs less, m^2
 
 
 def body_constants(stature: float) -> BodyConstants:
@@ -164,7 +183,16 @@ def body_constants(stature: float) -> BodyConstants:
     depth = DEPTH_FRACTION * stature
     end_area = np.pi / 4.0 * breadth * depth
     return BodyConstants(stature, length, MASS_FRACTION.copy(), COM_FRACTION.copy(),
-                         CROSSFLOW_CD * breadth * length, AXIAL_CD * end_area)
+                         CROSSFLOW_CD * breadth * length, AXIAL_CD * end_area,
+                         CROSSFLOW_CD * SIDE_WEIGHT * depth * length)
+
+
+def side_ratio(stature: float = 1.75) -> float:
+    """Side-on over head-on drag area of the standing figure (the segment table, SIDE_SHELTER)."""
+    c = body_constants(stature)
+    upright = np.ones(N_SEGMENTS, dtype=bool)
+    upright[list(FEET)] = False
+    return float(np.sum(c.side_area[upright]) / np.sum(c.crossflow_area[upright]))
 
 
 def frontal_area_standing(stature: float) -> float:

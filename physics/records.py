@@ -56,6 +56,7 @@ class Event(IntEnum):
     RECOVERY_STEP = 8
     TAKEOFF = 9
     TOUCHDOWN = 10
+    OFF_SIDE = 11
 
 
 # Plain words shown to people, and which kinds are failures. A failure ends the
@@ -65,9 +66,10 @@ EVENT_WORDS = {
     Event.STRIKE: "strike", Event.LINE: "line", Event.HARD_LANDING: "hard landing",
     Event.MISSED_LANDING: "missed landing", Event.RECOVERY_STEP: "recovery step",
     Event.TAKEOFF: "take-off", Event.TOUCHDOWN: "touchdown",
+    Event.OFF_SIDE: "off the side",
 }
 FAILURES = (Event.SLIP, Event.TOPPLE, Event.LIFT, Event.FALL, Event.STRIKE, Event.LINE, Event.HARD_LANDING,
-            Event.MISSED_LANDING)
+            Event.MISSED_LANDING, Event.OFF_SIDE)
 N_EVENTS = len(Event)
 
 # ---------------------------------------------------------------- per variant
@@ -89,6 +91,7 @@ PARAMS = np.dtype([
     ("max_lean", "f8"),           # largest lean the performer will hold, rad
     ("recovery_step", "f8"),      # length of the one recovery step, m (0 = none)
     ("start_x", "f8"),            # starting pivot position, car frame, m
+    ("start_y", "f8"),            # starting pivot offset across the roof from its centreline, m (+ left)
     ("takeoff_scale", "f8"),      # multiplies every take-off velocity
 ])
 
@@ -97,6 +100,7 @@ PARAMS = np.dtype([
 # prescribed timeline (state-independent, shared by every variant).
 STEP = np.dtype([
     ("time", "f8"), ("speed", "f8"), ("accel", "f8"), ("distance", "f8"),
+    ("accel_y", "f8"),            # car-body lateral acceleration felt on the roof, m/s^2 (+ left)
     ("gust_x", "f8"), ("gust_y", "f8"),
     ("action", "i8"),             # index of the action under way
     ("row", "i8"),                # posture row of this step
@@ -104,6 +108,7 @@ STEP = np.dtype([
     ("settling", "u1"),           # inside a deliberate posture change: balance not assessed
     ("pivot_shift", "f8"),        # how far the pivot moves within the body at a reset, m
     ("gait_speed", "f8"),         # commanded speed relative to the roof, m/s, signed (+ front)
+    ("gait_speed_y", "f8"),       # its part across the roof, m/s (+ left)
     ("gait_friction", "f8"),      # peak horizontal gait force / body weight
     ("gait_rate", "f8"),          # steps per second
 ])
@@ -117,6 +122,7 @@ POSTURE = np.dtype([
     ("com_x", "f8"), ("com_z", "f8"),    # centre of mass, m
     ("inertia", "f8"),                   # moment of inertia about the pivot per kg of body mass, m^2
     ("support_lo", "f8"), ("support_hi", "f8"),  # rear-most and front-most support, m
+    ("half_width", "f8"),                # half the support's width across the roof (frontal plane), m
     ("contact", "i8"),                   # Contact
     ("drag_ratio", "f8"),                # drag area in a headwind relative to standing
 ])
@@ -133,7 +139,8 @@ ACTION = np.dtype([
 ])
 
 CAR = np.dtype([
-    ("front_x", "f8"), ("rear_x", "f8"), ("roof_height", "f8"),
+    ("front_x", "f8"), ("rear_x", "f8"), ("roof_height", "f8"),   # roof height at its centreline
+    ("width", "f8"), ("crown", "f8"),                # roof width and the rise of its centre over its edges, m
     ("sole_static", "f8"), ("sole_kinetic", "f8"),   # footwear on the roof
     ("body_static", "f8"), ("body_kinetic", "f8"),   # clothing and pads (knees, prone, lying)
 ])
@@ -144,6 +151,8 @@ LINE = np.dtype([("x_start", "f8"), ("x_end", "f8"), ("wire_height", "f8"), ("ex
 BODY = np.dtype([
     ("crossflow_area", "f8", (N_SEGMENTS,)),  # Cd * breadth * length per segment, m^2 (before drag_scale)
     ("axial_area", "f8", (N_SEGMENTS,)),      # Cd * end area per segment, m^2
+    ("side_area", "f8", (N_SEGMENTS,)),       # Cd * depth * length per segment in a side wind, m^2
+    ("lumped_side_ratio", "f8"),              # the lumped body's side-on drag area over its frontal
     ("lumped", "u1"),                         # 1: one drag area at the centre of mass (a hand calculation)
     ("lumped_drag_area", "f8"),               # standing Cd*A of the lumped body, m^2
     ("lying_row", "i8"),                      # posture row of the body lying on the ground after a fall
@@ -160,6 +169,7 @@ EVENT = np.dtype([
     ("demand", "f8"),             # the numbers behind it (see verdict.describe)
     ("available", "f8"),
     ("target_car", "i8"),         # a missed landing: the car declared for it; else -1
+    ("side", "i8"),               # toward which side: +1 left, -1 right, 0 along the track
 ])
 
 # Per action: extremes of the margins while the beat is assessed, and the
@@ -178,8 +188,12 @@ OUTCOME = np.dtype([
     ("touchdown_time", "f8"), ("touchdown_x", "f8"), ("touchdown_car", "i8"),
     ("touchdown_speed", "f8"),         # horizontal speed relative to the roof at touchdown, m/s
     ("recovery_steps", "i8"),          # recovery steps taken
+    ("frontal_margin_min", "f8"),      # margin of stability across the track (frontal plane), m
+    ("edge_margin_min", "f8"),         # distance from the support to the nearer side edge of the roof, m
+    ("lateral_accel_max", "f8"),       # car-body lateral acceleration felt on the roof, m/s^2
 ])
-OUTCOME_MINIMA = ("grip_ratio_min", "balance_margin_min", "lift_ratio_min", "landing_margin_min", "clearance_min")
+OUTCOME_MINIMA = ("grip_ratio_min", "balance_margin_min", "lift_ratio_min", "landing_margin_min", "clearance_min",
+                  "frontal_margin_min", "edge_margin_min")
 OUTCOME_TIMES = ("takeoff_time", "takeoff_x", "touchdown_time", "touchdown_x", "touchdown_speed")
 
 # Per recorded step: physical state, the air it met, the loads on it and the
@@ -189,12 +203,17 @@ RECORD = np.dtype([
     ("mode", "i8"),               # Mode
     ("row", "i8"),                # posture row drawn and loaded
     ("pivot_x", "f8"),            # contact point, car frame, m (NaN in flight)
+    ("pivot_y", "f8"),            # contact point across the roof from its centreline, m (+ left; NaN in flight)
     ("contact_z", "f8"),          # roof height under the contact, m
     ("lean", "f8"),               # whole-body lean about the pivot (in flight: of the frozen posture), rad
     ("lean_rate", "f8"),          # rad/s
+    ("roll", "f8"),               # sideways lean (frontal plane), rad (+ toward the left)
+    ("roll_rate", "f8"),          # rad/s
+    ("slide_speed_y", "f8"),      # speed of the contact over the roof across the track, m/s
     ("slide_speed", "f8"),        # speed of the contact over the roof, m/s
     ("flight_x", "f8"), ("flight_z", "f8"),    # in flight: centre of mass, car frame, m (NaN on the roof)
     ("flight_vx", "f8"), ("flight_vz", "f8"),  # in flight: its velocity relative to the roof, m/s
+    ("flight_y", "f8"), ("flight_vy", "f8"),   # in flight: centre of mass across the track (m) and its velocity
     ("speed", "f8"),              # consist speed, m/s
     ("distance", "f8"),           # consist travel since t = 0, m
     ("wind_x", "f8"), ("wind_y", "f8"),  # ambient wind incl. gusts and turbulence, m/s
@@ -208,6 +227,14 @@ RECORD = np.dtype([
     ("support_lo", "f8"), ("support_hi", "f8"),  # support of the feet (or knees, hands) relative to the pivot, m
     ("balance_margin", "f8"),     # margin of stability, m
     ("lean_required", "f8"),      # rad
+    ("xcom_y", "f8"),             # extrapolated centre of mass across the track relative to the pivot, m
+    ("cop_y", "f8"),              # centre of pressure across the track relative to the pivot, m
+    ("half_width", "f8"),         # half the support's width across the track, m
+    ("frontal_margin", "f8"),     # margin of stability across the track, m
+    ("roll_required", "f8"),      # sideways lean the load needs, rad (signed, + toward the left)
+    ("edge_margin", "f8"),        # support to the nearer side edge, m
+    ("roof_slope", "f8"),         # slope of the roof across the track under the contact, rad (+ rising to the left)
+    ("accel_y", "f8"),            # car-body lateral acceleration, m/s^2
 ])
 
 
@@ -224,5 +251,5 @@ def empty_outcomes(batch: int, actions: int) -> np.ndarray:
 def empty_events(batch: int) -> np.ndarray:
     out = np.zeros((batch, N_EVENTS), EVENT)
     for name in EVENT.names:
-        out[name] = -1 if name in ("car", "target_car") else np.nan
+        out[name] = -1 if name in ("car", "target_car") else (0 if name == "side" else np.nan)
     return out

@@ -23,6 +23,12 @@ class Car:
     body_kinetic: float
     front_x: float  # car frame, m
     rear_x: float
+    width: float = 2.8   # roof width, m (scene_load.DEFAULT_WIDTH)
+    crown: float = 0.0   # rise of the roof's centreline over its side edges, m
+
+    def roof_z(self, y):
+        """Roof height (m above rail) at y across the roof from its centreline (a parabolic crown)."""
+        return self.roof_height - self.crown * (2.0 * y / self.width) ** 2
 
     @property
     def body_bottom(self) -> float:
@@ -92,6 +98,7 @@ class Action:
     air_posture: str = "tuck"
     landing_car: int | None = None      # 0-based
     label: str = ""
+    angle: float = 0.0                  # gaits: heading across the roof from the track's axis, rad (+ left)
 
     @property
     def end(self) -> float:
@@ -122,6 +129,7 @@ class Safety:
     lift_ratio: float
     landing_margin: float
     clearance: float
+    edge_margin: float = 0.5   # m from the support to the nearer side edge (roofbeat's default, not a standard)
 
 
 @dataclass(frozen=True)
@@ -142,6 +150,7 @@ class Scene:
     structures: tuple[Structure, ...] = ()
     lines: tuple[Line, ...] = ()
     jerk: float = 2.0    # m/s^3, how fast the consist's acceleration changes (physics.consist.DEFAULT_JERK)
+    start_y: float = 0.0  # m across the roof from its centreline, + left in the direction of travel
     raw: dict = field(default_factory=dict, compare=False, repr=False)
     # Spread (SI, +/-) of values written with an uncertainty, by sweep parameter
     # name (speed, wind_speed, mass, drag_area, reaction_time) or, for a car's

@@ -22,6 +22,12 @@ from physics.scene_problems import Problem, SceneError
 from physics.surfaces import SURFACES
 from physics.units import QuantityError, parse_quantity, parse_uncertain
 
+# Roof across the car when the scene does not say (from memory): a rail car body is about 2.8 m
+# wide at the roof's edges; a coach or box-car roof rises about 0.15 m from its edges to its
+# centreline; a deck (a flat car, a trailer bed) is flat.
+DEFAULT_WIDTH = 2.8
+DEFAULT_CROWN = 0.15
+
 __all__ = ["Problem", "SceneError", "load_scene", "parse_scene"]
 
 ROOF_STATIC = "roof_static@"  # key of a car's roof friction spread in Scene.uncertain, then the car's index
@@ -282,7 +288,7 @@ def _build(raw: dict, r: _Reader, source: str) -> Scene | None:
     keyframes, jerk = _motion(r.table(raw, "motion", ""), r)
     air = _air(r.table(raw, "air", "", required=False), r)
     performer = _performer(r.table(raw, "performer", ""), r)
-    start_car, start_x = _start(r.table(raw, "start", ""), r, cars)
+    start_car, start_x, start_y = _start(r.table(raw, "start", ""), r, cars)
     actions = _actions(raw, r, cars, performer)
     safety = _safety(r.table(raw, "safety", "", required=False), r)
     sim = r.table(raw, "simulation", "", required=False)
@@ -295,8 +301,8 @@ def _build(raw: dict, r: _Reader, source: str) -> Scene | None:
     if r.problems:
         return None
     return Scene(title, source, units, frame_rate, tuple(cars), tuple(keyframes), air, performer, start_x,
-                 start_car, tuple(actions), safety, 1.0 / rate, tuple(structures), tuple(lines), jerk, raw,
-                 dict(r.uncertain))
+                 start_car, tuple(actions), safety, 1.0 / rate, tuple(structures), tuple(lines), jerk, start_y,
+                 raw, dict(r.uncertain))
 
 
 MAX_ACTIONS = 200
@@ -320,12 +326,14 @@ def _beat_length(r: _Reader, duration: float, rate: float, count: int) -> None:
 def _cars(consist: dict, r: _Reader) -> list[Car]:
     """The consist, front to rear. A car with a problem keeps its place (with NaN numbers) so that
     car numbers elsewhere in the scene are judged against the consist as written."""
-    r.unknown(consist, "consist", ("roof", "cars"))
+    r.unknown(consist, "consist", ("roof", "cars", "width", "crown"))
     cars, front = [], 0.0
     items = r.items(consist, "cars", "consist")
+    width_all = r.quantity(consist, "width", "consist", "length", None, False, minimum=1.0, maximum=4.0)
+    crown_all = r.quantity(consist, "crown", "consist", "length", None, False, minimum=0.0, maximum=0.6)
     for n, (path, item) in enumerate(items):
         r.unknown(item, path, ("name", "length", "roof_height", "gap", "roof", "roof_static", "roof_kinetic",
-                               "body_static", "body_kinetic"))
+                               "body_static", "body_kinetic", "width", "crown"))
         length = r.quantity(item, "length", path, "length", positive=True, maximum=100.0)
         height = r.quantity(item, "roof_height", path, "length", positive=True, maximum=8.0)
         last = n == len(items) - 1
@@ -333,7 +341,16 @@ def _cars(consist: dict, r: _Reader) -> list[Car]:
         surface, friction = _roof(consist, item, path, n, r)
         name = r.text(item, "name", path, default=f"car {n + 1}")
         length, height, gap = (math.nan if v is None else v for v in (length, height, gap))
-        cars.append(Car(name, length, height, gap, surface, *friction, front, front - length))
+        width = r.quantity(item, "width", path, "length", None, False, minimum=1.0, maximum=4.0)
+        width = width if width is not None else (width_all if width_all is not None else DEFAULT_WIDTH)
+        crown = r.quantity(item, "crown", path, "length", None, False, minimum=0.0, maximum=0.6)
+        flat = SURFACES[surface].flat if surface in SURFACES else False
+        crown = crown if crown is not None else (crown_all if crown_all is not None else
+                                                 (0.0 if flat else DEFAULT_CROWN))
+        if crown > 0.25 * width:
+            r.fail(f"{path}.crown", f"a crown of {crown:g} m on a {width:g} m wide roof is steeper than roofbeat "
+                                    "models (at most a quarter of the width)")
+        cars.append(Car(name, length, height, gap, surface, *friction, front, front - length, width, crown))
         front -= length + gap
     return cars
 
@@ -449,17 +466,22 @@ def _performer(data: dict, r: _Reader) -> Performer:
                      step, jump)
 
 
-def _start(data: dict, r: _Reader, cars: list[Car]) -> tuple[int, float]:
-    r.unknown(data, "start", ("car", "position", "from"))
+def _start(data: dict, r: _Reader, cars: list[Car]) -> tuple[int, float, float]:
+    r.unknown(data, "start", ("car", "position", "from", "offset"))
+    offset = r.quantity(data, "offset", "start", "length", default=0.0)
     car = r.number(data, "car", "start", integer=True, minimum=1, maximum=max(1, len(cars)))
     pos = r.quantity(data, "position", "start", "length", minimum=0.0)
     end = r.choice(data, "from", "start", ("front", "rear"), default="front")
     if car is None or pos is None or not cars:
-        return 0, 0.0
+        return 0, 0.0, 0.0
     c = cars[car - 1]
     if pos > c.length:
         r.fail("start.position", f"{pos:g} m is past the end of {c.name} ({c.length:g} m long)")
-    return car - 1, (c.front_x - pos) if end == "front" else (c.rear_x + pos)
+    offset = 0.0 if offset is None else offset
+    if abs(offset) > 0.5 * c.width:
+        r.fail("start.offset", f"{offset:g} m is past the side edge of {c.name}'s roof ({c.width:g} m wide: "
+                               f"offsets within +/-{0.5 * c.width:g} m)")
+    return car - 1, (c.front_x - pos) if end == "front" else (c.rear_x + pos), offset
 
 
 def _actions(raw: dict, r: _Reader, cars: list[Car], performer: Performer | None) -> list[Action]:
@@ -467,7 +489,7 @@ def _actions(raw: dict, r: _Reader, cars: list[Car], performer: Performer | None
     for path, item in r.items(raw, "actions", ""):
         r.unknown(item, path, ("do", "duration", "transition", "speed", "toward", "gait_friction", "label",
                                "takeoff_car", "takeoff_position", "takeoff_from", "takeoff_speed",
-                               "takeoff_angle", "air_posture", "landing_car", "run_up_speed"))
+                               "takeoff_angle", "air_posture", "landing_car", "run_up_speed", "angle"))
         kind = r.choice(item, "do", path, ACTION_KINDS)
         duration = r.quantity(item, "duration", path, "time", positive=True, maximum=600.0)
         transition = r.quantity(item, "transition", path, "time", default=0.5, minimum=0.0, maximum=10.0)
@@ -477,8 +499,12 @@ def _actions(raw: dict, r: _Reader, cars: list[Car], performer: Performer | None
             r.fail(f"{path}.transition", f"{transition:g} s is longer than the action's duration "
                                          f"({duration:g} s)", also=f"{path}.duration")
         toward = 1 if r.choice(item, "toward", path, ("front", "rear"), default="front") == "front" else -1
-        speed, gait_friction = 0.0, 0.0
+        speed, gait_friction, angle = 0.0, 0.0, 0.0
+        if "angle" in item and kind not in GAIT_KINDS:
+            r.fail(f"{path}.angle", f"only a walk, run or crawl takes an angle across the roof, not {kind!r}")
         if kind in GAIT_KINDS:
+            angle = r.quantity(item, "angle", path, "angle", default=0.0, minimum=-math.radians(80),
+                               maximum=math.radians(80))
             speed = r.quantity(item, "speed", path, "speed", minimum=0.0, maximum=12.0)
             gait_friction = r.number(item, "gait_friction", path,
                                      default=gait_friction_default(kind, speed or 0.0), minimum=0.0, maximum=1.5)
@@ -490,7 +516,7 @@ def _actions(raw: dict, r: _Reader, cars: list[Car], performer: Performer | None
             gait_friction = r.number(item, "gait_friction", path, default=gait_friction_default("run", speed),
                                      minimum=0.0, maximum=1.5)
         actions.append(Action(kind, t, duration, transition, speed or 0.0, toward, gait_friction or 0.0,
-                              label=str(label), **extra))
+                              label=str(label), angle=angle or 0.0, **extra))
         t += duration
     return actions
 
@@ -543,13 +569,14 @@ def _jump(item: dict, path: str, r: _Reader, cars: list[Car], performer: Perform
 
 def _safety(data: dict, r: _Reader) -> Safety:
     p = "safety"
-    r.unknown(data, p, ("grip_ratio", "balance_margin", "lift_ratio", "landing_margin", "clearance"))
+    r.unknown(data, p, ("grip_ratio", "balance_margin", "lift_ratio", "landing_margin", "clearance", "edge_margin"))
     return Safety(
         r.number(data, "grip_ratio", p, default=1.3, minimum=1.0, maximum=5.0),
         r.quantity(data, "balance_margin", p, "length", default=0.03, minimum=0.0, maximum=0.5),
         r.number(data, "lift_ratio", p, default=0.5, minimum=0.0, maximum=1.0),
         r.quantity(data, "landing_margin", p, "length", default=0.5, minimum=0.0, maximum=5.0),
         r.quantity(data, "clearance", p, "length", default=0.5, minimum=0.0, maximum=5.0),
+        r.quantity(data, "edge_margin", p, "length", default=0.5, minimum=0.0, maximum=2.0),
     )
 
 

@@ -83,16 +83,36 @@ class Trajectory:
     @functools.cached_property
     def com_path(self) -> np.ndarray:
         """(T, 2) centre of mass, car frame (m): the leaned posture on the roof, the flight state in the air."""
+        return self.com_path3[:, [0, 2]]
+
+    @functools.cached_property
+    def com_path3(self) -> np.ndarray:
+        """(T, 3) centre of mass (x along, y across from the roofs' centreline, z up), car frame (m)."""
         rec, postures = self.record, self.timeline.postures
         c, s = np.cos(rec["lean"]), np.sin(rec["lean"])
         cx, cz = postures["com_x"][rec["row"]], postures["com_z"][rec["row"]]
         on_roof = self.on_roof
+        up = -cx * s + cz * c
+        roll = np.nan_to_num(rec["roll"])
         x = np.where(on_roof, rec["pivot_x"] + cx * c + cz * s, rec["flight_x"])
-        z = np.where(on_roof, rec["contact_z"] - cx * s + cz * c, rec["flight_z"])
-        return np.stack([x, z], axis=-1)
+        y = np.where(on_roof, rec["pivot_y"] + up * np.sin(roll), rec["flight_y"])
+        z = np.where(on_roof, rec["contact_z"] + up * np.cos(roll), rec["flight_z"])
+        return np.stack([x, y, z], axis=-1)
 
     def ends(self, index=None) -> np.ndarray:
-        """Segment endpoints, car frame (m): (12, 2, 2) at one step index, or (T, 12, 2, 2) for all."""
+        """Segment endpoints as the side view shows them, car frame (m): (12, 2, 2) at one step index,
+        or (T, 12, 2, 2) for all; a sideways lean shortens the figure as seen from the side."""
+        return self.ends3(index)[..., [0, 2]]
+
+    def ends3(self, index=None) -> np.ndarray:
+        """Segment endpoints (x along, y across, z up), car frame (m): (12, 2, 3) or (T, 12, 2, 3).
+
+        The figure is one plane along the track; across it the limbs stand out to
+        the shoulders and hips and the feet to the support's half-width (near
+        limbs toward the right-hand side, from which the side view looks), and the
+        whole leaning body turns sideways by the roll about its contact line (in
+        the air about its centre of mass).
+        """
         idx = np.arange(self.times.size) if index is None else np.atleast_1d(index)
         rec = self.record[idx]
         posture = self.timeline.postures[rec["row"]]
@@ -108,13 +128,42 @@ class Trajectory:
         stays = on_roof & (posture["rotates"][:, :, None] == 0)  # feet (and shanks) held on the roof
         x = np.where(stays, rel[..., 0], x)
         z = np.where(stays, rel[..., 1], z)
+        y = self._across(posture)
+        roll = np.nan_to_num(rec["roll"])[:, None, None]
+        y, z = (np.where(stays, y, y * np.cos(roll) + z * np.sin(roll)),
+                np.where(stays, z, -y * np.sin(roll) + z * np.cos(roll)))
         base_x = np.where(on_roof[:, 0, 0], rec["pivot_x"], rec["flight_x"])[:, None, None]
+        base_y = np.where(on_roof[:, 0, 0], rec["pivot_y"], rec["flight_y"])[:, None, None]
         base_z = np.where(on_roof[:, 0, 0], rec["contact_z"], rec["flight_z"])[:, None, None]
         # On the roof the rigid lean can take a forward-reaching lower leg of a gait (or a posture just
         # after a recovery step) below the roof; such a point is shown on the roof (the knee bends).
         z = np.where(on_roof, np.maximum(z, 0.0), z)
-        out = np.stack([x + base_x, z + base_z], axis=-1)
+        out = np.stack([x + base_x, y + base_y, z + base_z], axis=-1)
+        # Feet and shanks held on a crowned roof stand on it where they are across it, not at the
+        # height of the roof under the pivot line.
+        for car in self.scene.cars:
+            on_car = stays & ((rec["pivot_x"] >= car.rear_x) & (rec["pivot_x"] <= car.front_x))[:, None, None]
+            out[..., 2] += np.where(on_car, car.roof_z(out[..., 1]) - base_z, 0.0)
         return out[0] if index is not None and np.ndim(index) == 0 else out
+
+    def _across(self, posture) -> np.ndarray:
+        """(R, 12, 2) where each segment end stands across the body (m, + left), before the roll."""
+        stature = self.scene.performer.stature
+        shoulder, hip = body.SHOULDER_HALF * stature, body.HIP_HALF * stature
+        foot = np.maximum(hip, posture["half_width"] - 0.5 * body.FOOT_WIDTH * stature)[:, None]
+        y = np.zeros((len(posture), body.N_SEGMENTS, 2))
+        for near, sign in ((True, -1.0), (False, 1.0)):
+            arm = (body.UARM_N, body.FARM_N) if near else (body.UARM_F, body.FARM_F)
+            thigh, shank, foot_seg = ((body.THIGH_N, body.SHANK_N, body.FOOT_N) if near
+                                      else (body.THIGH_F, body.SHANK_F, body.FOOT_F))
+            y[:, arm[0], :] = sign * shoulder
+            y[:, arm[1], :] = sign * shoulder
+            y[:, thigh, 0] = sign * hip
+            y[:, thigh, 1] = sign * 0.5 * (hip + foot[:, 0])
+            y[:, shank, 0] = sign * 0.5 * (hip + foot[:, 0])
+            y[:, shank, 1] = sign * foot[:, 0]
+            y[:, foot_seg, :] = sign * foot
+        return y
 
     def overhead_gap(self, index: int) -> tuple[float, str | None]:
         """Overhead clearance at one step (m) and what it is measured to: the engine's definition
@@ -189,7 +238,7 @@ def base_params(scene: Scene) -> np.ndarray:
         "reaction_time": scene.performer.reaction_time, "turbulence_sigma": turb.intensity if turb else 0.0,
         "turbulence_length": turb.length_scale if turb else 1.0, "turbulence_seed": turb.seed if turb else 0,
         "gust_scale": 1.0, "max_lean": scene.performer.max_lean, "recovery_step": scene.performer.recovery_step,
-        "start_x": scene.start_x, "takeoff_scale": 1.0,
+        "start_x": scene.start_x, "start_y": scene.start_y, "takeoff_scale": 1.0,
     }
     for name in PARAMS.names:
         p[name] = values[name]
@@ -223,6 +272,8 @@ def build_inputs(scene: Scene) -> tuple[Timeline, Inputs]:
     drag = np.zeros(1, BODY)
     drag["crossflow_area"] = constants.crossflow_area
     drag["axial_area"] = constants.axial_area
+    drag["side_area"] = constants.side_area
+    drag["lumped_side_ratio"] = body.side_ratio(scene.performer.stature)
     drag["lumped"] = scene.performer.body_model == "lumped"
     drag["lumped_drag_area"] = scene.performer.drag_area if scene.performer.body_model == "lumped" else 0.0
     drag["lying_row"] = timeline.lying_row
@@ -271,7 +322,7 @@ def run_kernel(v: Variants, inputs: Inputs, events, outcomes, record, chunks: in
     width = max(delays, inputs.body["crossflow_area"].shape[1])
 
     def scratch():
-        return np.zeros((5, width))
+        return np.zeros((9, width))
     if not jit.compiled():
         with np.errstate(over="ignore"):
             args = _python_views([params, roof_scale, inputs, 0, count, events, outcomes, record, scratch()])

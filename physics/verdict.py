@@ -25,6 +25,7 @@ from physics.units import display
 from physics.wind_scales import beaufort
 
 HOLDS, MARGINAL, FAILS = 0, 1, 2
+SIDE_WORDS = {1: "left", -1: "right"}   # events.side, in the direction of travel
 NAMES = ("holds", "marginal", "fails")
 
 # Margin (records.OUTCOME field) -> the [safety] factor it is held to and its words.
@@ -34,6 +35,7 @@ FACTORS = (
     ("lift_ratio_min", "lift_ratio", "lift ratio", ""),
     ("landing_margin_min", "landing_margin", "landing margin", "m"),
     ("clearance_min", "clearance", "overhead clearance", "m"),
+    ("edge_margin_min", "edge_margin", "side-edge margin", "m"),
 )
 _FAILURE_INDEX = [int(k) for k in FAILURES]
 
@@ -110,6 +112,7 @@ def event_list(scene: Scene, events: np.ndarray) -> list[dict]:
             "time_s": float(row["time"]),
             "car": car + 1 if car >= 0 else None,
             "car_name": scene.cars[car].name if car >= 0 else None,
+            "side": SIDE_WORDS.get(int(row["side"])),
             "x_car_m": float(row["x_car"]),
             "x_ground_m": float(row["x_ground"]),
             "demand": float(row["demand"]),
@@ -123,8 +126,16 @@ def describe(scene: Scene, kind: Event, row) -> str:
     """The numbers behind an event in plain words, in the scene's display units."""
     demand, available = float(row["demand"]), float(row["available"])
     u = scene.units
+    side = SIDE_WORDS.get(int(row["side"]))
     if kind == Event.SLIP:
-        return f"grip needed {demand:.3f}, roof gives {available:.3f}"
+        toward = f", sideways toward the {side} edge" if side else ""
+        return f"grip needed {demand:.3f}, roof gives {available:.3f}{toward}"
+    if kind == Event.OFF_SIDE:
+        how = "lying" if demand < 0.01 else f"moving across the roof at {display(demand, 'wind', u)}"
+        return f"went over the {side} side edge, {how}"
+    if kind in (Event.TOPPLE, Event.RECOVERY_STEP) and side:
+        return (f"extrapolated centre of mass {display(abs(demand - available), 'length', u, '.3f')} outside "
+                f"the support, sideways toward the {side} edge")
     if kind in (Event.TOPPLE, Event.RECOVERY_STEP):
         side = "front" if demand > available else "rear"
         return (f"extrapolated centre of mass {display(abs(demand - available), 'length', u, '.3f')} outside "
@@ -216,6 +227,9 @@ def summarise(scene: Scene, events: np.ndarray, outcomes: np.ndarray) -> dict:
             "takeoff_s": _finite(m["takeoff_time"]),
             "touchdown_s": _finite(m["touchdown_time"]),
             "recovery_steps": int(m["recovery_steps"]),
+            "frontal_balance_margin_min_m": _finite(m["frontal_margin_min"]),
+            "edge_margin_min_m": _finite(m["edge_margin_min"]),
+            "lateral_accel_max_ms2": float(m["lateral_accel_max"]),
         }
         actions.append(row)
     overall = NAMES[int(codes.max())] if len(codes) else "holds"

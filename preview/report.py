@@ -55,6 +55,11 @@ def text_report(scene, summary: dict) -> str:
             extra.append(f"landing margin {_fmt(to_display(row['landing_margin_min_m'], 'length', system)[0], '.2f')}")
         if row["clearance_min_m"] is not None:
             extra.append(f"overhead clearance {_fmt(to_display(row['clearance_min_m'], 'length', system)[0], '.2f')}")
+        if row.get("edge_margin_min_m") is not None:
+            extra.append(f"side edge {_fmt(to_display(row['edge_margin_min_m'], 'length', system)[0], '.2f')}")
+        if row.get("frontal_balance_margin_min_m") is not None:
+            extra.append("balance across the track "
+                         f"{_fmt(to_display(row['frontal_balance_margin_min_m'], 'length', system)[0], '.2f')}")
         if extra:
             lines.append(" " * 16 + "; ".join(extra) + f" {to_display(0, 'length', system)[1]}")
         if row["marginal_because"]:
@@ -64,8 +69,9 @@ def text_report(scene, summary: dict) -> str:
             lines.append(" " * 16 + f"{n} recovery step{'s' if n > 1 else ''}: the performer had to step to stay up")
     lines.append("")
     lines.append("required: " + required_words(summary["required_factors"], system))
-    lines.append("grip = roof friction available / needed (min); balance = margin of stability (min); "
-                 "lift = normal force / weight (min); lean = lean needed to balance the load (max)")
+    lines.append("grip = roof friction available / needed (min); balance = margin of stability, the smaller of "
+                 "along and across the track (min); lift = normal force / weight (min); lean = lean needed to "
+                 "balance the load (max); side edge = support to the nearer side edge (min)")
     peak = max((r["apparent_wind_max_ms"] for r in summary["actions"]), default=0.0)
     lines.append(f"apparent wind, highest: {wind_words(peak, system)}")
     lines.append("")

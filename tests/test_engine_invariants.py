@@ -210,13 +210,14 @@ def test_no_body_point_is_ever_inside_a_car_or_below_the_ground(path):
     from physics.scene_load import load_scene
     scene = load_scene(path)
     tr = simulate(scene)
-    ends = tr.ends()
-    x, z = ends[..., 0].reshape(len(ends), -1), ends[..., 1].reshape(len(ends), -1)
+    ends = tr.ends3()
+    x, y, z = (ends[..., i].reshape(len(ends), -1) for i in range(3))
     tolerance = 0.02
     assert z.min() > -tolerance
     for car in scene.cars:
         inside = ((x > car.rear_x + tolerance) & (x < car.front_x - tolerance)
-                  & (z > car.body_bottom + tolerance) & (z < car.roof_height - tolerance))
+                  & (np.abs(y) < 0.5 * car.width - tolerance)
+                  & (z > car.body_bottom + tolerance) & (z < car.roof_z(y) - tolerance))
         assert not inside.any(), (car.name, tr.times[np.argwhere(inside)[0][0]])
 
 

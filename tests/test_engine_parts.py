@@ -75,7 +75,8 @@ def test_air_load_matches_the_body_drag_area(name):
     rho, w = 1.225, 17.0
     constants = body.body_constants(STATURE)
     posture = posture_of(name)
-    drag = air_load.Drag(0.5 * rho * constants.crossflow_area, 0.5 * rho * constants.axial_area, False, 0.0)
+    drag = air_load.Drag(0.5 * rho * constants.crossflow_area, 0.5 * rho * constants.axial_area,
+                         0.5 * rho * constants.side_area, False, 0.0, 0.0)
     load = air_load.air_load(posture, 1.0, 0.0, -w, 0.0, 0.0, drag)
     cda = body.drag_area(np.asarray(posture.ends)[None], constants)[0]
     assert load.fx == pytest.approx(-0.5 * rho * cda * w * w, rel=1e-12)
@@ -85,17 +86,19 @@ def test_air_load_matches_the_body_drag_area(name):
 def test_lumped_air_load_is_one_drag_area_at_the_centre_of_mass():
     posture = posture_of("stand", com=(0.1, 1.0))
     q = 0.5 * 1.2 * 0.7
-    load = air_load.air_load(posture, 1.0, 0.0, -10.0, 3.0, 0.0, air_load.Drag(None, None, True, q))
+    load = air_load.air_load(posture, 1.0, 0.0, -10.0, 3.0, 0.0, air_load.Drag(None, None, None, True, q, 0.6 * q))
     speed = math.hypot(10.0, 3.0)
-    assert (load.fx, load.fy, load.fz) == pytest.approx((-q * speed * 10.0, q * speed * 3.0, 0.0))
+    # Across the track the lumped body shows its side-on drag area (here 0.6 of the frontal).
+    assert (load.fx, load.fy, load.fz) == pytest.approx((-q * speed * 10.0, 0.6 * q * speed * 3.0, 0.0))
+    assert load.roll == pytest.approx(1.0 * load.fy)             # com_z * fy
     assert load.torque_cos == pytest.approx(1.0 * load.fx)      # com_z * fx - com_x * fz
     assert load.torque_sin == pytest.approx(-0.1 * load.fx)     # -com_x * fx - com_z * fz
 
 
 def cars_table():
     cars = np.zeros(2, CAR).view(np.recarray)
-    cars[0] = (0.0, -20.0, 3.9, 0.6, 0.5, 0.4, 0.3)
-    cars[1] = (-21.0, -41.0, 4.1, 0.8, 0.6, 0.5, 0.4)
+    cars[0] = (0.0, -20.0, 3.9, 2.8, 0.0, 0.6, 0.5, 0.4, 0.3)
+    cars[1] = (-21.0, -41.0, 4.1, 2.8, 0.0, 0.8, 0.6, 0.5, 0.4)
     return cars
 
 
@@ -114,7 +117,7 @@ def test_landing_rule_at_its_boundary():
     cars = cars_table()
     landed = posture_of("crouch")
     low_x = flight.reach(landed, 0.0, 0.0, 0.0).low_x
-    fl = flight.Flight(0.0, 0.0, 0.0, 0.0, 0, 0.0, 0.3, -1.0, -0.4, 0.4, False, math.nan)
+    fl = flight.Flight(0.0, 0.0, 0.0, 0.0, 0, 0.0, 0.3, -1.0, -0.4, 0.4, False, math.nan, 0.0, 0.0, 0.0)
     impact = 0.6 * (3.0 + G * flight.LANDING_ABSORB_TIME)
     skid = math.sqrt(2 * 0.5 * G * flight.MIN_SKID)
     for vx, hard in ((impact + skid - 0.01, False), (impact + skid + 0.01, True)):
@@ -144,15 +147,22 @@ def test_overhead_hand_case():
 
 
 def test_grip_demand_and_slide():
-    air = air_load.AirLoad(-120.0, 30.0, 40.0, 0.0, 0.0)
-    grip = sliding.grip_demand(air, 75.0, -1.0, 0.0)
+    air = air_load.AirLoad(-120.0, 30.0, 40.0, 0.0, 0.0, 0.0)
+    grip = sliding.grip_demand(air, 75.0, -1.0, 0.0, 30.0, 0.0)
     assert grip.need_x == pytest.approx(120.0 - 75.0)
     assert grip.static_normal == pytest.approx(75 * G - 40.0)
     assert grip.demand == pytest.approx(math.hypot(45.0, -30.0) / (75 * G - 40.0))
+    # On a roof tilted 0.1 rad across the track the normal load is W cos(0.1) less the lift.
+    assert sliding.grip_demand(air, 75.0, -1.0, 0.0, 30.0, 0.1).static_normal == pytest.approx(
+        75 * G * math.cos(0.1) - 40.0)
     # A slide under kinetic friction alone decelerates at mu_k g and stops.
-    u, udot, stopped = sliding.slide_step(-1.0, 0.0, 75.0, 0.0, 0.5, 75 * G, 0.0, 0.01)
+    u, w, udot, stopped = sliding.slide_step(-1.0, 0.0, 0.0, 0.0, 75.0, 0.5, 75 * G, 0.0, 0.01)
     assert udot == pytest.approx(0.5 * G) and u == pytest.approx(-1.0 + 0.01 * 0.5 * G) and not stopped
-    assert sliding.slide_step(-0.01, 0.0, 75.0, 0.0, 0.5, 75 * G, 0.0, 0.01)[2]
+    assert w == 0.0
+    assert sliding.slide_step(-0.01, 0.0, 0.0, 0.0, 75.0, 0.5, 75 * G, 0.0, 0.01)[3]
+    # Sliding at 45 degrees across the track, friction opposes the motion: mu_k g along each axis / sqrt 2.
+    u, w, udot, stopped = sliding.slide_step(-1.0, -1.0, 0.0, 0.0, 75.0, 0.5, 75 * G, 0.0, 0.01)
+    assert udot == pytest.approx(0.5 * G / math.sqrt(2)) and w == pytest.approx(u)
 
 
 def test_splitmix64_reference_outputs():

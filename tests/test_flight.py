@@ -35,17 +35,18 @@ def fly(posture, drag, mass, vx0, vz0, seconds, dt=DT, V=0.0, wind=0.0):
     n = int(round(seconds / dt))
     out = np.empty((n + 1, 4))
     with plain_python():
-        fl = flight.Flight(0.0, 0.0, vx0, vz0, 0, 0.0, 0.0, 0.0, 0.0, 0.0, False, math.nan)
+        fl = flight.Flight(0.0, 0.0, vx0, vz0, 0, 0.0, 0.0, 0.0, 0.0, 0.0, False, math.nan, 0.0, 0.0, 0.0)
         out[0] = fl.x, fl.z, fl.vx, fl.vz
         for k in range(n):
-            fl = flight.rk4(fl, posture, V, V, 0.0, wind, 0.0, drag, mass, dt)
+            fl = flight.rk4(fl, posture, V, V, 0.0, 0.0, wind, 0.0, drag, mass, dt)
             out[k + 1] = fl.x, fl.z, fl.vx, fl.vz
     return out
 
 
 def lumped_fly(mass, cda, vz0, seconds, rho=RHO, dt=DT, vx0=0.0, V=0.0, wind=0.0):
     zeros = np.zeros(body.N_SEGMENTS)
-    return fly(posture_record(), Drag(zeros, zeros, True, 0.5 * rho * cda), mass, vx0, vz0, seconds, dt, V, wind)
+    return fly(posture_record(), Drag(zeros, zeros, zeros, True, 0.5 * rho * cda, 0.5 * rho * cda), mass, vx0, vz0,
+               seconds, dt, V, wind)
 
 
 def test_falling_from_rest_matches_closed_form():
@@ -119,7 +120,8 @@ def test_segmented_flight_against_solve_ivp(vx0, vz0, V, wind):
                     events=lambda t, y: y[1] if t > 0.05 else 1.0)
     t_land = ref.t_events[0][0]
     x_ref = ref.sol(t_land)[0]
-    drag = Drag(0.5 * rho * constants.crossflow_area, 0.5 * rho * constants.axial_area, False, 0.0)
+    drag = Drag(0.5 * rho * constants.crossflow_area, 0.5 * rho * constants.axial_area,
+                0.5 * rho * constants.side_area, False, 0.0, 0.0)
     out = fly(posture_record(ends[0]), drag, mass, vx0, vz0, (int(t_land / DT) + 5) * DT, V=V, wind=wind)
     z = out[:, 1]
     k = np.nonzero((z[:-1] > 0) & (z[1:] <= 0))[0][-1]

@@ -4,7 +4,10 @@ Each segment sees the component of the apparent wind normal to its axis and
 takes F = 1/2 rho Cd d L |w_n| w_n at its midpoint; blunt segments (head,
 trunk, feet) add an end-on term 1/2 rho Cd_end A_end |w_a| w_a along their axis
 so a body lying along the flow is not drag-free (physics/README.md, "Air
-loads"). The lumped body is one drag area at the centre of mass, scaled by the
+loads"). Across the track a segment shows its depth, not its breadth: the
+normal component splits into its part in the figure's plane, on the breadth,
+and its part across it, on the side area (an elliptic section's two drag
+areas, the far limbs sheltered; physics.body). The lumped body is one drag area at the centre of mass, scaled by the
 posture's drag area relative to standing. The apparent wind is taken uniform
 over the body.
 """
@@ -18,22 +21,26 @@ from physics.engine.jit import kernel, small
 
 # Total force (N) and its torque about the pivot as a function of the lean:
 # torque(lean) = torque_cos cos(lean) + torque_sin sin(lean), from the
-# unrotated points (N m).
-AirLoad = namedtuple("AirLoad", "fx fy fz torque_cos torque_sin")
+# unrotated points (N m); and the torque of the force across the track about
+# the contact line, positive toward the left (N m).
+AirLoad = namedtuple("AirLoad", "fx fy fz torque_cos torque_sin roll")
 
-# Per-variant drag of the body: 1/2 rho Cd A per segment (cross-flow and
-# end-on) or of the whole lumped body, kg/m.
-Drag = namedtuple("Drag", "q_cross q_axial lumped q_lumped")
+# Per-variant drag of the body: 1/2 rho Cd A per segment (cross-flow, end-on
+# and side-on) or of the whole lumped body (head-on and side-on), kg/m.
+Drag = namedtuple("Drag", "q_cross q_axial q_side lumped q_lumped q_lumped_side")
 
 
 @small
-def body_drag(body, density, drag_scale, q_cross, q_axial):
-    """The body's drag factors at this variant's air density and drag scale, written into q_cross, q_axial."""
+def body_drag(body, density, drag_scale, q_cross, q_axial, q_side):
+    """The body's drag factors at this variant's air density and drag scale, written into q_cross, q_axial
+    and q_side."""
     half = 0.5 * density * drag_scale
     for i in range(q_cross.shape[0]):
         q_cross[i] = half * body.crossflow_area[i]
         q_axial[i] = half * body.axial_area[i]
-    return Drag(q_cross, q_axial, body.lumped != 0, half * body.lumped_drag_area)
+        q_side[i] = half * body.side_area[i]
+    return Drag(q_cross, q_axial, q_side, body.lumped != 0, half * body.lumped_drag_area,
+                half * body.lumped_drag_area * body.lumped_side_ratio)
 
 
 @small
@@ -50,13 +57,16 @@ def air_load(posture, c, s, wx, wy, wz, drag):
         speed = math.sqrt(wx * wx + wy * wy + wz * wz)
         fx = q * speed * wx
         fz = q * speed * wz
-        return AirLoad(fx, q * speed * wy, fz, posture.com_z * fx - posture.com_x * fz,
-                       -posture.com_x * fx - posture.com_z * fz)
+        fy = drag.q_lumped_side * posture.drag_ratio * speed * wy
+        unused, cz = rotate(posture.com_x, posture.com_z, c, s)
+        return AirLoad(fx, fy, fz, posture.com_z * fx - posture.com_x * fz,
+                       -posture.com_x * fx - posture.com_z * fz, fy * cz)
     fx_t = 0.0
     fy_t = 0.0
     fz_t = 0.0
     a = 0.0
     b = 0.0
+    roll = 0.0
     for i in range(posture.axes.shape[0]):
         mx = posture.axes[i, 0]
         mz = posture.axes[i, 1]
@@ -67,9 +77,12 @@ def air_load(posture, c, s, wx, wy, wz, drag):
         nmag = math.sqrt(nx * nx + wy * wy + nz * nz)
         fx = drag.q_cross[i] * nmag * nx + drag.q_axial[i] * abs(along) * along * ex
         fz = drag.q_cross[i] * nmag * nz + drag.q_axial[i] * abs(along) * along * ez
+        fy = drag.q_side[i] * nmag * wy
         fx_t += fx
-        fy_t += drag.q_cross[i] * nmag * wy
+        fy_t += fy
         fz_t += fz
         a += mz * fx - mx * fz
         b += -mx * fx - mz * fz
-    return AirLoad(fx_t, fy_t, fz_t, a, b)
+        unused, z_mid = rotate(mx, mz, c, s)
+        roll += fy * z_mid
+    return AirLoad(fx_t, fy_t, fz_t, a, b, roll)

@@ -6,8 +6,9 @@ import math
 
 from physics.engine.air_load import air_load, rotate
 from physics.engine.beat_state import Beat, State, failed, travel, with_mode
-from physics.engine.flight import (Flight, crossing, inside_margin, kept_out_of_cars, land, on_the_ground,
+from physics.engine.flight import (Flight, beside, crossing, inside_margin, kept_out_of_cars, land, on_the_ground,
                                    rk4, take_off, touchdown_car)
+from physics.engine.frontal import held, level, roof_z_at
 from physics.engine.jit import kernel, small
 from physics.engine.outcome import note_air, note_event, note_landing_margin, note_target, note_touchdown
 from physics.engine.overhead import anything_overhead, overhead_step
@@ -32,17 +33,20 @@ def flight_iteration(v, inputs, env, state, act, out):
     if beat.assessing and beat.mode == Mode.FLIGHT:
         # The air met in the air counts in the action's maxima, as on the roof.
         app_x = env.wind_x - (env.speed + fl.vx)
-        air = air_load(posture, math.cos(fl.lean), math.sin(fl.lean), app_x, env.wind_y, -fl.vz, v.drag)
-        note_air(out.outcomes[v.b, act], math.sqrt(app_x * app_x + env.wind_y * env.wind_y),
+        app_y = env.wind_y - fl.vy
+        air = air_load(posture, math.cos(fl.lean), math.sin(fl.lean), app_x, app_y, -fl.vz, v.drag)
+        note_air(out.outcomes[v.b, act], math.sqrt(app_x * app_x + app_y * app_y),
                  math.sqrt(air.fx * air.fx + air.fy * air.fy + air.fz * air.fz))
     if out.recording:
         record_flight(out.record[env.k], env, fl, posture, v.drag, beat.mode)
     if beat.mode == Mode.GONE or env.last:
-        return State(beat, state.slide, state.balance, fl)
-    new = rk4(fl, posture, env.speed, env.next_speed, env.accel, env.wind_x, env.wind_y, v.drag, v.mass, v.dt)
+        return State(beat, state.slide, state.balance, fl, state.frontal)
+    new = rk4(fl, posture, env.speed, env.next_speed, env.accel, env.accel_y, env.wind_x, env.wind_y, v.drag, v.mass,
+              v.dt)
     car, cross = touchdown_car(inputs.cars, fl, new, not beat.assessing)
     if car >= 0:
-        return touch_down(v, inputs, env, State(beat, state.slide, state.balance, fl), car, cross, act, out)
+        return touch_down(v, inputs, env, State(beat, state.slide, state.balance, fl, state.frontal), car, cross, act,
+                          out)
     beat, new = check_fall(v, inputs, env, beat, fl, new, act, out)
     new, unused = kept_out_of_cars(inputs.cars, fl, new)
     if new.z + new.low_dz <= 0.0:
@@ -50,7 +54,7 @@ def flight_iteration(v, inputs, env, state, act, out):
         lying_row = inputs.body[0].lying_row
         new = on_the_ground(new, inputs.postures[lying_row], lying_row, new.x + travel(env, v.dt))
         beat = with_mode(beat, Mode.GONE)
-    return State(beat, state.slide, state.balance, new)
+    return State(beat, state.slide, state.balance, new, state.frontal)
 
 
 @small
@@ -71,7 +75,8 @@ def check_fall(v, inputs, env, beat, before, after, act, out):
         cross = crossing(before, after, cars[declared].roof_height)
         if cross.frac >= 0.0:
             note_landing_margin(out.outcomes[v.b, act], inside_margin(cars, declared, cross.x + before.low_dx))
-    if before.fallen or car_at(cars, after.x + after.low_dx) >= 0:
+    over = car_at(cars, after.x + after.low_dx)
+    if before.fallen or (over >= 0 and not beside(cars[over], after.y)):
         return beat, after
     low = lowest_roof(cars)
     cross = crossing(before, after, low)
@@ -82,7 +87,7 @@ def check_fall(v, inputs, env, beat, before, after, act, out):
                low - (after.z + after.low_dz), 0.0)
     note_target(out.events, v.b, Event.FALL, env.t + tau, declared)
     fallen = Flight(after.x, after.z, after.vx, after.vz, after.row, after.lean, after.low_dx, after.low_dz,
-                    after.left, after.right, True, after.ground_x)
+                    after.left, after.right, True, after.ground_x, after.y, after.vy, after.roll)
     return failed(beat), fallen
 
 
@@ -109,9 +114,9 @@ def touch_down(v, inputs, env, state, car, cross, act, out):
         # The lowest point touched a roof but the feet stand over a gap or past an end.
         note_event(out.events, v.b, Event.FALL, t, ld.pivot, s, cars, margin, 0.0)
         note_target(out.events, v.b, Event.FALL, t, declared)
-        fl = take_off(inputs.postures[action.landed_row], action.landed_row, 0.0, ld.pivot, cars[car].roof_height,
-                      0.0, 0.0)
-        return State(with_mode(failed(beat), Mode.GONE), state.slide, state.balance, fl)
+        fl = take_off(inputs.postures[action.landed_row], action.landed_row, 0.0, ld.pivot,
+                      roof_z_at(cars[car], state.flight.y), 0.0, 0.0, state.flight.y, 0.0, 0.0)
+        return State(with_mode(failed(beat), Mode.GONE), state.slide, state.balance, fl, state.frontal)
     if ld.car != declared:
         note_event(out.events, v.b, Event.MISSED_LANDING, t, ld.pivot, s, cars, -margin, 0.0)
         note_target(out.events, v.b, Event.MISSED_LANDING, t, declared)
@@ -120,11 +125,12 @@ def touch_down(v, inputs, env, state, car, cross, act, out):
         note_event(out.events, v.b, Event.HARD_LANDING, t, ld.pivot, s, cars, abs(cross.vx), ld.absorb)
         beat = failed(beat)
     mode = Mode.SLIDING.value if ld.hard else Mode.PLANTED.value
-    slide = Slide(ld.pivot, ld.speed if ld.hard else 0.0, 0.0, state.slide.gait_phase)
+    slide = Slide(ld.pivot, ld.speed if ld.hard else 0.0, 0.0, state.slide.gait_phase, state.flight.y,
+                  state.flight.vy if ld.hard else 0.0)
     # After a failure the performer keeps the posture they landed in.
     plan_row = beat.plan_row if beat.assessing else action.landed_row
     return State(Beat(mode, beat.jumped, act, beat.assessing, False, beat.failed_act, plan_row), slide,
-                 after_landing(state.balance), state.flight)
+                 after_landing(state.balance), state.flight, level())
 
 
 
@@ -136,6 +142,6 @@ def come_down(v, inputs, env, state, car, cross):
     beat = state.beat
     bal = state.balance
     lying = Balance(fl.lean, 0.0, 0.0, bal.brace_a, bal.brace_b, bal.brace_lift, bal.steps, 0.0, 0.0, True, True)
-    slide = Slide(cross.x + fl.low_dx, cross.vx, 0.0, state.slide.gait_phase)
+    slide = Slide(cross.x + fl.low_dx, cross.vx, 0.0, state.slide.gait_phase, fl.y, fl.vy)
     return State(Beat(Mode.DOWN.value, beat.jumped, beat.landed, beat.assessing, False, beat.failed_act,
-                      beat.plan_row), slide, lying, fl)
+                      beat.plan_row), slide, lying, fl, held(state.frontal, fl.roll))

@@ -1,7 +1,7 @@
 """The carried state of one variant's run, grouped by concern, and the step's surroundings.
 
-Each concern's own state lives with it (stance.Balance, sliding.Slide,
-flight.Flight, turbulence.Turbulence); here are the records that tie them
+Each concern's own state lives with it (stance.Balance, frontal.Frontal,
+sliding.Slide, flight.Flight, turbulence.Turbulence); here are the records that tie them
 together in the step driver.
 """
 
@@ -15,8 +15,9 @@ from physics.records import Mode
 # What stays fixed through one variant's run: its index b and parameters (a
 # records.PARAMS row), its roof friction multiplier per car, the body's drag
 # factors, mass (kg) and weight (N), the engine step (s), and the delay lines
-# of the balance controller.
-Variant = namedtuple("Variant", "b params roof_scale drag mass weight dt buf_err buf_rate buf_ff")
+# of the balance controller along and across the track.
+Variant = namedtuple("Variant", "b params roof_scale drag mass weight dt buf_err buf_rate buf_ff buf_roll_err "
+                                "buf_roll_rate buf_roll_ff")
 # Where the results go; `recording` when this variant fills `record`.
 Outputs = namedtuple("Outputs", "events outcomes record recording")
 # Progress of the beat: the body's Mode, the last jump taken and landed (action
@@ -26,15 +27,16 @@ Outputs = namedtuple("Outputs", "events outcomes record recording")
 # row the performer keeps (-1 before).
 Beat = namedtuple("Beat", "mode jumped landed assessing leaves_now failed_act plan_row")
 # What the performer does at a step: the posture row, the commanded gait speed
-# (m/s), push (fraction of weight) and rate (steps/s), whether a posture change
-# is under way. After a failure the performer no longer follows the beat: the
-# posture stays as it was and the gait stops.
-Plan = namedtuple("Plan", "row gait_speed gait_friction gait_rate settling")
-State = namedtuple("State", "beat slide balance flight")
+# along the track (m/s), push (fraction of weight) and rate (steps/s), whether a
+# posture change is under way, and the gait speed across the roof (m/s, + left).
+# After a failure the performer no longer follows the beat: the posture stays as
+# it was and the gait stops.
+Plan = namedtuple("Plan", "row gait_speed gait_friction gait_rate settling gait_speed_y")
+State = namedtuple("State", "beat slide balance flight frontal")
 # Step k: its time (s), the consist's speed (m/s), acceleration (m/s^2) and
-# travel (m), the ambient wind (m/s), the next step's speed and whether this is
-# the last step.
-Env = namedtuple("Env", "k t speed accel distance wind_x wind_y next_speed last")
+# travel (m), the ambient wind (m/s), the next step's speed, whether this is
+# the last step, and the car body's lateral acceleration (m/s^2, + left).
+Env = namedtuple("Env", "k t speed accel distance wind_x wind_y next_speed last accel_y")
 
 
 @small

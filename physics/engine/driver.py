@@ -17,6 +17,7 @@ from physics.engine.air_load import body_drag
 from physics.engine.airborne import flight_iteration
 from physics.engine.beat_state import Beat, Env, Outputs, Plan, State, Variant, after_failure
 from physics.engine.flight import Flight
+from physics.engine.frontal import level
 from physics.engine.jit import entry, kernel, small
 from physics.engine.on_roof import roof_iteration
 from physics.engine.recording import record_flight
@@ -33,7 +34,7 @@ def environment(p, step, next_step, tb, k, last):
     tb = advance_turbulence(tb, step.time, abs(speed - p.wind_x), p.turbulence_sigma, p.turbulence_length)
     env = Env(k, step.time, speed, step.accel * p.speed_scale, step.distance * p.speed_scale,
               p.wind_x + step.gust_x * p.gust_scale + tb.value, p.wind_y + step.gust_y * p.gust_scale,
-              next_step.speed * p.speed_scale, last)
+              next_step.speed * p.speed_scale, last, step.accel_y)
     return env, tb
 
 
@@ -50,23 +51,25 @@ def planned(inputs, state, step, act):
             beat = after_failure(beat, act, -1)
         if beat.plan_row < 0 and not (step.settling and act == beat.failed_act):
             beat = after_failure(beat, beat.failed_act, row)
-        state = State(beat, state.slide, state.balance, state.flight)
+        state = State(beat, state.slide, state.balance, state.flight, state.frontal)
         if beat.plan_row < 0:
-            return state, Plan(row, 0.0, 0.0, 0.0, True)
-        return state, Plan(beat.plan_row, 0.0, 0.0, 0.0, False)
+            return state, Plan(row, 0.0, 0.0, 0.0, True, 0.0)
+        return state, Plan(beat.plan_row, 0.0, 0.0, 0.0, False, 0.0)
     if step.reset and (beat.mode == Mode.PLANTED or beat.mode == Mode.SLIDING) and row == step.row:
         # The pivot moves within the body (feet to knees) or the performer
         # turns: keep the hip where it was and restart the balance.
         s = state.slide
-        state = State(beat, Slide(s.x + step.pivot_shift, s.u, s.udot, s.gait_phase), restart(state.balance),
-                      state.flight)
-    return state, Plan(row, step.gait_speed, step.gait_friction, step.gait_rate, step.settling != 0)
+        state = State(beat, Slide(s.x + step.pivot_shift, s.u, s.udot, s.gait_phase, s.y, s.w),
+                      restart(state.balance), state.flight, state.frontal)
+    return state, Plan(row, step.gait_speed, step.gait_friction, step.gait_rate, step.settling != 0,
+                       step.gait_speed_y)
 
 
 @small
 def start_state(p):
-    return State(Beat(Mode.PLANTED.value, -1, -1, True, False, -1, -1), Slide(p.start_x, 0.0, 0.0, 0.0), upright(),
-                 Flight(0.0, 0.0, 0.0, 0.0, 0, 0.0, 0.0, 0.0, 0.0, 0.0, False, math.nan))
+    return State(Beat(Mode.PLANTED.value, -1, -1, True, False, -1, -1),
+                 Slide(p.start_x, 0.0, 0.0, 0.0, p.start_y, 0.0), upright(),
+                 Flight(0.0, 0.0, 0.0, 0.0, 0, 0.0, 0.0, 0.0, 0.0, 0.0, False, math.nan, 0.0, 0.0, 0.0), level())
 
 
 @entry
@@ -78,9 +81,10 @@ def run_variants(params, roof_scale, inputs, first, last, events, outcomes, reco
     chunks on a thread pool (it releases the GIL). For each step k: the posture
     row and any restart, then the body on the roof or in the air.
 
-    scratch: (5, n) working memory of this call (the engine allocates
-    nothing): the three delay lines of the balance controller (rows 0, 1, 4)
-    and the body's drag factors (rows 2, 3).
+    scratch: (9, n) working memory of this call (the engine allocates
+    nothing): the three delay lines of the balance controller along the track
+    (rows 0, 1, 4) and across it (rows 6, 7, 8) and the body's drag factors
+    (rows 2, 3, 5).
     """
     steps = inputs.steps
     n = steps.shape[0]
@@ -90,9 +94,11 @@ def run_variants(params, roof_scale, inputs, first, last, events, outcomes, reco
         out = Outputs(events, outcomes, record, record.shape[0] > 0 and b == first)
         delay = int(round(p.reaction_time / dt))
         n_seg = inputs.body[0].crossflow_area.shape[0]
-        drag = body_drag(inputs.body[0], p.density, p.drag_scale, scratch[2, :n_seg], scratch[3, :n_seg])
+        drag = body_drag(inputs.body[0], p.density, p.drag_scale, scratch[2, :n_seg], scratch[3, :n_seg],
+                         scratch[5, :n_seg])
         v = Variant(b, p, roof_scale[b], drag, p.mass, p.mass * G, dt, scratch[0, :delay + 1],
-                    scratch[1, :delay + 1], scratch[4, :delay + 1])
+                    scratch[1, :delay + 1], scratch[4, :delay + 1], scratch[6, :delay + 1], scratch[7, :delay + 1],
+                    scratch[8, :delay + 1])
         tb = start_turbulence(p.turbulence_seed, p.turbulence_sigma)
         state = start_state(p)
         for k in range(n):

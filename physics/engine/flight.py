@@ -19,6 +19,7 @@ from collections import namedtuple
 
 from physics import G
 from physics.engine.air_load import air_load, rotate
+from physics.engine.frontal import roof_z_at
 from physics.engine.jit import kernel, small
 from physics.engine.roof import EDGE_TOLERANCE, car_at, feet_friction
 
@@ -30,8 +31,10 @@ MIN_SKID = 0.25            # m a landing can skid without a step (about a foot l
 # lowest body point relative to the centre of mass (m); the rear-most and
 # front-most body points relative to it (m); whether the body has already come
 # down off the roof; and once it lies on the ground beside or between the cars,
-# where (ground frame, m; NaN before).
-Flight = namedtuple("Flight", "x z vx vz row lean low_dx low_dz left right fallen ground_x")
+# where (ground frame, m; NaN before); across the track the centre of mass from
+# the roofs' centreline (m, + left), its velocity (m/s) and the sideways lean it
+# left with (rad).
+Flight = namedtuple("Flight", "x z vx vz row lean low_dx low_dz left right fallen ground_x y vy roll")
 
 # Where the lowest point came down through a roof level during a step: the
 # fraction of the step, the centre of mass and its velocity then.
@@ -44,34 +47,52 @@ Landing = namedtuple("Landing", "car pivot speed absorb hard")
 
 
 @kernel
-def flight_accel(posture, lean, vx, vz, speed, accel, wind_x, wind_y, drag, mass):
-    """Acceleration (car frame, m/s^2) of a rigid posture: drag relative to the air, gravity, pseudo-force."""
-    air = air_load(posture, math.cos(lean), math.sin(lean), wind_x - (speed + vx), wind_y, -vz, drag)
-    return air.fx / mass - accel, air.fz / mass - G
+def flight_accel(posture, lean, vx, vy, vz, speed, accel, accel_y, wind_x, wind_y, drag, mass):
+    """Acceleration (car frame, m/s^2) of a rigid posture: drag relative to the air, gravity, pseudo-forces."""
+    air = air_load(posture, math.cos(lean), math.sin(lean), wind_x - (speed + vx), wind_y - vy, -vz, drag)
+    return air.fx / mass - accel, air.fy / mass - accel_y, air.fz / mass - G
 
 
 @kernel
-def rk4(fl, posture, speed0, speed1, accel, wind_x, wind_y, drag, mass, dt):
+def rk4(fl, posture, speed0, speed1, accel, accel_y, wind_x, wind_y, drag, mass, dt):
     """One classical Runge-Kutta step of the centre of mass from consist speed speed0 to speed1."""
     mid = 0.5 * (speed0 + speed1)
-    k1x, k1z = flight_accel(posture, fl.lean, fl.vx, fl.vz, speed0, accel, wind_x, wind_y, drag, mass)
-    k2x, k2z = flight_accel(posture, fl.lean, fl.vx + 0.5 * dt * k1x, fl.vz + 0.5 * dt * k1z, mid, accel, wind_x,
-                            wind_y, drag, mass)
-    k3x, k3z = flight_accel(posture, fl.lean, fl.vx + 0.5 * dt * k2x, fl.vz + 0.5 * dt * k2z, mid, accel, wind_x,
-                            wind_y, drag, mass)
-    k4x, k4z = flight_accel(posture, fl.lean, fl.vx + dt * k3x, fl.vz + dt * k3z, speed1, accel, wind_x, wind_y,
-                            drag, mass)
+    k1x, k1y, k1z = flight_accel(posture, fl.lean, fl.vx, fl.vy, fl.vz, speed0, accel, accel_y, wind_x, wind_y, drag,
+                                 mass)
+    k2x, k2y, k2z = flight_accel(posture, fl.lean, fl.vx + 0.5 * dt * k1x, fl.vy + 0.5 * dt * k1y,
+                                 fl.vz + 0.5 * dt * k1z, mid, accel, accel_y, wind_x, wind_y, drag, mass)
+    k3x, k3y, k3z = flight_accel(posture, fl.lean, fl.vx + 0.5 * dt * k2x, fl.vy + 0.5 * dt * k2y,
+                                 fl.vz + 0.5 * dt * k2z, mid, accel, accel_y, wind_x, wind_y, drag, mass)
+    k4x, k4y, k4z = flight_accel(posture, fl.lean, fl.vx + dt * k3x, fl.vy + dt * k3y, fl.vz + dt * k3z, speed1,
+                                 accel, accel_y, wind_x, wind_y, drag, mass)
     x = fl.x + dt * (fl.vx + dt / 6.0 * (k1x + k2x + k3x))
+    y = fl.y + dt * (fl.vy + dt / 6.0 * (k1y + k2y + k3y))
     z = fl.z + dt * (fl.vz + dt / 6.0 * (k1z + k2z + k3z))
     vx = fl.vx + dt / 6.0 * (k1x + 2.0 * k2x + 2.0 * k3x + k4x)
+    vy = fl.vy + dt / 6.0 * (k1y + 2.0 * k2y + 2.0 * k3y + k4y)
     vz = fl.vz + dt / 6.0 * (k1z + 2.0 * k2z + 2.0 * k3z + k4z)
-    return moved(fl, x, z, vx, vz)
+    return Flight(x, z, vx, vz, fl.row, fl.lean, fl.low_dx, fl.low_dz, fl.left, fl.right, fl.fallen, fl.ground_x,
+                  y, vy, fl.roll)
 
 
 @small
 def moved(fl, x, z, vx, vz):
-    """The flight at another place and velocity."""
-    return Flight(x, z, vx, vz, fl.row, fl.lean, fl.low_dx, fl.low_dz, fl.left, fl.right, fl.fallen, fl.ground_x)
+    """The flight at another place and velocity along the track."""
+    return Flight(x, z, vx, vz, fl.row, fl.lean, fl.low_dx, fl.low_dz, fl.left, fl.right, fl.fallen, fl.ground_x,
+                  fl.y, fl.vy, fl.roll)
+
+
+@small
+def over_the_side(fl):
+    """A body gone over a side edge: it comes down beside the cars, never back onto a roof."""
+    return Flight(fl.x, fl.z, fl.vx, fl.vz, fl.row, fl.lean, fl.low_dx, fl.low_dz, fl.left, fl.right, True,
+                  fl.ground_x, fl.y, fl.vy, fl.roll)
+
+
+@small
+def beside(car, y):
+    """Whether y (m across the track) is past a car's side edges."""
+    return abs(y) > 0.5 * car.width
 
 
 # The reach of a posture leaned about a point, relative to that point (m): the
@@ -100,13 +121,15 @@ def reach(posture, lean, about_x, about_z):
 
 
 @kernel
-def take_off(posture, row, lean, pivot_x, roof_z, vx, vz):
-    """Freeze `posture` (row), leaned by `lean` about its pivot at (pivot_x, roof_z), into flight."""
+def take_off(posture, row, lean, pivot_x, roof_z, vx, vz, pivot_y, vy, roll):
+    """Freeze `posture` (row), leaned by `lean` and rolled sideways by `roll` about its pivot at
+    (pivot_x, pivot_y, roof_z), into flight."""
     cx, cz = rotate(posture.com_x, posture.com_z, math.cos(lean), math.sin(lean))
     r = reach(posture, lean, posture.com_x, posture.com_z)
     # In the air every segment turns with the lean, feet too: the body leaves the roof, not through it.
-    z = max(roof_z + cz, roof_z - r.low_z)
-    return Flight(pivot_x + cx, z, vx, vz, row, lean, r.low_x, r.low_z, r.left, r.right, False, math.nan)
+    z = max(roof_z + cz * math.cos(roll), roof_z - r.low_z)
+    return Flight(pivot_x + cx, z, vx, vz, row, lean, r.low_x, r.low_z, r.left, r.right, False, math.nan,
+                  pivot_y + cz * math.sin(roll), vy, roll)
 
 
 @kernel
@@ -131,9 +154,11 @@ def touchdown_car(cars, before, after, by_com):
     car = car_at(cars, after.x + after.low_dx)
     if by_com and car_at(cars, after.x) != car:
         car = -1
+    if car >= 0 and beside(cars[car], after.y):
+        car = -1
     if car < 0 or before.fallen:
         return -1, Crossing(-1.0, 0.0, 0.0, 0.0)
-    cross = crossing(before, after, cars[car].roof_height)
+    cross = crossing(before, after, roof_z_at(cars[car], after.y))
     return (car if cross.frac >= 0.0 else -1), cross
 
 
@@ -162,7 +187,7 @@ def kept_out_of_cars(cars, before, after):
     that end; over the roof a touchdown has already taken it."""
     for i in range(cars.shape[0]):
         car = cars[i]
-        if after.z + after.low_dz >= car.roof_height:
+        if after.z + after.low_dz >= car.roof_height or beside(car, after.y):
             continue
         if after.x + after.right <= car.rear_x or after.x + after.left >= car.front_x:
             continue
@@ -186,4 +211,5 @@ def on_the_ground(fl, lying, lying_row, ground_x):
     """The body come to rest lying on the ground beside or between the cars, at ground-frame x
     (the lying posture's centre of mass where the flying body's was)."""
     r = reach(lying, 0.0, lying.com_x, lying.com_z)
-    return Flight(fl.x, -r.low_z, 0.0, 0.0, lying_row, 0.0, r.low_x, r.low_z, r.left, r.right, True, ground_x)
+    return Flight(fl.x, -r.low_z, 0.0, 0.0, lying_row, 0.0, r.low_x, r.low_z, r.left, r.right, True, ground_x,
+                  fl.y, 0.0, 0.0)

@@ -1,6 +1,7 @@
-"""One step of a body on the roof: loads and lean, balance, grip and sliding,
-margins and overhead checks at t_k, then the move to t_(k+1) and whether the
-body leaves the roof (a lift, an edge, a jump)."""
+"""One step of a body on the roof: loads and lean, balance along and across the
+track, grip and sliding, margins and overhead checks at t_k, then the move to
+t_(k+1) and whether the body leaves the roof (a lift, an end, a side edge, a
+jump)."""
 
 from __future__ import annotations
 
@@ -9,28 +10,30 @@ from collections import namedtuple
 
 from physics.engine.air_load import rotate
 from physics.engine.beat_state import Beat, State, failed, lifted, travel, with_mode
-from physics.engine.flight import take_off
+from physics.engine.flight import over_the_side, take_off
+from physics.engine.frontal import frontal_load, frontal_step, held, level, roof_slope, roof_z_at
 from physics.engine.jit import kernel, small
-from physics.engine.outcome import note_event, note_stance, note_takeoff
+from physics.engine.outcome import note_event, note_side, note_stance, note_takeoff
 from physics.engine.overhead import anything_overhead, overhead_step
 from physics.engine.recording import record_roof
 from physics.engine.roof import car_at, roof_friction
 from physics.engine.sliding import Slide, gait_force, grip_demand, slide_direction, slide_step
-from physics.engine.stance import (balance_step, carry_on, delayed_cop, equilibrium_cop, judge_support, lie_down,
-                                   restart, settle, stepped, with_lean)
+from physics.engine.stance import (LIE_ANGLE, balance_step, carry_on, delayed_cop, equilibrium_cop, judge_support,
+                                   laid, lie_down, restart, settle, stepped, with_lean)
 from physics.records import ActionCode, Contact, Event, Mode
 
 STANDING_TAKEOFF_DELAY = 0.3  # s from the start of a standing jump to take-off (the dip before it; from memory)
 
 # Where and how the body stands this step: its posture row, how it touches
-# the roof, the car under the pivot and its roof height (m), the commanded gait
-# speed (m/s), the support (m from the pivot, with any recovery step) and the
-# roof's friction for this contact.
-Footing = namedtuple("Footing", "row contact car roof_z gait_v lo hi mu_static mu_kinetic")
+# the roof, the car under the pivot and its roof height there (m), the
+# commanded gait speed (m/s), the support (m from the pivot, with any recovery
+# step), the roof's friction for this contact, its slope across the track (rad)
+# and the distance from the support's outer edge to the nearer side edge (m).
+Footing = namedtuple("Footing", "row contact car roof_z gait_v lo hi mu_static mu_kinetic slope edge gait_vy")
 
 # What the step found at t_k, for the record.
 Seen = namedtuple("Seen", "mode row x roof_z lean rate u wx air normal grip mu_static xcom lo hi margin "
-                          "lean_required")
+                          "lean_required y w across ft")
 
 
 @small
@@ -45,9 +48,20 @@ def footing(v, inputs, beat, bal, slide, plan):
         cx, unused = rotate(posture.com_x, posture.com_z, math.cos(bal.lean), math.sin(bal.lean))
         car = car_at(cars, slide.x + cx)
     mu_s, mu_k = roof_friction(cars, car, contact, v.roof_scale)
-    gait_v = plan.gait_speed if beat.mode == Mode.PLANTED and not bal.lying else 0.0
-    return Footing(row, contact, car, cars[car if car >= 0 else 0].roof_height, gait_v,
-                   posture.support_lo, posture.support_hi, mu_s, mu_k)
+    walking = beat.mode == Mode.PLANTED and not bal.lying
+    gait_v = plan.gait_speed if walking else 0.0
+    gait_vy = plan.gait_speed_y if walking else 0.0
+    under = cars[car if car >= 0 else 0]
+    edge = 0.5 * under.width - abs(slide.y) - posture.half_width
+    return Footing(row, contact, car, roof_z_at(under, slide.y), gait_v, posture.support_lo, posture.support_hi,
+                   mu_s, mu_k, roof_slope(under, slide.y), edge, gait_vy)
+
+
+# Across the track at t_k, for the record: the roll and its rate (rad, rad/s),
+# the extrapolated centre of mass (m from the pivot), the margin of stability
+# (m, NaN not judged), the roll the load needs (rad), the support's half-width
+# (m) and the centre of pressure across the track (m from the pivot line).
+Across = namedtuple("Across", "roll rate xcom margin required half cop")
 
 
 @kernel
@@ -57,6 +71,7 @@ def roof_iteration(v, inputs, env, state, plan, act, out):
     row = plan.row
     posture = inputs.postures[row]
     wx = env.wind_x - (env.speed + slide.u + ft.gait_v)
+    wy = env.wind_y - (slide.w + ft.gait_vy)
     bal = state.balance
     # During a deliberate change of posture the performer knows where their own
     # body is: the braced load follows the posture, so the balance resumes from
@@ -64,7 +79,7 @@ def roof_iteration(v, inputs, env, state, plan, act, out):
     if plan.settling and beat.mode == Mode.PLANTED:
         bal = restart(bal)
     restart_now = bal.restart
-    bal, load, target = settle(bal, posture, wx, env.wind_y, v.mass, env.accel + slide.udot, v.drag,
+    bal, load, target = settle(bal, posture, wx, wy, v.mass, env.accel + slide.udot, v.drag,
                                v.params.max_lean, v.dt, ft.contact != Contact.BODY and beat.mode != Mode.DOWN)
     if restart_now:
         v.buf_err[:] = 0.0
@@ -72,7 +87,7 @@ def roof_iteration(v, inputs, env, state, plan, act, out):
         v.buf_ff[:] = equilibrium_cop(load, bal.lean)
         bal = carry_on(bal)
     if load.normal <= 0.0 and beat.mode != Mode.DOWN:
-        return lift_off(v, inputs, env, State(beat, slide, bal, state.flight), ft, load, out)
+        return lift_off(v, inputs, env, State(beat, slide, bal, state.flight, state.frontal), ft, load, out)
     was_assessing = beat.assessing
     lean_k, rate_k = bal.lean, bal.rate
     beat, bal, xcom, margin = balance(v, inputs, env, beat, bal, load, target, ft, plan.settling, slide.x, out)
@@ -80,38 +95,44 @@ def roof_iteration(v, inputs, env, state, plan, act, out):
         # A recovery step: the feet move, the body stays; the controller starts afresh from here.
         if was_assessing:
             out.outcomes[v.b, act].recovery_steps += 1
-        slide = Slide(slide.x + bal.shift, slide.u, slide.udot, slide.gait_phase)
+        slide = Slide(slide.x + bal.shift, slide.u, slide.udot, slide.gait_phase, slide.y, slide.w)
         bal = stepped(bal)
         v.buf_err[:] = bal.lean - target.lean
         v.buf_rate[:] = bal.rate
         v.buf_ff[:] = equilibrium_cop(load, bal.lean)
-    beat, grip, moved = grip_and_slide(v, inputs, env, beat, bal, load, ft, plan, slide, out)
+    side_load = frontal_load(load.air, v.mass, load.com_z, ft.slope, env.accel_y, load.normal)
+    beat, bal, fr, slide, across = sideways(v, inputs, env, beat, bal, state.frontal, side_load, ft, plan, slide,
+                                            restart_now, was_assessing, act, out)
+    beat, grip, moved = grip_and_slide(v, inputs, env, beat, bal, load, side_load.side, ft, plan, slide, out)
     lean_required = 0.0 if plan.settling else target.required
     air = load.air
     if was_assessing and beat.mode != Mode.DOWN and not bal.lying:
-        note_stance(out.outcomes[v.b, act], ft.mu_static, grip.demand, margin, grip.static_normal / v.weight,
-                    lean_required, math.sqrt(wx * wx + env.wind_y * env.wind_y),
-                    math.sqrt(air.fx * air.fx + air.fy * air.fy + air.fz * air.fz), ft.contact)
+        tilt = math.atan(math.hypot(math.tan(min(lean_required, 1.5)), math.tan(min(abs(across.required), 1.5))))
+        note_stance(out.outcomes[v.b, act], ft.mu_static, grip.demand, margin, across.margin, ft.edge,
+                    grip.static_normal / v.weight, tilt, math.sqrt(wx * wx + wy * wy),
+                    math.sqrt(air.fx * air.fx + air.fy * air.fy + air.fz * air.fz), abs(env.accel_y), ft.contact)
     if anything_overhead(inputs):
         beat = overhead_step(v, inputs, env, beat, posture, lean_k, slide.x, ft.roof_z, act, out)
     if out.recording:
         record_roof(out.record[env.k], env, Seen(beat.mode, row, slide.x, ft.roof_z, lean_k, rate_k, slide.u, wx, air,
                                                  load.normal, grip, ft.mu_static, xcom, ft.lo, ft.hi, margin,
-                                                 lean_required))
+                                                 lean_required, slide.y, slide.w, across, ft))
     if beat.mode == Mode.GONE:
         # Struck: the pose at the strike stays where it was.
-        return State(beat, moved, bal, take_off(posture, row, lean_k, slide.x, ft.roof_z, 0.0, 0.0))
-    return leave_roof(v, inputs, env, State(beat, moved, bal, state.flight), load, ft, plan, act, out)
+        return State(beat, moved, bal, take_off(posture, row, lean_k, slide.x, ft.roof_z, 0.0, 0.0, slide.y, 0.0,
+                                                across.roll), fr)
+    return leave_roof(v, inputs, env, State(beat, moved, bal, state.flight, fr), load, ft, plan, act, out)
 
 
 @small
 def lift_off(v, inputs, env, state, ft, load, out):
     """The roof no longer bears the body: it flies from where it stands, at its own velocity, from t_k."""
-    bal, slide = state.balance, state.slide
+    bal, slide, fr = state.balance, state.slide, state.frontal
     note_event(out.events, v.b, Event.LIFT, env.t, slide.x, env.distance, inputs.cars, -load.normal, v.weight)
     fl = take_off(inputs.postures[ft.row], ft.row, bal.lean, slide.x, ft.roof_z,
-                  slide.u + ft.gait_v + bal.rate * load.com_z, -bal.rate * load.com_x)
-    return State(lifted(state.beat), slide, bal, fl)
+                  slide.u + ft.gait_v + bal.rate * load.com_z, -bal.rate * load.com_x, slide.y,
+                  slide.w + ft.gait_vy + fr.rate * load.com_z * math.cos(fr.roll), fr.roll)
+    return State(lifted(state.beat), slide, bal, fl, fr)
 
 
 @kernel
@@ -142,44 +163,107 @@ def balance(v, inputs, env, beat, bal, load, target, ft, settling, x, out):
 
 
 @kernel
-def grip_and_slide(v, inputs, env, beat, bal, load, ft, plan, slide, out):
+def sideways(v, inputs, env, beat, bal, fr, side_load, ft, plan, slide, restart_now, was_assessing, act, out):
+    """Balance across the track: (beat, balance, frontal, slide, Across).
+
+    Judged standing or kneeling, as along the track; held still lying, on hands
+    and knees, or in a deliberate posture change; a body toppling sideways
+    falls on until it lies on its side.
+    """
+    posture = inputs.postures[ft.row]
+    nan = math.nan
+    judged = (ft.contact != Contact.BODY and not (plan.settling and beat.mode == Mode.PLANTED)
+              and (beat.mode == Mode.PLANTED or beat.mode == Mode.SLIDING)) or fr.falling
+    if not judged or bal.lying:
+        fr = held(fr, fr.roll)
+        return beat, bal, fr, slide, Across(fr.roll, 0.0, nan, nan, 0.0, posture.half_width, nan)
+    roll_k, rate_k = fr.roll, fr.rate
+    gait = ft.contact == Contact.FEET and plan.gait_rate > 0.0 and beat.mode == Mode.PLANTED
+    cycle = 2.0 * math.pi
+    new_step = math.floor((slide.gait_phase + cycle * plan.gait_rate * v.dt) / cycle) > math.floor(
+        slide.gait_phase / cycle)
+    step = frontal_step(fr, side_load, posture.inertia, posture.half_width, beat.mode, ft.contact == Contact.FEET,
+                        v.params.recovery_step, v.params.max_lean, restart_now, v.buf_roll_err, v.buf_roll_rate,
+                        v.buf_roll_ff, env.k, v.mass, v.dt, gait, new_step)
+    fr = step.frontal
+    toward = 1 if step.xcom > 0 else -1
+    if step.happened == 1:
+        if was_assessing:
+            out.outcomes[v.b, act].recovery_steps += 1
+        note_event(out.events, v.b, Event.RECOVERY_STEP, env.t, slide.x, env.distance, inputs.cars, abs(step.xcom),
+                   posture.half_width)
+        note_side(out.events, v.b, Event.RECOVERY_STEP, env.t, toward)
+        slide = Slide(slide.x, slide.u, slide.udot, slide.gait_phase, slide.y + step.shift, slide.w)
+    elif step.happened == 2 and beat.mode == Mode.PLANTED:
+        note_event(out.events, v.b, Event.TOPPLE, env.t, slide.x, env.distance, inputs.cars, abs(step.xcom),
+                   posture.half_width)
+        note_side(out.events, v.b, Event.TOPPLE, env.t, toward)
+        beat = with_mode(failed(beat), Mode.DOWN)
+    if fr.falling and abs(fr.roll) >= LIE_ANGLE:
+        bal = laid(bal)
+    margin = step.margin if beat.mode == Mode.PLANTED or step.happened == 2 else nan
+    return beat, bal, fr, slide, Across(roll_k, rate_k, step.xcom, margin, step.required, posture.half_width,
+                                        step.cop)
+
+
+@kernel
+def grip_and_slide(v, inputs, env, beat, bal, load, side, ft, plan, slide, out):
     """Grip demand, a slip if it beats static friction, and the contact's move: (beat, grip, slide at t_(k+1))."""
     phase = slide.gait_phase + 2.0 * math.pi * plan.gait_rate * v.dt
     walking = beat.mode == Mode.PLANTED and not bal.lying
     push = gait_force(phase, plan.gait_friction, v.weight) if walking else 0.0
-    grip = grip_demand(load.air, v.mass, env.accel, push)
-    x, u, udot = slide.x, slide.u, slide.udot
-    if beat.mode == Mode.PLANTED or (beat.mode == Mode.DOWN and bal.lying and u == 0.0):
+    grip = grip_demand(load.air, v.mass, env.accel, push, side, ft.slope)
+    x, u, udot, y, w = slide.x, slide.u, slide.udot, slide.y, slide.w
+    if beat.mode == Mode.PLANTED or (beat.mode == Mode.DOWN and bal.lying and u == 0.0 and w == 0.0):
         if grip.demand > ft.mu_static:
             note_event(out.events, v.b, Event.SLIP, env.t, x, env.distance, inputs.cars, grip.demand, ft.mu_static)
+            if abs(grip.need_y) > abs(grip.need_x):
+                note_side(out.events, v.b, Event.SLIP, env.t, 1 if grip.need_y < 0 else -1)
             beat = failed(beat)
             if beat.mode == Mode.PLANTED:
                 beat = with_mode(beat, Mode.SLIDING)
-            u = slide_direction(grip.need_x)
+            u, w = slide_direction(grip.need_x, grip.need_y)
         else:
             x += ft.gait_v * v.dt
+            y += ft.gait_vy * v.dt
             udot = 0.0
-    if beat.mode == Mode.SLIDING or (beat.mode == Mode.DOWN and u != 0.0):
+    if beat.mode == Mode.SLIDING or (beat.mode == Mode.DOWN and (u != 0.0 or w != 0.0)):
         com_accel_x = bal.accel * load.com_z - bal.rate * bal.rate * load.com_x
-        u, udot, stopped = slide_step(u, load.air.fx, v.mass, env.accel, ft.mu_kinetic, load.normal, com_accel_x,
-                                      v.dt)
+        u, w, udot, stopped = slide_step(u, w, load.air.fx - v.mass * env.accel, side, v.mass, ft.mu_kinetic,
+                                         grip.static_normal, com_accel_x, v.dt)
         if stopped and beat.mode == Mode.SLIDING:
             beat = with_mode(beat, Mode.PLANTED)
         x += u * v.dt
-    return beat, grip, Slide(x, u, udot, phase)
+        y += w * v.dt
+    return beat, grip, Slide(x, u, udot, phase, y, w)
 
 
 @kernel
 def leave_roof(v, inputs, env, state, load, ft, plan, act, out):
-    """At t_(k+1): off an edge the body flies from where it is (a body down on the roof once its
-    centre of mass has gone past a car end), and a jump takes off when it is ready."""
-    beat, bal, slide = state.beat, state.balance, state.slide
+    """At t_(k+1): past a side edge or off an end the body flies from where it is (a body down on
+    the roof once its centre of mass has gone past an edge), and a jump takes off when it is ready."""
+    beat, bal, slide, fr = state.beat, state.balance, state.slide, state.frontal
     posture = inputs.postures[ft.row]
     lying = beat.mode == Mode.DOWN or bal.lying
-    if (over_an_end(inputs.cars, posture, bal, slide) if lying else car_at(inputs.cars, slide.x) < 0):
+    car = car_at(inputs.cars, slide.x)
+    com_y = slide.y + load.com_z * math.sin(fr.roll) if lying else slide.y
+    if car >= 0 and abs(com_y) > 0.5 * inputs.cars[car].width:
+        toward = 1 if com_y > 0 else -1
+        note_event(out.events, v.b, Event.OFF_SIDE, env.t + v.dt, slide.x, travel(env, v.dt), inputs.cars,
+                   abs(slide.w + ft.gait_vy), abs(com_y) - 0.5 * inputs.cars[car].width)
+        note_side(out.events, v.b, Event.OFF_SIDE, env.t + v.dt, toward)
+        # Off it from the highest roof under the support (its inner side on a crowned roof).
+        inner = roof_z_at(inputs.cars[car], slide.y - toward * min(posture.half_width, abs(slide.y)))
+        fl = take_off(posture, ft.row, bal.lean, slide.x, inner, slide.u + ft.gait_v + bal.rate * load.com_z,
+                      -bal.rate * load.com_x, slide.y,
+                      slide.w + ft.gait_vy + fr.rate * load.com_z * math.cos(fr.roll), fr.roll)
+        fl = over_the_side(fl)
+        return State(with_mode(failed(beat), Mode.FLIGHT), slide, bal, fl, fr)
+    if (over_an_end(inputs.cars, posture, bal, slide) if lying else car < 0):
         fl = take_off(posture, ft.row, bal.lean, slide.x, ft.roof_z, slide.u + ft.gait_v + bal.rate * load.com_z,
-                      -bal.rate * load.com_x)
-        return State(with_mode(beat, Mode.FLIGHT), slide, bal, fl)
+                      -bal.rate * load.com_x, slide.y,
+                      slide.w + ft.gait_vy + fr.rate * load.com_z * math.cos(fr.roll), fr.roll)
+        return State(with_mode(beat, Mode.FLIGHT), slide, bal, fl, fr)
     action = inputs.actions[act]
     if (action.code != ActionCode.JUMP or beat.jumped == act or beat.mode != Mode.PLANTED
             or not beat.assessing):
@@ -194,12 +278,12 @@ def leave_roof(v, inputs, env, state, load, ft, plan, act, out):
         return state
     scale = v.params.takeoff_scale
     fl = take_off(inputs.postures[action.air_row], action.air_row, 0.0, slide.x, ft.roof_z, action.takeoff_vx * scale,
-                  action.takeoff_vz * scale)
+                  action.takeoff_vz * scale, slide.y, 0.0, 0.0)
     speed = math.hypot(action.takeoff_vx, action.takeoff_vz) * scale
     note_event(out.events, v.b, Event.TAKEOFF, t_next, slide.x, travel(env, v.dt), inputs.cars, speed, 0.0)
     note_takeoff(out.outcomes[v.b, act], t_next, slide.x)
     return State(Beat(Mode.FLIGHT.value, act, beat.landed, beat.assessing, False, beat.failed_act, beat.plan_row),
-                 slide, bal, fl)
+                 slide, bal, fl, level())
 
 
 @kernel

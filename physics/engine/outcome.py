@@ -31,14 +31,28 @@ def note_target(events, b, kind, t, target_car):
 
 
 @small
-def note_stance(out, mu_static, demand, margin, lift_ratio, lean_required, wind, drag, contact):
-    """Margins of a step on the roof into the action's outcome record `out`."""
+def note_side(events, b, kind, t, side):
+    """The side (+1 left, -1 right) of the event of `kind` noted at time t."""
+    if events[b, kind].time == t:
+        events[b, kind].side = side
+
+
+@small
+def note_stance(out, mu_static, demand, margin, margin_y, edge, lift_ratio, lean_required, wind, drag, accel_y,
+                contact):
+    """Margins of a step on the roof into the action's outcome record `out`. The balance margin is the
+    smaller of the margins along and across the track; the one across is kept on its own too."""
     if demand > 1e-12:
         out.grip_ratio_min = min(out.grip_ratio_min, mu_static / demand)
     out.grip_demand_max = max(out.grip_demand_max, demand)
+    out.edge_margin_min = min(out.edge_margin_min, edge)
+    out.lateral_accel_max = max(out.lateral_accel_max, accel_y)
     if contact != Contact.BODY:
         if margin == margin:  # not judged (NaN) during deliberate posture changes
             out.balance_margin_min = min(out.balance_margin_min, margin)
+        if margin_y == margin_y:
+            out.frontal_margin_min = min(out.frontal_margin_min, margin_y)
+            out.balance_margin_min = min(out.balance_margin_min, margin_y)
         out.lean_max = max(out.lean_max, lean_required)
     out.lift_ratio_min = min(out.lift_ratio_min, lift_ratio)
     out.apparent_wind_max = max(out.apparent_wind_max, wind)

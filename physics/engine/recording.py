@@ -18,14 +18,25 @@ def record_common(r, env, mode, row, lean):
     r.distance = env.distance
     r.wind_x = env.wind_x
     r.wind_y = env.wind_y
+    r.accel_y = env.accel_y
 
 
 @small
 def record_no_contact(r):
     r.pivot_x = math.nan
+    r.pivot_y = math.nan
     r.contact_z = math.nan
     r.lean_rate = 0.0
+    r.roll_rate = 0.0
     r.slide_speed = math.nan
+    r.slide_speed_y = math.nan
+    r.xcom_y = math.nan
+    r.cop_y = math.nan
+    r.half_width = math.nan
+    r.frontal_margin = math.nan
+    r.roll_required = math.nan
+    r.edge_margin = math.nan
+    r.roof_slope = math.nan
     r.normal = math.nan
     r.need_x = math.nan
     r.need_y = math.nan
@@ -50,11 +61,14 @@ def record_flight(r, env, fl, posture, drag, mode):
     r.flight_z = fl.z
     r.flight_vx = fl.vx
     r.flight_vz = fl.vz
+    r.flight_y = fl.y
+    r.flight_vy = fl.vy
+    r.roll = fl.roll
     nan = math.nan
     app_x, app_y, app_z, fx, fy, fz = nan, nan, nan, nan, nan, nan
     if mode == Mode.FLIGHT:
         app_x = env.wind_x - (env.speed + fl.vx)
-        app_y = env.wind_y
+        app_y = env.wind_y - fl.vy
         app_z = -fl.vz
         air = air_load(posture, math.cos(fl.lean), math.sin(fl.lean), app_x, app_y, app_z, drag)
         fx, fy, fz = air.fx, air.fy, air.fz
@@ -78,8 +92,21 @@ def record_roof(r, env, seen):
     r.flight_z = math.nan
     r.flight_vx = math.nan
     r.flight_vz = math.nan
+    r.flight_y = math.nan
+    r.flight_vy = math.nan
+    r.pivot_y = seen.y
+    r.slide_speed_y = seen.w
+    r.roll = seen.across.roll
+    r.roll_rate = seen.across.rate
+    r.xcom_y = seen.across.xcom
+    r.cop_y = seen.across.cop
+    r.half_width = seen.across.half
+    r.frontal_margin = seen.across.margin
+    r.roll_required = seen.across.required
+    r.edge_margin = seen.ft.edge
+    r.roof_slope = seen.ft.slope
     r.app_x = seen.wx
-    r.app_y = env.wind_y
+    r.app_y = env.wind_y - seen.w
     r.app_z = 0.0
     r.aero_x = seen.air.fx
     r.aero_y = seen.air.fy

@@ -324,6 +324,13 @@ def judge_support(bal, mode, contact_feet, xcom, margin, lo, hi, recovery_step, 
     return BalanceStep(new, xcom, margin, happened, bound)
 
 
+@small
+def laid(bal):
+    """A body that has fallen over sideways, lying on its side on the roof."""
+    return Balance(bal.lean, 0.0, 0.0, bal.brace_a, bal.brace_b, bal.brace_lift, bal.steps, bal.shift,
+                   bal.outside, bal.restart, True)
+
+
 @kernel
 def lie_down(bal, posture):
     """A toppled body lies on the roof and stops turning once a leaning point touches the roof, or at LIE_ANGLE."""
