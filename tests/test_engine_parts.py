@@ -117,7 +117,7 @@ def test_landing_rule_at_its_boundary():
     cars = cars_table()
     landed = posture_of("crouch")
     low_x = flight.reach(landed, 0.0, 0.0, 0.0).low_x
-    fl = flight.Flight(0.0, 0.0, 0.0, 0.0, 0, 0.0, 0.3, -1.0, -0.4, 0.4, False, math.nan, 0.0, 0.0, 0.0)
+    fl = flight.Flight(0.0, 0.0, 0.0, 0.0, 0, 0.0, 0.3, -1.0, -0.4, 0.4, False, math.nan, 0.0, 0.0, 0.0, 0)
     impact = 0.6 * (3.0 + G * flight.LANDING_ABSORB_TIME)
     skid = math.sqrt(2 * 0.5 * G * flight.MIN_SKID)
     for vx, hard in ((impact + skid - 0.01, False), (impact + skid + 0.01, True)):

@@ -87,7 +87,7 @@ def check_fall(v, inputs, env, beat, before, after, act, out):
                low - (after.z + after.low_dz), 0.0)
     note_target(out.events, v.b, Event.FALL, env.t + tau, declared)
     fallen = Flight(after.x, after.z, after.vx, after.vz, after.row, after.lean, after.low_dx, after.low_dz,
-                    after.left, after.right, True, after.ground_x, after.y, after.vy, after.roll)
+                    after.left, after.right, True, after.ground_x, after.y, after.vy, after.roll, after.side)
     return failed(beat), fallen
 
 

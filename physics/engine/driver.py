@@ -69,7 +69,8 @@ def planned(inputs, state, step, act):
 def start_state(p):
     return State(Beat(Mode.PLANTED.value, -1, -1, True, False, -1, -1),
                  Slide(p.start_x, 0.0, 0.0, 0.0, p.start_y, 0.0), upright(),
-                 Flight(0.0, 0.0, 0.0, 0.0, 0, 0.0, 0.0, 0.0, 0.0, 0.0, False, math.nan, 0.0, 0.0, 0.0), level())
+                 Flight(0.0, 0.0, 0.0, 0.0, 0, 0.0, 0.0, 0.0, 0.0, 0.0, False, math.nan, 0.0, 0.0, 0.0, 0),
+                 level())
 
 
 @entry

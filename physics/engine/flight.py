@@ -23,6 +23,8 @@ from physics.engine.frontal import roof_z_at
 from physics.engine.jit import kernel, small
 from physics.engine.roof import EDGE_TOLERANCE, car_at, feet_friction
 
+SIDE_CLEAR = 0.15          # m from a car's side to the centre of mass of a body falling down beside it (half a
+                           # body's depth, from memory)
 LANDING_ABSORB_TIME = 0.2  # s of leg flexion in a landing (from memory; drop-landing studies ~0.1-0.3 s)
 MIN_SKID = 0.25            # m a landing can skid without a step (about a foot length, from memory)
 
@@ -33,8 +35,8 @@ MIN_SKID = 0.25            # m a landing can skid without a step (about a foot l
 # down off the roof; and once it lies on the ground beside or between the cars,
 # where (ground frame, m; NaN before); across the track the centre of mass from
 # the roofs' centreline (m, + left), its velocity (m/s) and the sideways lean it
-# left with (rad).
-Flight = namedtuple("Flight", "x z vx vz row lean low_dx low_dz left right fallen ground_x y vy roll")
+# left with (rad); and the side edge it went over (+1 left, -1 right, 0 none).
+Flight = namedtuple("Flight", "x z vx vz row lean low_dx low_dz left right fallen ground_x y vy roll side")
 
 # Where the lowest point came down through a roof level during a step: the
 # fraction of the step, the centre of mass and its velocity then.
@@ -72,21 +74,22 @@ def rk4(fl, posture, speed0, speed1, accel, accel_y, wind_x, wind_y, drag, mass,
     vy = fl.vy + dt / 6.0 * (k1y + 2.0 * k2y + 2.0 * k3y + k4y)
     vz = fl.vz + dt / 6.0 * (k1z + 2.0 * k2z + 2.0 * k3z + k4z)
     return Flight(x, z, vx, vz, fl.row, fl.lean, fl.low_dx, fl.low_dz, fl.left, fl.right, fl.fallen, fl.ground_x,
-                  y, vy, fl.roll)
+                  y, vy, fl.roll, fl.side)
 
 
 @small
 def moved(fl, x, z, vx, vz):
     """The flight at another place and velocity along the track."""
     return Flight(x, z, vx, vz, fl.row, fl.lean, fl.low_dx, fl.low_dz, fl.left, fl.right, fl.fallen, fl.ground_x,
-                  fl.y, fl.vy, fl.roll)
+                  fl.y, fl.vy, fl.roll, fl.side)
 
 
 @small
-def over_the_side(fl):
-    """A body gone over a side edge: it comes down beside the cars, never back onto a roof."""
+def over_the_side(fl, side):
+    """A body gone over a side edge (+1 left, -1 right): it comes down beside the cars, never back onto a
+    roof."""
     return Flight(fl.x, fl.z, fl.vx, fl.vz, fl.row, fl.lean, fl.low_dx, fl.low_dz, fl.left, fl.right, True,
-                  fl.ground_x, fl.y, fl.vy, fl.roll)
+                  fl.ground_x, fl.y, fl.vy, fl.roll, side)
 
 
 @small
@@ -129,7 +132,7 @@ def take_off(posture, row, lean, pivot_x, roof_z, vx, vz, pivot_y, vy, roll):
     # In the air every segment turns with the lean, feet too: the body leaves the roof, not through it.
     z = max(roof_z + cz * math.cos(roll), roof_z - r.low_z)
     return Flight(pivot_x + cx, z, vx, vz, row, lean, r.low_x, r.low_z, r.left, r.right, False, math.nan,
-                  pivot_y + cz * math.sin(roll), vy, roll)
+                  pivot_y + cz * math.sin(roll), vy, roll, 0)
 
 
 @kernel
@@ -187,8 +190,16 @@ def kept_out_of_cars(cars, before, after):
     that end; over the roof a touchdown has already taken it."""
     for i in range(cars.shape[0]):
         car = cars[i]
-        if after.z + after.low_dz >= car.roof_height or beside(car, after.y):
+        if after.z + after.low_dz >= car.roof_height or beside(car, after.y - after.side * SIDE_CLEAR):
             continue
+        if after.side != 0:
+            # Gone over a side edge: it goes down along the car's side, not into the car.
+            if after.x + after.right <= car.rear_x or after.x + after.left >= car.front_x:
+                continue
+            return Flight(after.x, after.z, after.vx, after.vz, after.row, after.lean, after.low_dx, after.low_dz,
+                          after.left, after.right, after.fallen, after.ground_x,
+                          after.side * (0.5 * car.width + SIDE_CLEAR), 0.0 if after.vy * after.side < 0 else after.vy,
+                          after.roll, after.side), True
         if after.x + after.right <= car.rear_x or after.x + after.left >= car.front_x:
             continue
         if before.x + before.left >= car.front_x - EDGE_TOLERANCE:
@@ -212,4 +223,4 @@ def on_the_ground(fl, lying, lying_row, ground_x):
     (the lying posture's centre of mass where the flying body's was)."""
     r = reach(lying, 0.0, lying.com_x, lying.com_z)
     return Flight(fl.x, -r.low_z, 0.0, 0.0, lying_row, 0.0, r.low_x, r.low_z, r.left, r.right, True, ground_x,
-                  fl.y, 0.0, 0.0)
+                  fl.y, 0.0, 0.0, fl.side)

@@ -257,7 +257,7 @@ def leave_roof(v, inputs, env, state, load, ft, plan, act, out):
         fl = take_off(posture, ft.row, bal.lean, slide.x, inner, slide.u + ft.gait_v + bal.rate * load.com_z,
                       -bal.rate * load.com_x, slide.y,
                       slide.w + ft.gait_vy + fr.rate * load.com_z * math.cos(fr.roll), fr.roll)
-        fl = over_the_side(fl)
+        fl = over_the_side(fl, toward)
         return State(with_mode(failed(beat), Mode.FLIGHT), slide, bal, fl, fr)
     if (over_an_end(inputs.cars, posture, bal, slide) if lying else car < 0):
         fl = take_off(posture, ft.row, bal.lean, slide.x, ft.roof_z, slide.u + ft.gait_v + bal.rate * load.com_z,
