@@ -39,7 +39,9 @@ def build_parser() -> argparse.ArgumentParser:
     render.add_argument("-o", "--output", required=True, type=options.render_output,
                         help="OUT.mp4, OUT.gif or a folder for PNG frames; OUT.csv (joints, forces per "
                              "frame) or OUT.glb (glTF 2.0 scene) for the beat as data")
-    render.add_argument("--frame", choices=("ground", "car", "split"), default="car")
+    render.add_argument("--frame", choices=("ground", "car", "split", "end", "plan"), default="car",
+                        help="car or ground: the side view in that frame; split: both, stacked; end: across the "
+                             "track at the performer, looking forward; plan: the roofs from above (car frame)")
     render.add_argument("--trackside", type=options.length, default=None, metavar="GROUND_X",
                         help='ground frame: a camera fixed beside the track at this ground position, e.g. '
                              '"120 m" (the consist passes through); default: the camera follows')

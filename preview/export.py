@@ -193,15 +193,19 @@ def render(scene, args) -> int:
     if out.suffix.lower() == ".mp4" and even16(size) != size:
         size = even16(size)
         print(f"roofbeat: MP4 size rounded up to {size[0]}x{size[1]} (multiples of 16)", file=sys.stderr)
-    playback = make_playback(scene)
     trackside = getattr(args, "trackside", None)
+    if trackside is not None and args.frame in ("end", "plan"):
+        raise UsageError(f"--trackside places a ground-frame camera beside the track; it does not apply to "
+                         f"--frame {args.frame} (use --frame ground or split)")
+    playback = make_playback(scene)
     frame = "ground" if trackside is not None and args.frame == "car" else args.frame
     view = ViewSettings(frame=frame, trackside=trackside, legend=getattr(args, "legend", True))
     try:
         write_frames(playback, times, view, size, out)
     except OSError as exc:
         raise OutputError(f"{out}: could not write: {exc.strerror or exc}") from None
-    print(f"wrote {out} ({len(times)} frames at {fps} fps, {size[0]}x{size[1]}, {frame} frame); "
+    what = f"{frame} view" if frame in ("end", "plan") else f"{frame} frame"
+    print(f"wrote {out} ({len(times)} frames at {fps} fps, {size[0]}x{size[1]}, {what}); "
           f"verdict {playback.summary['verdict']}")
     return 0
 

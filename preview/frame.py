@@ -2,29 +2,31 @@
 
 Draws through the Canvas interface only: the window, the exports and the brief
 all call `draw_frame`. Nothing here recomputes physics; every number comes from
-the recorded trajectory or is derived from it. The panels (readout, frame
-banners, legend, timeline, caution) take their places first; the labels that
-can move (failure callout, structure names, drift figure, messages) are then
-placed where they cover nothing (preview.layout), and the panels are drawn on
-top of the world.
+the recorded trajectory or is derived from it. The side views are drawn by
+preview.world, the end view across the track by preview.end_view and the plan
+from above by preview.plan_view. The panels (readout, frame banners, legend,
+timeline, caution) take their places first; the labels that can move (failure
+callout, structure names, drift figure, messages) are then placed where they
+cover nothing (preview.layout), and the panels are drawn on top of the world.
 """
 
 from __future__ import annotations
 
 from dataclasses import dataclass, field, replace
 
-from preview import panels, world
-from preview.camera import CAR, GROUND, Camera, camera_for
+from preview import end_view, panels, plan_view, world
+from preview.camera import CAR, GROUND, camera_for
 from preview.layout import Box, Layout
 from preview.palette import PAPER
 from preview.session import Playback
 
 VECTOR_KEYS = ("weight", "aero", "segments", "reaction", "pseudo", "wind", "balance")
+ACROSS = {"end": end_view, "plan": plan_view}   # the views across the track: camera() and draw() each
 
 
 @dataclass(frozen=True)
 class ViewSettings:
-    frame: str = CAR                 # "car", "ground" or "split"
+    frame: str = CAR                 # "car", "ground", "split" (side views), "end" or "plan"
     zoom: float = 1.5
     vectors: frozenset = field(default_factory=lambda: frozenset({"weight", "aero", "reaction", "pseudo", "wind",
                                                                    "balance"}))
@@ -46,9 +48,21 @@ def main_area(size: tuple[int, int], view: "ViewSettings | None" = None, units: 
     return size[0], size[1] - panels.bottom_height(size, view, units)
 
 
-def cameras(playback: Playback, t: float, view: ViewSettings, size) -> list[Camera]:
+def drawing_region(size, view: ViewSettings, units: str) -> Box:
+    """Where the end and plan views fit their drawing: beside the readout and under the banner."""
+    width, height = main_area(size, view, units)
+    left = panels.readout_width(size, view) + 2 * panels.MARGIN if view.readout else panels.MARGIN
+    top = panels.banner_height(size, view) + panels.MARGIN
+    return Box(left, top, max(1.0, width - left - panels.MARGIN), max(1.0, height - top - panels.MARGIN))
+
+
+def cameras(playback: Playback, t: float, view: ViewSettings, size) -> list:
+    """One camera per view: the side views' (two for split), or the end or plan view's."""
     width, height = main_area(size, view, playback.scene.units)
     tr = playback.trajectory
+    if view.frame in ACROSS:
+        region = drawing_region(size, view, playback.scene.units)
+        return [ACROSS[view.frame].camera(tr, t, (width, height), region, view.zoom)]
     if view.frame == "split":
         half = height // 2
         return [camera_for(tr, t, GROUND, (width, half), view.zoom, 0, view.trackside),
@@ -64,5 +78,6 @@ def draw_frame(canvas, playback: Playback, t: float, view: ViewSettings) -> None
     layout = Layout()
     plan = panels.plan(layout, canvas.size, playback, t, view, cams)
     for cam in cams:
-        world.draw_view(canvas, playback, t, view, cam, layout, Box(0, cam.top, cam.width, cam.height))
+        draw = ACROSS[cam.frame].draw if cam.frame in ACROSS else world.draw_view
+        draw(canvas, playback, t, view, cam, layout, Box(0, cam.top, cam.width, cam.height))
     panels.draw(canvas, plan, playback, t, view)

@@ -46,7 +46,7 @@ VECTOR_LEGEND = (
 
 HELP = (
     ("space", "play / pause"), ("left / right", "one frame back / forward"),
-    ("[ and ]", "playback rate 0.1x - 2x"), ("F", "frame: car / ground / split"),
+    ("[ and ]", "playback rate 0.1x - 2x"), ("F", "view: car frame / ground frame / split / end / plan"),
     ("C", "ground frame: trackside camera here / follow"),
     ("1 - 7", "weight, air load, per segment, roof reaction, pseudo-force, wind, balance"),
     ("L", "legend"), ("U", "units: metric / imperial"), ("+ / -", "zoom"),
@@ -211,26 +211,40 @@ def scale_bar(per_metre_si: float, dimension: str, units: str, px_per_m: float, 
 
 def legend_rows(view, units: str, px_per_m: float | None) -> list[tuple]:
     """(kind, payload) rows: a vector key, the trail, a scale bar or a timeline mark.
-    px_per_m None: the bars at their longest (for sizing the strip)."""
+    px_per_m None: the bars at their longest (for sizing the strip). The end and plan views
+    have legends of their own (preview.end_view, preview.plan_view)."""
     from preview.world import FORCE_PER_METRE, SEGMENT_FORCE_PER_METRE, WIND_PER_METRE
+    if getattr(view, "frame", None) == "end":
+        from preview.end_view import legend_rows as end_rows
+        return end_rows(view, units, px_per_m)
+    if getattr(view, "frame", None) == "plan":
+        from preview.plan_view import legend_rows as plan_rows
+        return plan_rows(view, units, px_per_m)
     rows = []
     for key, name, colour, words in VECTOR_LEGEND:
         rows.append(("vector", (key, colour if name in view.vectors else FAINT, words)))
     rows.append(("trail", (TRAIL, f"centre of mass path, last {view.trail_seconds:g} s")))
-
-    def bar(per_metre, dimension, colour, what):
-        value, unit, px = scale_bar(per_metre, dimension, units, px_per_m or 100.0)
-        rows.append(("bar", (colour, BAR_SLOT if px_per_m is None else px, f"{value:g} {unit} {what}")))
-    bar(FORCE_PER_METRE, "force", INK, "(every force)")
+    rows.append(bar_row(FORCE_PER_METRE, "force", INK, "(every force)", units, px_per_m))
     if "segments" in view.vectors:
-        bar(SEGMENT_FORCE_PER_METRE, "force", SEGMENT_AERO, "(per-segment loads only)")
-    bar(WIND_PER_METRE, "wind", WIND, "(apparent wind)")
+        rows.append(bar_row(SEGMENT_FORCE_PER_METRE, "force", SEGMENT_AERO, "(per-segment loads only)", units,
+                            px_per_m))
+    rows.append(bar_row(WIND_PER_METRE, "wind", WIND, "(apparent wind)", units, px_per_m))
     rows.append(("zone", (LANDING_ZONE, "landing zone (a jump's landing roof)")))
-    rows.append(("tick", (FAILURE, "timeline: failure")))
-    rows.append(("tick", (FACT, "timeline: take-off, touchdown, recovery step")))
-    rows.append(("mark", (STRUCTURE, "timeline: reaches a structure")))
-    rows.append(("flag", (MARGINAL, "timeline: latest duck start that clears")))
-    return rows
+    return rows + timeline_legend_rows()
+
+
+def bar_row(per_metre: float, dimension: str, colour, what: str, units: str, px_per_m: float | None) -> tuple:
+    """A legend row with a scale bar: a round value drawn at `per_metre` (SI per metre of picture)."""
+    value, unit, px = scale_bar(per_metre, dimension, units, px_per_m or 100.0)
+    return ("bar", (colour, BAR_SLOT if px_per_m is None else px, f"{value:g} {unit} {what}"))
+
+
+def timeline_legend_rows() -> list[tuple]:
+    """The legend's rows for the timeline's marks (every view has the timeline)."""
+    return [("tick", (FAILURE, "timeline: failure")),
+            ("tick", (FACT, "timeline: take-off, touchdown, recovery step")),
+            ("mark", (STRUCTURE, "timeline: reaches a structure")),
+            ("flag", (MARGINAL, "timeline: latest duck start that clears"))]
 
 
 def legend_row_width(row, size: int) -> float:
@@ -272,7 +286,7 @@ def plan(layout: Layout, size, playback, t: float, view, cams) -> Panels:
     layout.reserve(Box(0, height - bottom, width, bottom))
     # Readout, top-left of the first view.
     rows, verdict, why = readout_rows(playback, t, view)
-    rw = min(400 + 12 * _boost(view), int(0.42 * width))
+    rw = readout_width(size, view)
     name_w = max(measure(n, ts)[0] for n, _, _ in rows) + 14
     rows = [(n, fit(v, ts, rw - 20 - name_w, mono=True), c) for n, v, c in rows]
     why_lines = [line for w in why for line in wrap(w, ts, rw - 20, bold=w.startswith("whole beat"))][:5]
@@ -314,7 +328,21 @@ def plan(layout: Layout, size, playback, t: float, view, cams) -> Panels:
     return panels
 
 
+def readout_width(size, view) -> int:
+    """Width of the readout panel (top-left of the first view)."""
+    return min(400 + 12 * _boost(view), int(0.42 * size[0]))
+
+
+def banner_height(size, view) -> int:
+    """Height of a view's banner with its margin above."""
+    return measure("FRAME", text_size(size, _boost(view)) + 1, True)[1] + 8 + MARGIN
+
+
 def banner_text(cam, view, units: str) -> str:
+    if cam.frame == "end":
+        return "END VIEW looking forward (travel into the picture): left of travel on the left"
+    if cam.frame == "plan":
+        return "PLAN VIEW from above, car frame: left of travel at the top; travel →"
     if cam.frame != GROUND:
         return "CAR FRAME: consist at rest, scenery streams past; travel →"
     if view.trackside is not None:
@@ -408,6 +436,11 @@ def draw_legend(canvas, panels: Panels, ts: int) -> None:
             canvas.rect(x, mid - 2, 22, 5, payload[0])
         elif kind == "flag":
             canvas.polygon([(x + 5, mid - 5), (x + 17, mid - 5), (x + 11, mid + 5)], payload[0])
+        elif kind == "dots":
+            for k in range(4):
+                canvas.circle((x + 2 + 6 * k, mid), 2, payload[0])
+        elif kind == "ring":
+            canvas.circle((x + 11, mid), 6, payload[0], 2)
         canvas.text((x + 30, y), words, SOFT_INK if kind == "vector" and payload[1] == FAINT else INK, ts)
 
 

@@ -20,7 +20,7 @@ from preview.panels import timeline_rect
 from preview.session import Playback, make_playback
 
 RATES = (0.1, 0.25, 0.5, 1.0, 1.5, 2.0)
-FRAMES = ("car", "ground", "split")
+FRAMES = ("car", "ground", "split", "end", "plan")   # the F key's views, in order
 # What-if steps per key press, in the display units: (speed, wind) in m/s.
 STEPS = {"metric": (5 / 3.6, 1.0), "imperial": (5 * 0.44704, 2 * 0.44704)}  # 5 km/h, 1 m/s; 5 mph, 2 mph
 
@@ -140,7 +140,7 @@ def trackside_toggled(state: PlayerState) -> ViewSettings:
     x = float(tr.com_path[i, 0] + tr.field("distance")[i])
     if x != x:  # no body position (NaN): nothing to stand beside
         return replace(v, message="trackside camera: no performer position at this time")
-    return replace(v, trackside=x, frame="ground" if v.frame == "car" else v.frame)
+    return replace(v, trackside=x, frame=v.frame if v.frame in ("ground", "split") else "ground")
 
 
 def switch_units(state: PlayerState) -> None:

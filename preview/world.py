@@ -199,23 +199,37 @@ def draw_jumps(canvas, playback, t: float, cam: Camera, layout, area: Box) -> No
         for xe in (x0, x1):
             canvas.line((xe, roof - 12), (xe, roof + 2), HOLDS, 2)
         tx, ty = cam.to_screen(action.takeoff_x, scene.cars[scene.car_at(action.takeoff_x) or 0].roof_height)
-        canvas.polygon([(tx, ty), (tx - 6, ty + 10), (tx + 6, ty + 10)], INK)
-        ts = label_size(canvas)
-        box = layout.place(*_label_size("take-off", ts - 1), [(tx - 20, ty + 12), (tx - 60, ty + 12)], area)
-        canvas.text((box.x + 2, box.y + 1), "take-off", INK, ts - 1)
+        draw_takeoff_mark(canvas, tx, ty, layout, area)
         out = tr.outcomes[a]
         if math.isfinite(out["touchdown_time"]) and t >= out["touchdown_time"]:
             lx, ly = cam.to_screen(float(out["touchdown_x"]), car.roof_height)
-            margin = float(out["landing_margin_min"])
-            colour = HOLDS if margin >= scene.safety.landing_margin else FAILURE
-            canvas.circle((lx, ly), 6, colour, 2)
-            words = (f"landed {display(margin, 'length', scene.units)} inside {car.name}" if margin >= 0 else
-                     f"came down {display(-margin, 'length', scene.units)} outside {car.name}")
-            w, h = _label_size(words, ts)
-            box = layout.place(w, h, [(lx - w / 2, ly + 14), (lx + 10, ly - h - 10), (lx - w - 10, ly - h - 10)],
-                               area)
-            canvas.rect(box.x, box.y, box.w, box.h, PANEL)
-            canvas.text((box.x + 3, box.y + 2), words, colour, ts)
+            draw_landing_mark(canvas, scene, car, float(out["landing_margin_min"]), lx, ly, layout, area)
+
+
+def draw_takeoff_mark(canvas, tx: float, ty: float, layout, area: Box) -> None:
+    """A jump's take-off: a small triangle under the point (pixels) and the word beside it."""
+    canvas.polygon([(tx, ty), (tx - 6, ty + 10), (tx + 6, ty + 10)], INK)
+    ts = label_size(canvas)
+    box = layout.place(*_label_size("take-off", ts - 1), [(tx - 20, ty + 12), (tx - 60, ty + 12)], area)
+    canvas.text((box.x + 2, box.y + 1), "take-off", INK, ts - 1)
+
+
+def landing_words(scene, car, margin: float) -> str:
+    """Where a jump came down against its landing car: inside by the margin, or outside by the shortfall."""
+    return (f"landed {display(margin, 'length', scene.units)} inside {car.name}" if margin >= 0 else
+            f"came down {display(-margin, 'length', scene.units)} outside {car.name}")
+
+
+def draw_landing_mark(canvas, scene, car, margin: float, lx: float, ly: float, layout, area: Box) -> None:
+    """Where a jump came down (pixels): a ring, green when inside the required landing margin, and its words."""
+    colour = HOLDS if margin >= scene.safety.landing_margin else FAILURE
+    canvas.circle((lx, ly), 6, colour, 2)
+    ts = label_size(canvas)
+    words = landing_words(scene, car, margin)
+    w, h = _label_size(words, ts)
+    box = layout.place(w, h, [(lx - w / 2, ly + 14), (lx + 10, ly - h - 10), (lx - w - 10, ly - h - 10)], area)
+    canvas.rect(box.x, box.y, box.w, box.h, PANEL)
+    canvas.text((box.x + 3, box.y + 2), words, colour, ts)
 
 
 def _label_size(text: str, size: int, bold: bool = False) -> tuple[int, int]:
@@ -287,7 +301,7 @@ def draw_trail(canvas, tr, i: int, view, cam: Camera) -> None:
     canvas.polyline(points, TRAIL, 2)
 
 
-def _force_arrow(canvas, cam, origin, force, color, tag, per_metre=FORCE_PER_METRE, push=False, shift=0.0):
+def force_arrow(canvas, cam, origin, force, color, tag, per_metre=FORCE_PER_METRE, push=False, shift=0.0):
     """A force drawn to scale from its point of application, or, for contact
     forces (push=True), drawn ending at the point it pushes on; shift: pixels aside."""
     canvas.tag = tag
@@ -308,23 +322,23 @@ def draw_vectors(canvas, tr, i: int, view, cam: Camera) -> None:
     if mode in (Mode.PLANTED, Mode.SLIDING) and "balance" in view.vectors:
         draw_balance(canvas, f, com, cam)  # under the arrows that start at the centre of mass
     if "weight" in view.vectors:
-        _force_arrow(canvas, cam, com, (0.0, -tr.weight), WEIGHT, "weight")
+        force_arrow(canvas, cam, com, (0.0, -tr.weight), WEIGHT, "weight")
     if "aero" in view.vectors:
-        _force_arrow(canvas, cam, com, (f("aero_x"), f("aero_z")), AERO, "aero")
+        force_arrow(canvas, cam, com, (f("aero_x"), f("aero_z")), AERO, "aero")
     if "segments" in view.vectors:
         ends = tr.ends(i)
         forces = tr.segment_forces(i)
         for s in range(body.N_SEGMENTS):
             mid = (ends[s, :, 0].mean(), ends[s, :, 1].mean())
-            _force_arrow(canvas, cam, mid, forces[s], SEGMENT_AERO, "segments", SEGMENT_FORCE_PER_METRE)
+            force_arrow(canvas, cam, mid, forces[s], SEGMENT_AERO, "segments", SEGMENT_FORCE_PER_METRE)
     if on_roof and "reaction" in view.vectors:
         base = (f("pivot_x"), f("contact_z"))
         aside = -REACTION_OFFSET if tr.timeline.postures["support_lo"][int(f("row"))] < 0 else REACTION_OFFSET
-        _force_arrow(canvas, cam, base, (0.0, f("normal")), REACTION, "normal", push=True, shift=aside)
-        _force_arrow(canvas, cam, base, (f("need_x"), 0.0), REACTION, "friction", push=True, shift=aside)
+        force_arrow(canvas, cam, base, (0.0, f("normal")), REACTION, "normal", push=True, shift=aside)
+        force_arrow(canvas, cam, base, (f("need_x"), 0.0), REACTION, "friction", push=True, shift=aside)
     pseudo = float(tr.pseudo_force_path[i])
     if "pseudo" in view.vectors and cam.frame == CAR and abs(pseudo) > 1.0:
-        _force_arrow(canvas, cam, com, (pseudo, 0.0), PSEUDO, "pseudo")
+        force_arrow(canvas, cam, com, (pseudo, 0.0), PSEUDO, "pseudo")
     if "wind" in view.vectors:
         canvas.tag = "wind"
         head = (com[0], com[1] + 1.3)
@@ -359,10 +373,23 @@ def draw_failure_marker(canvas, playback, failure, cam: Camera, layout, area: Bo
         px, py = cam.ground_to_screen(failure["x_ground_m"], z)   # where the structure or line is
     else:
         px, py = cam.to_screen(failure["x_car_m"], z)             # on the car, wherever it now is
-    label = f"{failure['kind'].upper()}  {failure['time_s']:.2f} s"
+    label = failure_label(failure)
     if not (area.x <= px <= area.right and area.y <= py <= area.bottom):
         draw_failure_pointer(canvas, label, px, py, cam, layout, area, playback.scene.units)
         return
+    draw_failure_callout(canvas, failure, px, py, layout, area)
+
+
+def failure_label(failure: dict) -> str:
+    return f"{failure['kind'].upper()}  {failure['time_s']:.2f} s"
+
+
+def draw_failure_callout(canvas, failure: dict, px: float, py: float, layout, area: Box,
+                         beside: bool = False) -> None:
+    """The ringed cross at a failure's place (pixels) and its callout: kind, time and the numbers behind
+    it; `beside`: the callout may also stand level with the marker, to its left or right."""
+    canvas.tag = "failure"
+    label = failure_label(failure)
     r = 16
     canvas.circle((px, py), r, FAILURE, 3)
     canvas.line((px - r * 0.7, py - r * 0.7), (px + r * 0.7, py + r * 0.7), FAILURE, 3)
@@ -372,12 +399,19 @@ def draw_failure_marker(canvas, playback, failure, cam: Camera, layout, area: Bo
     width = min(area.w - 12, max(lw, dw) + 16)
     detail = fit(failure["detail"], ts, width - 16)
     h = lh + dh + 12
-    box = layout.place(width, h, [(px + 30, py - r - 38 - h), (px - 30 - width, py - r - 38 - h),
-                                  (px + 30, py + r + 20), (px - 30 - width, py + r + 20),
-                                  (px - width / 2, py - r - 64 - h)], area)
+    spots = [(px + 30, py - r - 38 - h), (px - 30 - width, py - r - 38 - h), (px + 30, py + r + 20),
+             (px - 30 - width, py + r + 20), (px - width / 2, py - r - 64 - h)]
+    if beside:
+        spots[2:2] = [(px - 60 - width, py - h / 2), (px + 60, py - h / 2)]
+    box = layout.place(width, h, spots, area)
     anchor = (box.x, box.bottom) if box.x > px else (box.right, box.bottom)
-    canvas.line((px, py - r if box.bottom < py else py + r), anchor if box.bottom < py else (anchor[0], box.y),
-                FAILURE, 2)
+    if box.x + 8 <= px <= box.right - 8:
+        anchor = (px, box.bottom)     # the box straddles the marker: a straight leader
+    if box.bottom >= py >= box.y:     # level with the marker: from its side to the box's near side
+        canvas.line((px + (r if box.x > px else -r), py), (box.x if box.x > px else box.right, py), FAILURE, 2)
+    else:
+        canvas.line((px, py - r if box.bottom < py else py + r),
+                    anchor if box.bottom < py else (anchor[0], box.y), FAILURE, 2)
     canvas.rect(box.x, box.y, box.w, box.h, PANEL)
     canvas.rect(box.x, box.y, box.w, box.h, FAILURE, width=2)
     canvas.text((box.x + 8, box.y + 4), fit(label, ts + 3, box.w - 16, bold=True), FAILURE, ts + 3, bold=True)

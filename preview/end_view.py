@@ -1,0 +1,516 @@
+"""The end view: a section across the track at the performer, looking forward
+(travel goes into the picture), so the left of travel is on the left of the
+screen, as someone standing behind the performer would see it.
+
+It shows the car under the performer cut across (roof with its crown, sides,
+underframe, wheels and rails), the figure in the frontal plane with its
+sideways lean and support, the loads across the track on the side views'
+force scale (air load, the friction the roof must supply, weight, roof
+reaction, the lateral pseudo-force, apparent wind) and what is overhead near
+the performer: structures' soffits and overhead lines with their exclusion
+zones. Off the roof the figure is drawn where the record puts it, in the air
+beside the car and then on the ground. Every number comes from the recorded
+trajectory (car frame, SI); track gauge, wheels and deck depth are drawing
+values, not physics.
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass
+
+import numpy as np
+
+from physics import body
+from physics.records import Event, Mode
+from physics.units import display
+from preview.layout import Box, fit
+from preview.palette import (AERO, CAR_BODY, CAR_EDGE, FAILURE, FAINT, FAR_LIMB, GROUND_TONE, HOLDS, INK,
+                             LINE_ZONE, PANEL, PSEUDO, REACTION, SKY, SOFT_INK, STRUCTURE, TRAIL, WEIGHT, WIND)
+from preview.world import (FORCE_PER_METRE, REACTION_OFFSET, WIND_PER_METRE, canvas_measure, draw_failure_callout,
+                           force_arrow, label_size)
+
+DEFAULT_ZOOM = 1.5     # ViewSettings' default zoom: the fitted picture
+GAUGE = 1.435          # m between the rails (standard gauge), drawing value
+WHEEL = 0.84           # m wheel diameter, drawing value (as the side view draws them)
+DECK = 1.2             # m depth of a structure's deck above its soffit, drawing value (as the side view)
+AHEAD = 30.0           # m: a structure or line this far ahead (or under way) is drawn
+BEHIND = 5.0           # m: and for this far once passed
+ZONE_FILL = tuple(int(0.45 * a + 0.55 * b) for a, b in zip(LINE_ZONE, SKY))   # the zone, faint
+
+
+@dataclass(frozen=True)
+class EndCamera:
+    """Across the track (y, + left of travel) and up (z), metres <-> pixels, looking forward."""
+
+    frame: str
+    scale: float       # pixels per metre
+    width: int
+    height: int
+    top: int
+    origin_x: float    # screen x of the track's centreline (y = 0)
+    ground_y: float    # screen y of rail level (z = 0)
+
+    def to_screen(self, y: float, z: float) -> tuple[float, float]:
+        return (self.origin_x - y * self.scale, self.ground_y - z * self.scale)
+
+
+def camera(tr, t: float, size, region: Box, zoom: float = DEFAULT_ZOOM) -> EndCamera:
+    """The end view's camera: one scale for the whole beat, fitted to the region so the widest roof,
+    the farthest the body goes across and the head above the highest roof all fit; zoom keeps the
+    highest roof's centre where it is."""
+    scene = tr.scene
+    half = max(c.width for c in scene.cars) / 2
+    across = np.abs(tr.com_path3[:, 1])
+    reach = float(np.nanmax(across)) if np.isfinite(across).any() else 0.0
+    y_half = max(half + 2.2, reach + 1.0)
+    roof = max(c.roof_height for c in scene.cars)
+    z_head = roof + 1.2 * scene.performer.stature + 0.3
+    overhead = [s.soffit + DECK + 0.3 for s in scene.structures] + [w.wire_height + w.exclusion + 0.3
+                                                                     for w in scene.lines]
+    z_hi = max([z_head] + [min(z, z_head + 5.0) for z in overhead])
+    z_lo = -0.6
+    s0 = min(region.w / (2 * y_half), region.h / (z_hi - z_lo))
+    roof_y = region.bottom + z_lo * s0 - roof * s0
+    scale = s0 * zoom / DEFAULT_ZOOM
+    return EndCamera("end", scale, size[0], size[1], 0, region.x + region.w / 2, roof_y + roof * scale)
+
+
+def draw(canvas, playback, t: float, view, cam: EndCamera, layout, area: Box) -> None:
+    """The end view at time t."""
+    tr, scene = playback.trajectory, playback.scene
+    i = tr.index_at(t)
+    failure = playback.summary.get("first_failure")
+    failed = failure is not None and t >= failure["time_s"] - 1e-9
+    x = section_x(tr, i)
+    near = nearby_overhead(scene, x + float(tr.field("distance")[i]))
+    car, ahead = section_car(scene, x)
+    draw_backdrop(canvas, cam)
+    draw_overhead(canvas, cam, near)
+    draw_car(canvas, cam, car, faint=ahead != 0)
+    draw_track(canvas, cam)
+    draw_zone_edges(canvas, cam, near)
+    keep_clear(layout, tr, i, view, cam, car if ahead == 0 else None)
+    draw_trail(canvas, tr, i, view, cam)
+    if failed:
+        draw_failure(canvas, playback, failure, cam, layout, area)
+    draw_figure(canvas, tr, i, cam)
+    draw_vectors(canvas, tr, i, view, cam)
+    draw_side_words(canvas, cam, car, layout, area)
+    draw_car_name(canvas, cam, car, ahead, scene.units, layout, area)
+    draw_overhead_labels(canvas, cam, near, scene.units, layout, area)
+    draw_facts(canvas, tr, i, cam, car if ahead == 0 else None, layout, area)
+
+
+# ------------------------------------------------------------------ where
+
+def section_x(tr, i: int) -> float:
+    """Car-frame x of the section: the body's centre of mass (its last known place if it has none)."""
+    x = tr.com_path3[:i + 1, 0]
+    x = x[np.isfinite(x)]
+    return float(x[-1]) if x.size else float(tr.scene.start_x)
+
+
+def section_car(scene, x: float):
+    """The car cut by the section and 0; over a gap or behind the consist, the nearest car ahead (seen
+    in the distance, looking forward) and how far ahead it is (m, > 0); ahead of the consist, its lead
+    car and how far behind the section it is (m, < 0)."""
+    k = scene.car_at(x)
+    if k is not None:
+        return scene.cars[k], 0.0
+    ahead = [c for c in scene.cars if c.rear_x > x]
+    if not ahead:
+        lead = max(scene.cars, key=lambda c: c.front_x)
+        return lead, lead.front_x - x
+    car = min(ahead, key=lambda c: c.rear_x - x)
+    return car, car.rear_x - x
+
+
+def nearby_overhead(scene, x_ground: float) -> list[tuple]:
+    """(kind, item, distance) for each structure and line near the section: distance > 0 ahead,
+    0 overhead now, < 0 passed (m, ground frame)."""
+    out = []
+    for kind, items in (("structure", scene.structures), ("line", scene.lines)):
+        for item in items:
+            x0, x1 = (item.x_start, item.x_start + item.span) if kind == "structure" else (item.x_start, item.x_end)
+            d = x0 - x_ground if x_ground < x0 else (x1 - x_ground if x_ground > x1 else 0.0)
+            if -BEHIND <= d <= AHEAD:
+                out.append((kind, item, d))
+    return out
+
+
+# ---------------------------------------------------------------- shapes
+
+def draw_backdrop(canvas, cam: EndCamera) -> None:
+    canvas.tag = "backdrop"
+    canvas.rect(0, cam.top, cam.width, cam.height, SKY)
+    rail_y = cam.to_screen(0.0, 0.0)[1]
+    bottom = cam.top + cam.height
+    if rail_y < bottom:
+        canvas.rect(0, rail_y, cam.width, bottom - rail_y, GROUND_TONE)
+        canvas.line((0, rail_y), (cam.width, rail_y), SOFT_INK, 2)
+
+
+def draw_overhead(canvas, cam: EndCamera, near) -> None:
+    """Decks over the whole width (solid when overhead now, faint when ahead or passed) and the
+    lines' exclusion zones as faint discs round the wire, centred over the track."""
+    canvas.tag = "structures"
+    for kind, item, d in near:
+        if kind == "structure":
+            _, soffit = cam.to_screen(0.0, item.soffit)
+            _, top = cam.to_screen(0.0, item.soffit + DECK)
+            canvas.rect(0, top, cam.width, soffit - top, STRUCTURE, alpha=255 if d == 0 else 70)
+            canvas.line((0, soffit), (cam.width, soffit), INK if d == 0 else FAINT, 2)
+        else:
+            centre = cam.to_screen(0.0, item.wire_height)
+            canvas.circle(centre, item.exclusion * cam.scale, ZONE_FILL)
+            canvas.circle(centre, 4, FAILURE)
+
+
+def draw_zone_edges(canvas, cam: EndCamera, near) -> None:
+    """The exclusion zones' edges over the car (a roof inside a zone shows so)."""
+    canvas.tag = "structures"
+    for kind, item, d in near:
+        if kind == "line":
+            centre = cam.to_screen(0.0, item.wire_height)
+            canvas.circle(centre, item.exclusion * cam.scale, FAILURE if d == 0 else LINE_ZONE, 2)
+            canvas.circle(centre, 4, FAILURE)
+
+
+def roof_points(car, n: int = 25) -> list[tuple[float, float]]:
+    """(y, z) along the roof from the right edge to the left, m."""
+    ys = np.linspace(-car.width / 2, car.width / 2, n)
+    return [(float(y), float(car.roof_z(y))) for y in ys]
+
+
+def draw_car(canvas, cam: EndCamera, car, faint: bool = False) -> None:
+    """The car cut across: wheels and bogie frame, then the body with its crowned roof and side edges.
+    A car seen ahead of the section (over a gap) is a faint outline only."""
+    canvas.tag = "consist"
+    if car is None:
+        return
+    roof = [cam.to_screen(y, z) for y, z in roof_points(car)]
+    body_pts = ([cam.to_screen(-car.width / 2, car.body_bottom)] + roof + [cam.to_screen(car.width / 2,
+                                                                                         car.body_bottom)])
+    if faint:
+        canvas.polygon(body_pts, FAINT, 2)
+        return
+    for side in (-1, 1):
+        x0, y0 = cam.to_screen(side * GAUGE / 2 + 0.07, WHEEL)
+        x1, y1 = cam.to_screen(side * GAUGE / 2 - 0.07, 0.0)
+        canvas.rect(min(x0, x1), y0, abs(x1 - x0), y1 - y0, CAR_EDGE)
+    x0, y0 = cam.to_screen(GAUGE / 2 + 0.25, 0.75)
+    x1, y1 = cam.to_screen(-GAUGE / 2 - 0.25, 0.45)
+    canvas.rect(x0, y0, x1 - x0, y1 - y0, CAR_EDGE)
+    canvas.polygon(body_pts, CAR_BODY)
+    canvas.polygon(body_pts, CAR_EDGE, 2)
+    canvas.polyline(roof, INK, 3)
+    for y in (-car.width / 2, car.width / 2):   # the side edges
+        ex, ey = cam.to_screen(y, car.roof_z(y))
+        canvas.line((ex, ey - 6), (ex, ey + 8), INK, 3)
+
+
+def draw_track(canvas, cam: EndCamera) -> None:
+    """Sleeper and the two rails at rail level."""
+    canvas.tag = "scenery"
+    x0, y0 = cam.to_screen(GAUGE / 2 + 0.55, 0.0)
+    x1, y1 = cam.to_screen(-GAUGE / 2 - 0.55, -0.12)
+    canvas.rect(x0, y0, x1 - x0, y1 - y0, FAINT)
+    for side in (-1, 1):
+        rx, ry = cam.to_screen(side * GAUGE / 2 + 0.04, 0.15)
+        canvas.rect(rx, ry, max(2.0, 0.08 * cam.scale), 0.15 * cam.scale, CAR_EDGE)
+
+
+def keep_clear(layout, tr, i: int, view, cam: EndCamera, car) -> None:
+    """The figure (with room round it), the apparent wind arrow above it and the car's section are
+    kept free of labels."""
+    pts = tr.ends3(i).reshape(-1, 3)
+    pad = 0.2 * cam.scale
+    if np.isfinite(pts).all():
+        _reserve_around(layout, [cam.to_screen(y, z) for _, y, z in pts], pad)
+        r, com = tr.record[i], tr.com_path3[i]
+        if "wind" in view.vectors and math.isfinite(r["app_y"]) and np.isfinite(com).all():
+            head = (float(com[1]), float(com[2]) + 1.3)
+            tail = (head[0] - float(r["app_y"]) / WIND_PER_METRE, head[1] - _or0(r["app_z"]) / WIND_PER_METRE)
+            _reserve_around(layout, [cam.to_screen(*head), cam.to_screen(*tail)], 8)
+    if car is not None:
+        x0, y0 = cam.to_screen(car.width / 2, car.roof_height)
+        x1, y1 = cam.to_screen(-car.width / 2, car.body_bottom)
+        layout.reserve(Box(x0, y0 - 8, x1 - x0, y1 - y0 + 8))
+
+
+def _reserve_around(layout, points, pad: float) -> None:
+    xy = np.array(points)
+    (x0, y0), (x1, y1) = xy.min(axis=0) - pad, xy.max(axis=0) + pad
+    layout.reserve(Box(x0, y0, x1 - x0, y1 - y0))
+
+
+# ---------------------------------------------------------------- figure
+
+FAR = (body.UARM_F, body.FARM_F, body.THIGH_F, body.SHANK_F, body.FOOT_F)
+
+
+def struck_out(tr, i: int) -> bool:
+    """Whether the body is out of the run at step i because a structure or line struck it."""
+    strike = tr.events[Event.STRIKE]["time"]
+    return int(tr.field("mode")[i]) == Mode.GONE and math.isfinite(strike) and tr.times[i] >= strike
+
+
+def screen_ends(tr, i: int, cam: EndCamera) -> np.ndarray:
+    """(12, 2, 2) segment ends in pixels: across (y) and up (z)."""
+    ends = tr.ends3(i)
+    return np.array([[cam.to_screen(p[1], p[2]) for p in seg] for seg in ends])
+
+
+def draw_figure(canvas, tr, i: int, cam: EndCamera, ghost: bool = False) -> None:
+    """The stick figure seen from behind (or the front), limbs of the left side lighter as in the side
+    view; shoulders and hips joined across. A body struck out of the run is shown by its ghost only."""
+    canvas.tag = "ghost" if ghost else "figure"
+    if not np.isfinite(tr.ends3(i)).all():
+        return
+    if not ghost and struck_out(tr, i):
+        return
+    pts = screen_ends(tr, i, cam)
+    stature_px = tr.scene.performer.stature * cam.scale
+    thin, thick = max(2, int(stature_px * 0.02)), max(2, int(stature_px * 0.035))
+    ink = FAINT if ghost else INK
+    for s in list(FAR) + [s for s in range(body.N_SEGMENTS) if s not in FAR and s != body.HEAD]:
+        colour = FAINT if ghost else (FAR_LIMB if s in FAR else INK)
+        canvas.line(pts[s, 0], pts[s, 1], colour, thick if s == body.TRUNK else thin)
+    canvas.line(pts[body.UARM_N, 0], pts[body.UARM_F, 0], ink, thin)     # shoulders
+    canvas.line(pts[body.THIGH_N, 0], pts[body.THIGH_F, 0], ink, thin)   # hips
+    neck, top = pts[body.HEAD, 0], pts[body.HEAD, 1]
+    head_c = (neck[0] + 0.6 * (top[0] - neck[0]), neck[1] + 0.6 * (top[1] - neck[1]))
+    radius = 0.4 * math.hypot(top[0] - neck[0], top[1] - neck[1])
+    canvas.line(neck, head_c, ink, thin)
+    canvas.circle(head_c, radius, ink, max(2, int(stature_px * 0.015)))
+    if not ghost and tr.field("mode")[i] == Mode.GONE:   # lying along the track it is small end-on: ringed
+        com = tr.com_path3[i]
+        canvas.circle(cam.to_screen(float(com[1]), float(com[2])), max(12.0, 0.5 * cam.scale), INK, 1)
+
+
+def draw_trail(canvas, tr, i: int, view, cam: EndCamera) -> None:
+    """The centre of mass across and up over the last few seconds, or the whole current flight."""
+    canvas.tag = "trail"
+    mode = tr.field("mode")
+    start = max(0, i - max(1, int(view.trail_seconds / tr.scene.step)))
+    if mode[i] in (Mode.FLIGHT, Mode.GONE):
+        grounded = np.nonzero(np.isin(mode[:i + 1], (Mode.PLANTED, Mode.SLIDING, Mode.DOWN)))[0]
+        start = min(start, int(grounded[-1]) if grounded.size else 0)
+    com = tr.com_path3[start:i + 1:4]
+    points = [cam.to_screen(y, z) for _, y, z in com if math.isfinite(y) and math.isfinite(z)]
+    canvas.polyline(points, TRAIL, 2)
+
+
+# --------------------------------------------------------------- vectors
+
+def draw_vectors(canvas, tr, i: int, view, cam: EndCamera) -> None:
+    """The loads in the frontal plane, to the side views' scale: weight, air load and pseudo-force at
+    the centre of mass, the roof's reaction and the friction it must supply at the contact, and the
+    apparent wind above the head."""
+    r = tr.record[i]
+    com = tr.com_path3[i]
+    mode = int(r["mode"])
+    if not np.isfinite(com).all() or mode == Mode.GONE:
+        return
+    at = (float(com[1]), float(com[2]))
+    if mode in (Mode.PLANTED, Mode.SLIDING) and "balance" in view.vectors:
+        draw_balance(canvas, r, at, cam)
+    if "weight" in view.vectors:
+        force_arrow(canvas, cam, at, (0.0, -tr.weight), WEIGHT, "weight")
+    if "aero" in view.vectors and math.isfinite(r["aero_y"]):
+        force_arrow(canvas, cam, at, (float(r["aero_y"]), _or0(r["aero_z"])), AERO, "aero")
+    on_roof = mode in (Mode.PLANTED, Mode.SLIDING, Mode.DOWN)
+    if on_roof and "reaction" in view.vectors and math.isfinite(r["pivot_y"]):
+        base = (float(r["pivot_y"]), float(r["contact_z"]))
+        force_arrow(canvas, cam, base, (0.0, _or0(r["normal"])), REACTION, "normal", push=True, shift=REACTION_OFFSET)
+        force_arrow(canvas, cam, base, (_or0(r["need_y"]), 0.0), REACTION, "friction", push=True)
+    pseudo = -tr.params["mass"] * _or0(r["accel_y"])
+    if "pseudo" in view.vectors and abs(pseudo) > 1.0:
+        force_arrow(canvas, cam, at, (pseudo, 0.0), PSEUDO, "pseudo")
+    if "wind" in view.vectors and math.isfinite(r["app_y"]):
+        canvas.tag = "wind"
+        head = (at[0], at[1] + 1.3)
+        w = (float(r["app_y"]), _or0(r["app_z"]))
+        tail = cam.to_screen(head[0] - w[0] / WIND_PER_METRE, head[1] - w[1] / WIND_PER_METRE)
+        canvas.arrow(tail, cam.to_screen(*head), WIND, 2)
+
+
+def _or0(value) -> float:
+    value = float(value)
+    return value if math.isfinite(value) else 0.0
+
+
+def draw_balance(canvas, r, com, cam: EndCamera) -> None:
+    """Centre of mass, the support across the roof under the pivot (its half-width each side), a faint
+    upright from the contact to read the sideways lean against, and the extrapolated centre of mass
+    across: green inside the support, red outside."""
+    canvas.tag = "balance"
+    pivot, roof, half = float(r["pivot_y"]), float(r["contact_z"]), float(r["half_width"])
+    if not (math.isfinite(pivot) and math.isfinite(roof)):
+        return
+    canvas.line(cam.to_screen(pivot, roof), cam.to_screen(pivot, roof + 1.0), FAINT, 1)
+    canvas.circle(cam.to_screen(*com), 5, INK, 0)
+    if math.isfinite(half):
+        canvas.line(cam.to_screen(pivot - half, roof - 0.03), cam.to_screen(pivot + half, roof - 0.03), HOLDS, 4)
+    xcom = float(r["xcom_y"])
+    if math.isfinite(xcom):
+        px, py = cam.to_screen(pivot + xcom, roof - 0.03)
+        colour = HOLDS if not math.isfinite(half) or abs(xcom) <= half else FAILURE
+        canvas.polygon([(px, py - 2), (px - 6, py + 10), (px + 6, py + 10)], colour)
+
+
+def draw_failure(canvas, playback, failure, cam: EndCamera, layout, area: Box) -> None:
+    """The figure's ghost at the first failure and the side view's marker and callout, placed across
+    at the contact (or, in the air, the centre of mass) and up at the centre of mass."""
+    tr = playback.trajectory
+    k = tr.index_at(failure["time_s"])
+    draw_figure(canvas, tr, k, cam, ghost=True)
+    com = tr.com_path3[k]
+    y = float(tr.field("pivot_y")[k])
+    y = y if math.isfinite(y) else float(com[1])
+    z = float(com[2])
+    if not (math.isfinite(y) and math.isfinite(z)):
+        return
+    px, py = cam.to_screen(y, z)
+    px, py = min(max(px, area.x + 20), area.right - 20), min(max(py, area.y + 20), area.bottom - 20)
+    draw_failure_callout(canvas, failure, px, py, layout, area, beside=True)
+
+
+# ---------------------------------------------------------------- labels
+
+def _label(canvas, words: str, colour, candidates, layout, area: Box, tag: str, boxed: bool = True) -> Box:
+    """One label placed where it covers nothing (on a panel-coloured box when `boxed`)."""
+    canvas.tag = tag
+    ts = label_size(canvas)
+    words = fit(words, ts, area.w - 16)
+    w, h = canvas_measure(words, ts)
+    box = layout.place(w + 6, h + 4, candidates, area)
+    if boxed:
+        canvas.rect(box.x, box.y, box.w, box.h, PANEL)
+    canvas.text((box.x + 3, box.y + 2), words, colour, ts)
+    return box
+
+
+def draw_side_words(canvas, cam: EndCamera, car, layout, area: Box) -> None:
+    """'left of travel' and 'right of travel' on the ground beside the car, so the view reads at a glance."""
+    half = car.width / 2 if car is not None else 1.4
+    for side, words in ((1, "◀ left of travel"), (-1, "right of travel ▶")):
+        px, py = cam.to_screen(side * (half + 0.4), -0.15)
+        w = canvas_measure(words, label_size(canvas))[0] + 6
+        x = px - w if side > 0 else px
+        _label(canvas, words, INK, [(x, py), (x, py - 30)], layout, area, "end-labels")
+
+
+def draw_car_name(canvas, cam: EndCamera, car, ahead: float, units: str, layout, area: Box) -> None:
+    """The car cut by the section, named in its body, or the car seen ahead over a gap with its distance."""
+    if car is None:
+        return
+    if ahead != 0:
+        where = "ahead" if ahead > 0 else "behind, the body is ahead of the consist"
+        words = f"no roof here: {car.name} {display(abs(ahead), 'length', units, '.1f')} {where}"
+        px, py = cam.to_screen(0.0, car.roof_height + 0.3)
+        w = canvas_measure(words, label_size(canvas))[0]
+        _label(canvas, words, SOFT_INK, [(px - w / 2, py - 24), (px - w / 2, py + 30)], layout, area, "end-labels")
+        return
+    canvas.tag = "consist"
+    ts = label_size(canvas) + 1
+    px, py = cam.to_screen(0.0, 0.5 * (car.roof_height + car.body_bottom))
+    name = fit(car.name, ts, car.width * cam.scale - 12)
+    if name:
+        canvas.text((px, py), name, CAR_EDGE, ts, anchor="center")
+
+
+def draw_overhead_labels(canvas, cam: EndCamera, near, units: str, layout, area: Box) -> None:
+    """Each structure or line near the performer: its height and how far ahead it is (or that it is overhead)."""
+    for kind, item, d in near:
+        spec = ".0f" if abs(d) >= 10 else ".1f"
+        when = ("overhead now" if d == 0 else f"{display(d, 'length', units, spec)} ahead" if d > 0 else
+                f"passed, {display(-d, 'length', units, spec)} behind")
+        if kind == "structure":
+            words = f"{item.name}, soffit {display(item.soffit, 'length', units)}: {when}"
+            z = item.soffit + DECK
+        else:
+            words = (f"overhead line, wire {display(item.wire_height, 'length', units)}, exclusion "
+                     f"{display(item.exclusion, 'length', units)}: {when}")
+            z = item.wire_height + item.exclusion
+        px, py = cam.to_screen(0.0, z)
+        _label(canvas, words, INK if d == 0 else SOFT_INK, [(px + 0.5 * cam.scale, py - 26), (area.right - 400, py + 4),
+                                                           (px + 0.5 * cam.scale, py + 4)], layout, area, "structures")
+
+
+def fact_lines(tr, i: int, car, units: str) -> list[str]:
+    """A few words on the body across the track at step i: lean, margins, or where it is off the roof
+    (`car`: the car cut by the section, None over a gap or off the consist)."""
+    r = tr.record[i]
+    mode = int(r["mode"])
+    num = lambda name: float(r[name])  # noqa: E731
+    side = lambda y: "left" if y > 0 else "right"  # noqa: E731
+    if mode in (Mode.PLANTED, Mode.SLIDING):
+        out = []
+        if math.isfinite(num("roll")):
+            need = num("roll_required")
+            needs = f", needs {math.degrees(need):+.1f}°" if math.isfinite(need) else ""
+            out.append(f"sideways lean {math.degrees(num('roll')):+.1f}° (+ toward the left){needs}")
+        for name, words in (("frontal_margin", "balance margin across"), ("edge_margin", "support to the side edge")):
+            if math.isfinite(num(name)):
+                out.append(f"{words} {display(num(name), 'length', units, '+.2f')}")
+        if math.isfinite(num("slide_speed_y")) and abs(num("slide_speed_y")) > 0.01:
+            out.append(f"sliding across the roof at {display(abs(num('slide_speed_y')), 'wind', units)}")
+        return out
+    if mode == Mode.DOWN:
+        return ["down on the roof"]
+    y, z = float(tr.com_path3[i, 1]), float(tr.com_path3[i, 2])
+    if not (math.isfinite(y) and math.isfinite(z)):
+        return []
+    if mode == Mode.FLIGHT:
+        if car is None:
+            where = "no roof beneath"
+        elif abs(y) > car.width / 2:
+            where = f"{display(abs(y) - car.width / 2, 'length', units)} beyond the {side(y)} side edge"
+        else:
+            where = f"over {car.name}'s roof"
+        return [f"in the air: {where}, {display(z, 'length', units)} above rail"]
+    if mode == Mode.GONE:
+        return [f"on the ground, {display(abs(y), 'length', units)} {side(y)} of the track's centreline"]
+    return []
+
+
+def draw_facts(canvas, tr, i: int, cam: EndCamera, car, layout, area: Box) -> None:
+    """The fact lines in one box to the right of the car, at roof height."""
+    lines = fact_lines(tr, i, car, tr.scene.units)
+    if not lines or struck_out(tr, i):
+        return
+    canvas.tag = "end-facts"
+    ts = label_size(canvas)
+    lines = [fit(line, ts, area.w / 2) for line in lines]
+    w = max(canvas_measure(line, ts)[0] for line in lines) + 12
+    lh = ts + 5
+    h = lh * len(lines) + 8
+    half = car.width / 2 if car is not None else 1.4
+    px, py = cam.to_screen(-half - 0.6, (car.roof_height if car is not None else tr.scene.cars[0].roof_height) + 0.8)
+    spots = [(px, py - h), (px, py + 10), (area.right - w - 10, area.bottom - h - 10)]
+    com = tr.com_path3[i]
+    if int(tr.field("mode")[i]) in (Mode.FLIGHT, Mode.GONE) and np.isfinite(com).all():
+        bx, by = cam.to_screen(float(com[1]), float(com[2]))   # off the roof: the words beside the body
+        spots = [(bx + 24, by - h - 24), (bx - w - 24, by - h - 24), (bx - w / 2, by - h - 40)] + spots
+    box = layout.place(w, h, spots, area)
+    canvas.rect(box.x, box.y, box.w, box.h, PANEL)
+    for k, line in enumerate(lines):
+        canvas.text((box.x + 6, box.y + 4 + lh * k), line, INK, ts)
+
+
+# ---------------------------------------------------------------- legend
+
+def legend_rows(view, units: str, px_per_m: float | None) -> list[tuple]:
+    """The end view's legend: the vector keys it draws, its paths and zones, the scale bars, the timeline."""
+    from preview.panels import VECTOR_LEGEND, bar_row, timeline_legend_rows
+    rows = [("vector", (key, colour if name in view.vectors else FAINT, words))
+            for key, name, colour, words in VECTOR_LEGEND if name != "segments"]
+    rows.append(("trail", (TRAIL, f"centre of mass, last {view.trail_seconds:g} s")))
+    rows.append(bar_row(FORCE_PER_METRE, "force", INK, "(every force)", units, px_per_m))
+    rows.append(bar_row(WIND_PER_METRE, "wind", WIND, "(apparent wind)", units, px_per_m))
+    rows.append(bar_row(1.0, "length", SOFT_INK, "(lengths)", units, px_per_m))
+    rows.append(("zone", (LINE_ZONE, "overhead line exclusion zone")))
+    rows.append(("zone", (STRUCTURE, "structure deck over the track")))
+    return rows + timeline_legend_rows()

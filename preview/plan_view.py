@@ -1,0 +1,428 @@
+"""The plan view: the consist's roofs from above in the car frame, x along the
+track to the right (travel →) and y across it with the left of travel at the
+top.
+
+It shows every roof as its outline with its side edges and the gaps between
+cars, structures and overhead lines as they pass over, the path of the body
+(the contact point on the roof, the centre of mass in the air) up to now and,
+faint, the rest of it, the figure as seen from above, a jump's take-off,
+landing zone and where it came down, where the body went over a side edge or
+came down on the ground, and the first failure with the side view's marker
+and callout. The framing is fixed for the whole beat (the whole path fits),
+so the plan reads as a map. Every position comes from the recorded trajectory.
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass
+
+import numpy as np
+
+from physics import body
+from physics.records import Event, Mode
+from physics.units import display
+from preview.end_view import FAR, struck_out
+from preview.layout import Box, fit
+from preview.palette import (CAR_BODY, CAR_EDGE, FAILURE, FAINT, FAR_LIMB, GROUND_TONE, HOLDS, INK, LANDING_ZONE,
+                             LINE_ZONE, PANEL, SOFT_INK, STRUCTURE, TRAIL)
+from preview.world import (canvas_measure, draw_failure_callout, draw_landing_mark, draw_takeoff_mark, label_size)
+
+DEFAULT_ZOOM = 1.5     # ViewSettings' default zoom: the fitted picture
+GAUGE = 1.435          # m between the rails, drawing value
+BED = 1.7              # m: half-width of the track bed drawn under the cars, drawing value
+MIN_SPAN = 16.0        # m of track at least in the picture
+ROOF, AIR = 1, 2       # what a step of the path is
+
+
+@dataclass(frozen=True)
+class PlanCamera:
+    """Along (x, car frame) and across (y, + left of travel) the track, metres <-> pixels, from above."""
+
+    frame: str
+    scale: float       # pixels per metre
+    width: int
+    height: int
+    top: int
+    x_center: float    # car-frame x at origin_x
+    origin_x: float
+    origin_y: float    # screen y of the track's centreline (y = 0)
+    left: float = 0.0  # screen x where the fitted drawing begins (beside the readout)
+
+    def to_screen(self, x: float, y: float) -> tuple[float, float]:
+        return (self.origin_x + (x - self.x_center) * self.scale, self.origin_y - y * self.scale)
+
+
+# ------------------------------------------------------------------ path
+
+def path_points(tr) -> np.ndarray:
+    """(T, 2) the body seen from above, car frame (m): the contact on the roof, the centre of mass in
+    the air; NaN on the ground or out of the run."""
+    rec = tr.record
+    on = np.isfinite(rec["pivot_x"]) & np.isfinite(rec["pivot_y"])
+    air = (rec["mode"] == Mode.FLIGHT) & np.isfinite(rec["flight_x"]) & np.isfinite(rec["flight_y"])
+    x = np.where(on, rec["pivot_x"], np.where(air, rec["flight_x"], np.nan))
+    y = np.where(on, rec["pivot_y"], np.where(air, rec["flight_y"], np.nan))
+    return np.stack([x, y], axis=-1)
+
+
+def path_kinds(tr) -> np.ndarray:
+    """(T,) ROOF, AIR or 0 for each step of the path."""
+    pts = path_points(tr)
+    finite = np.isfinite(pts).all(axis=-1)
+    on = np.isfinite(tr.record["pivot_x"])
+    return np.where(finite & on, ROOF, np.where(finite, AIR, 0))
+
+
+def runs(kinds: np.ndarray, lo: int, hi: int) -> list[tuple[int, int, int]]:
+    """(kind, start, stop) of each stretch of one kind (not 0) between steps lo and hi."""
+    part = kinds[lo:hi]
+    if part.size == 0:
+        return []
+    cuts = np.concatenate([[0], np.flatnonzero(np.diff(part)) + 1, [part.size]])
+    return [(int(part[a]), lo + int(a), lo + int(b)) for a, b in zip(cuts[:-1], cuts[1:]) if part[a]]
+
+
+def ground_index(tr) -> int | None:
+    """The first step the body lies on the ground off the consist (not struck out of the run), or None."""
+    gone = np.flatnonzero(tr.field("mode") == Mode.GONE)
+    if not gone.size or struck_out(tr, int(gone[0])):
+        return None
+    return int(gone[0]) if np.isfinite(tr.com_path3[gone[0]]).all() else None
+
+
+# ---------------------------------------------------------------- camera
+
+def camera(tr, t: float, size, region: Box, zoom: float = DEFAULT_ZOOM) -> PlanCamera:
+    """The plan's camera: the whole path (and where the body came down) with a margin, at least
+    MIN_SPAN of track, and room across for the widest roof and the farthest the body goes; zoomed
+    in, it keeps the body in the picture."""
+    scene = tr.scene
+    pts = path_points(tr)
+    pts = pts[np.isfinite(pts).all(axis=-1)]
+    g = ground_index(tr)
+    if g is not None:
+        pts = np.vstack([pts, tr.com_path3[g, :2]])
+    if not pts.size:
+        pts = np.array([[scene.start_x, scene.start_y]])
+    x_lo, x_hi = float(pts[:, 0].min()) - 3.0, float(pts[:, 0].max()) + 3.0
+    mid = 0.5 * (x_lo + x_hi)
+    span = max(MIN_SPAN, x_hi - x_lo)
+    y_half = max(max(c.width for c in scene.cars) / 2 + 1.3, float(np.abs(pts[:, 1]).max()) + 0.9)
+    s0 = min(region.w / span, region.h / (2 * y_half))
+    scale = s0 * zoom / DEFAULT_ZOOM
+    room = max(0.0, region.w / 2 / scale - 2.0)
+    now = _current_point(tr, tr.index_at(t), pts)
+    centre = min(max(mid, now[0] - room), now[0] + room) if scale > s0 else mid
+    return PlanCamera("plan", scale, size[0], size[1], 0, centre, region.x + region.w / 2,
+                      region.y + region.h / 2, region.x)
+
+
+def _current_point(tr, i: int, fallback: np.ndarray) -> tuple[float, float]:
+    p = path_points(tr)[i]
+    if np.isfinite(p).all():
+        return float(p[0]), float(p[1])
+    com = tr.com_path3[i]
+    if np.isfinite(com[:2]).all():
+        return float(com[0]), float(com[1])
+    return float(fallback[-1, 0]), float(fallback[-1, 1])
+
+
+# ------------------------------------------------------------------ draw
+
+def draw(canvas, playback, t: float, view, cam: PlanCamera, layout, area: Box) -> None:
+    """The plan view at time t."""
+    tr, scene = playback.trajectory, playback.scene
+    i = tr.index_at(t)
+    failure = playback.summary.get("first_failure")
+    failed = failure is not None and t >= failure["time_s"] - 1e-9
+    draw_bed(canvas, cam)
+    draw_cars(canvas, scene, cam)
+    draw_overhead(canvas, scene, cam, float(tr.field("distance")[i]))   # over the roofs, see-through
+    keep_clear(layout, tr, i, scene, cam, area)
+    draw_landing_zones(canvas, scene, t, cam)
+    draw_path(canvas, tr, i, cam)
+    draw_jumps(canvas, playback, t, cam, layout, area)
+    draw_off_side(canvas, tr, t, failure, cam, layout, area)
+    draw_ground(canvas, tr, i, cam, layout, area)
+    if failed:
+        draw_failure(canvas, tr, failure, cam, layout, area)
+    draw_figure(canvas, tr, i, cam)
+    draw_car_words(canvas, scene, cam, layout, area)
+    draw_overhead_labels(canvas, scene, cam, float(tr.field("distance")[i]), layout, area)
+
+
+def draw_bed(canvas, cam: PlanCamera) -> None:
+    """The track bed and the rails under the consist, across the whole picture."""
+    canvas.tag = "scenery"
+    _, top = cam.to_screen(0.0, BED)
+    _, bottom = cam.to_screen(0.0, -BED)
+    canvas.rect(0, top, cam.width, bottom - top, GROUND_TONE)
+    for side in (-1, 1):
+        _, y = cam.to_screen(0.0, side * GAUGE / 2)
+        canvas.line((0, y), (cam.width, y), FAINT, 2)
+
+
+def _in_view(cam: PlanCamera, x0: float, x1: float) -> bool:
+    a, b = cam.to_screen(x0, 0.0)[0], cam.to_screen(x1, 0.0)[0]
+    return b >= 0 and a <= cam.width
+
+
+def draw_overhead(canvas, scene, cam: PlanCamera, distance: float) -> None:
+    """Structures passing over (a band across the picture) and overhead lines (the wire over the
+    track's centre with its exclusion distance either side), where they are over the consist now."""
+    canvas.tag = "structures"
+    for s in scene.structures:
+        x0, x1 = s.x_start - distance, s.x_start + s.span - distance
+        if _in_view(cam, x0, x1):
+            a, b = cam.to_screen(x0, 0.0)[0], cam.to_screen(x1, 0.0)[0]
+            canvas.rect(a, cam.top, b - a, cam.height, STRUCTURE, alpha=90)
+    for line in scene.lines:
+        x0, x1 = line.x_start - distance, line.x_end - distance
+        if _in_view(cam, x0, x1):
+            (a, top), (b, bottom) = cam.to_screen(x0, line.exclusion), cam.to_screen(x1, -line.exclusion)
+            canvas.rect(a, top, b - a, bottom - top, LINE_ZONE, alpha=110)
+            canvas.line(cam.to_screen(x0, 0.0), cam.to_screen(x1, 0.0), FAILURE, 2)
+
+
+def roof_box(car, cam: PlanCamera) -> Box:
+    (x0, y0), (x1, y1) = cam.to_screen(car.rear_x, car.width / 2), cam.to_screen(car.front_x, -car.width / 2)
+    return Box(x0, y0, x1 - x0, y1 - y0)
+
+
+def draw_cars(canvas, scene, cam: PlanCamera) -> None:
+    """Each roof: its outline, its side edges in ink and, on a crowned roof, its ridge faint."""
+    canvas.tag = "consist"
+    for car in scene.cars:
+        b = roof_box(car, cam)
+        if b.right < 0 or b.x > cam.width:
+            continue
+        canvas.rect(b.x, b.y, b.w, b.h, CAR_BODY)
+        canvas.rect(b.x, b.y, b.w, b.h, CAR_EDGE, width=2)
+        canvas.line((b.x, b.y), (b.right, b.y), INK, 3)
+        canvas.line((b.x, b.bottom), (b.right, b.bottom), INK, 3)
+        if car.crown > 0:
+            canvas.line((b.x + 4, b.y + b.h / 2), (b.right - 4, b.y + b.h / 2), FAINT, 1)
+
+
+def keep_clear(layout, tr, i: int, scene, cam: PlanCamera, area: Box) -> None:
+    """The roofs in the picture and the figure are kept free of labels."""
+    for car in scene.cars:
+        b = roof_box(car, cam)
+        x0, x1 = max(b.x, area.x), min(b.right, area.right)
+        if x1 > x0:
+            layout.reserve(Box(x0, b.y, x1 - x0, b.h))
+    p = _current_point(tr, i, np.array([[scene.start_x, scene.start_y]]))
+    px, py = cam.to_screen(*p)
+    r = max(14.0, 0.8 * cam.scale)
+    layout.reserve(Box(px - r, py - r, 2 * r, 2 * r))
+
+
+def draw_landing_zones(canvas, scene, t: float, cam: PlanCamera) -> None:
+    """A jump's landing roof tinted, its ends marked, once the jump is under way (as the side view)."""
+    canvas.tag = "jump"
+    for action in scene.actions:
+        if action.kind != "jump" or action.landing_car is None or action.start > t:
+            continue
+        b = roof_box(scene.cars[action.landing_car], cam)
+        canvas.rect(b.x, b.y, b.w, b.h, LANDING_ZONE, alpha=170)
+        for x in (b.x, b.right):
+            canvas.line((x, b.y - 6), (x, b.bottom + 6), HOLDS, 2)
+
+
+def draw_path(canvas, tr, i: int, cam: PlanCamera) -> None:
+    """The path still to come faint, then the path so far over it: a line on the roof, dots in the air."""
+    canvas.tag = "path"
+    pts, kinds = path_points(tr), path_kinds(tr)
+    dot_every = max(1, int(0.05 / tr.scene.step))
+    for lo, hi, colour, width in ((i, kinds.size, SOFT_INK, 1), (0, i + 1, TRAIL, 3)):
+        for kind, a, b in runs(kinds, lo, hi):
+            seg = pts[a:b]
+            if kind == ROOF:
+                step = max(1, seg.shape[0] // 800)
+                screen = [cam.to_screen(x, y) for x, y in seg[::step]] + [cam.to_screen(*seg[-1])]
+                canvas.polyline(screen, colour, width)
+            else:
+                for x, y in seg[::dot_every]:
+                    canvas.circle(cam.to_screen(x, y), 2 if colour == SOFT_INK else 3, colour)
+
+
+def _y_near(tr, time: float, forward: bool) -> float:
+    """The path's y at a time, or at the nearest step with one (searching forward or back), m."""
+    pts = path_points(tr)[:, 1]
+    k = tr.index_at(time)
+    order = range(k, pts.size) if forward else range(k, -1, -1)
+    for j in order:
+        if math.isfinite(pts[j]):
+            return float(pts[j])
+    return 0.0
+
+
+def draw_jumps(canvas, playback, t: float, cam: PlanCamera, layout, area: Box) -> None:
+    """Each jump under way or done: the side view's take-off mark and where it came down."""
+    scene, tr = playback.scene, playback.trajectory
+    canvas.tag = "jump"
+    for a, action in enumerate(scene.actions):
+        if action.kind != "jump" or action.takeoff_x is None or action.start > t:
+            continue
+        out = tr.outcomes[a]
+        took = float(out["takeoff_time"])
+        ty = _y_near(tr, took if math.isfinite(took) else action.start, forward=False)
+        draw_takeoff_mark(canvas, *cam.to_screen(action.takeoff_x, ty), layout, area)
+        down = float(out["touchdown_time"])
+        if math.isfinite(down) and t >= down and action.landing_car is not None:
+            lx, ly = cam.to_screen(float(out["touchdown_x"]), _y_near(tr, down, forward=True))
+            draw_landing_mark(canvas, scene, scene.cars[action.landing_car], float(out["landing_margin_min"]),
+                              lx, ly, layout, area)
+
+
+def off_side_point(tr) -> tuple[float, float] | None:
+    """Where the body went over a side edge (car frame x, the edge's y), or None."""
+    row = tr.events[Event.OFF_SIDE]
+    if not math.isfinite(row["time"]) or int(row["car"]) < 0:
+        return None
+    side = int(row["side"]) or (1 if _y_near(tr, float(row["time"]), forward=False) > 0 else -1)
+    return float(row["x_car"]), side * tr.scene.cars[int(row["car"])].width / 2
+
+
+def draw_off_side(canvas, tr, t: float, failure, cam: PlanCamera, layout, area: Box) -> None:
+    """A ring where the body went over the side edge, unless that is the first failure (marked in full)."""
+    point = off_side_point(tr)
+    time = float(tr.events[Event.OFF_SIDE]["time"])
+    if point is None or t < time or (failure and failure["kind"] == "off the side"):
+        return
+    canvas.tag = "failure"
+    px, py = cam.to_screen(*point)
+    canvas.circle((px, py), 8, FAILURE, 2)
+    _label(canvas, f"off the side {time:.2f} s", FAILURE, [(px + 12, py + 6), (px + 12, py - 26)], layout, area,
+           "plan-labels")
+
+
+def draw_ground(canvas, tr, i: int, cam: PlanCamera, layout, area: Box) -> None:
+    """Where the body came down on the ground (a cross), and once there, where it lies now: left
+    behind by a moving consist, it may be out of the picture, and a tag says how far back."""
+    g = ground_index(tr)
+    if g is None or i < g:
+        return
+    canvas.tag = "ground"
+    x, y = (float(v) for v in tr.com_path3[g, :2])
+    px, py = cam.to_screen(x, y)
+    for d in (-1, 1):
+        canvas.line((px - 7, py - 7 * d), (px + 7, py + 7 * d), INK, 2)
+    _label(canvas, f"came down on the ground {tr.times[g]:.2f} s", INK, [(px + 12, py + 4), (px + 12, py - 24),
+                                                                         (px - 200, py + 8)], layout, area,
+           "plan-labels")
+    now = tr.com_path3[i]
+    nx = cam.to_screen(float(now[0]), float(now[1]))[0]
+    if nx < area.x:
+        back = (area.x - nx) / cam.scale
+        below = cam.to_screen(0.0, -BED)[1] + 6
+        _label(canvas, f"◀ body on the ground {display(back, 'length', tr.scene.units, '.0f')} back", INK,
+               [(area.x + 4, below), (area.x + 4, below + 24), (area.x + 4, area.bottom - 30)], layout, area,
+               "plan-labels")
+
+
+def draw_failure(canvas, tr, failure, cam: PlanCamera, layout, area: Box) -> None:
+    """The side view's failure marker and callout, at the failure's place on the plan: over the side
+    edge for a fall off the side, else where the body was across the roof."""
+    k = tr.index_at(failure["time_s"])
+    point = off_side_point(tr) if failure["kind"] == "off the side" else None
+    if point is None:
+        y = path_points(tr)[k, 1]
+        y = y if math.isfinite(y) else tr.com_path3[k, 1]
+        point = (failure["x_car_m"], float(y) if math.isfinite(y) else 0.0)
+    px, py = cam.to_screen(*point)
+    px, py = min(max(px, area.x + 20), area.right - 20), min(max(py, area.y + 20), area.bottom - 20)
+    draw_failure_callout(canvas, failure, px, py, layout, area, beside=True)
+
+
+def draw_figure(canvas, tr, i: int, cam: PlanCamera) -> None:
+    """The figure from above (limbs of the left side lighter, as in the side view), the head as a ring,
+    and a thin ring round where it is."""
+    canvas.tag = "figure"
+    ends = tr.ends3(i)
+    if not np.isfinite(ends).all() or struck_out(tr, i):
+        return
+    pts = np.array([[cam.to_screen(p[0], p[1]) for p in seg] for seg in ends])
+    width = max(2, int(0.03 * cam.scale))
+    for s in list(FAR) + [s for s in range(body.N_SEGMENTS) if s not in FAR and s != body.HEAD]:
+        canvas.line(pts[s, 0], pts[s, 1], FAR_LIMB if s in FAR else INK, width)
+    canvas.line(pts[body.UARM_N, 0], pts[body.UARM_F, 0], INK, width)
+    canvas.line(pts[body.THIGH_N, 0], pts[body.THIGH_F, 0], INK, width)
+    head = pts[body.HEAD].mean(axis=0)
+    canvas.circle(head, max(3.0, 0.1 * cam.scale), INK, 2)
+    here = _current_point(tr, i, ends[:, 0, :2])
+    canvas.circle(cam.to_screen(*here), max(10.0, 0.6 * cam.scale), INK, 1)
+
+
+# ---------------------------------------------------------------- labels
+
+def _label(canvas, words: str, colour, candidates, layout, area: Box, tag: str) -> Box:
+    """One label on a panel-coloured box, placed where it covers nothing."""
+    canvas.tag = tag
+    ts = label_size(canvas)
+    words = fit(words, ts, area.w - 16)
+    w, h = canvas_measure(words, ts)
+    box = layout.place(w + 6, h + 4, candidates, area)
+    canvas.rect(box.x, box.y, box.w, box.h, PANEL)
+    canvas.text((box.x + 3, box.y + 2), words, colour, ts)
+    return box
+
+
+def draw_car_words(canvas, scene, cam: PlanCamera, layout, area: Box) -> None:
+    """Car names on their roofs, which side edge is which, and each gap's length."""
+    canvas.tag = "consist"
+    ts = label_size(canvas) + 1
+    seen = [car for car in scene.cars if roof_box(car, cam).right > area.x and roof_box(car, cam).x < area.right]
+    for car in seen:
+        b = roof_box(car, cam)
+        x0, x1 = max(b.x, area.x + 4), min(b.right, area.right - 4)
+        name = fit(car.name, ts, max(0.0, x1 - x0 - 8))
+        if name:
+            canvas.text(((x0 + x1) / 2, b.y + 0.22 * b.h), name, CAR_EDGE, ts, anchor="center")  # clear of a path
+    if seen:
+        b = roof_box(seen[0], cam)
+        x = max(b.x, cam.left) + 8
+        _label(canvas, "left side edge", INK, [(x, b.y - 26), (x + 120, b.y - 26)], layout, area, "plan-labels")
+        _label(canvas, "right side edge", INK, [(x, b.bottom + 6), (x + 120, b.bottom + 6)], layout, area,
+               "plan-labels")
+    for ahead, behind in zip(scene.cars, scene.cars[1:]):
+        gap = ahead.rear_x - behind.front_x
+        mid = cam.to_screen(0.5 * (ahead.rear_x + behind.front_x), -max(ahead.width, behind.width) / 2)
+        if gap > 0.05 and area.x < mid[0] < area.right:
+            words = f"gap {display(gap, 'length', scene.units, '.1f')}"
+            w = canvas_measure(words, label_size(canvas))[0] + 6
+            _label(canvas, words, SOFT_INK, [(mid[0] - w / 2, mid[1] + 26), (mid[0] - w / 2, mid[1] + 50)], layout,
+                   area, "plan-labels")
+
+
+def draw_overhead_labels(canvas, scene, cam: PlanCamera, distance: float, layout, area: Box) -> None:
+    """Each structure or line over the picture, named with its height."""
+    units = scene.units
+    items = [(s.x_start - distance, s.x_start + s.span - distance, f"{s.name}, soffit "
+              f"{display(s.soffit, 'length', units)}") for s in scene.structures]
+    items += [(w.x_start - distance, w.x_end - distance, f"overhead line, wire "
+               f"{display(w.wire_height, 'length', units)}, exclusion {display(w.exclusion, 'length', units)}")
+              for w in scene.lines]
+    for x0, x1, words in items:
+        if not _in_view(cam, x0, x1):
+            continue
+        a = max(cam.to_screen(x0, 0.0)[0], cam.left)
+        _, top = cam.to_screen(0.0, BED)
+        _label(canvas, words, INK, [(a + 4, top - 30), (a + 4, area.y + 4)], layout, area, "structures")
+
+
+# ---------------------------------------------------------------- legend
+
+def legend_rows(view, units: str, px_per_m: float | None) -> list[tuple]:
+    """The plan's legend: its paths and marks, a length bar, and the timeline's marks."""
+    from preview.panels import bar_row, timeline_legend_rows
+    rows = [("trail", (TRAIL, "contact on the roof, up to now")),
+            ("dots", (TRAIL, "centre of mass in the air")),
+            ("trail", (SOFT_INK, "path still to come")),
+            ("zone", (LANDING_ZONE, "landing zone (a jump's landing roof)")),
+            ("ring", (FAILURE, "failure, over a side edge")),
+            bar_row(1.0, "length", SOFT_INK, "(lengths)", units, px_per_m),
+            ("zone", (STRUCTURE, "structure over the track")),
+            ("zone", (LINE_ZONE, "overhead line exclusion zone"))]
+    return rows + timeline_legend_rows()
