@@ -141,6 +141,10 @@ def test_a_side_wind_on_a_wet_roof_puts_the_performer_off_the_side():
     assert tr.record["flight_y"][-1] < -1.4 and tr.record["flight_z"][-1] < 1.0
     # The slide follows the net load: with no other load the body moves across, not along.
     assert abs(tr.record["slide_speed"][on_roof]).max() < 1e-6
+    # Over the edge it goes down along the car's side where it went over, not to an end of the car.
+    in_air = np.isfinite(tr.record["flight_x"])
+    assert np.abs(tr.record["flight_x"][in_air] - tr.record["pivot_x"][on_roof][-1]).max() < 0.3
+    assert np.all(np.abs(tr.record["flight_y"][in_air][5:]) > 1.4)
 
 
 def test_json_reports_the_margins_across_the_track():

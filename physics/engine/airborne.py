@@ -9,7 +9,7 @@ from physics.engine.beat_state import Beat, State, failed, travel, with_mode
 from physics.engine.flight import (Flight, beside, crossing, inside_margin, kept_out_of_cars, land, on_the_ground,
                                    rk4, take_off, touchdown_car)
 from physics.engine.frontal import held, level, roof_z_at
-from physics.engine.jit import kernel, small
+from physics.engine.jit import apart, kernel, small
 from physics.engine.outcome import note_air, note_event, note_landing_margin, note_target, note_touchdown
 from physics.engine.overhead import anything_overhead, overhead_step
 from physics.engine.recording import record_flight
@@ -19,7 +19,7 @@ from physics.engine.stance import Balance, after_landing
 from physics.records import Event, Mode
 
 
-@kernel
+@apart
 def flight_iteration(v, inputs, env, state, act, out):
     """Assess and record the body in the air at t_k, then one RK4 step with touchdown inside it."""
     fl = state.flight

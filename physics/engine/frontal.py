@@ -27,9 +27,9 @@ import math
 from collections import namedtuple
 
 from physics import G
-from physics.engine.jit import small
+from physics.engine.jit import kernel, small
 from physics.engine.stance import (ANTICIPATION_TIME, KD_FACTOR, KP_FACTOR, LIE_ANGLE, MIN_PENDULUM, STEP_TIME,
-                                   TOPPLE_HOLD, solve_lean)
+                                   TOPPLE_HOLD)
 from physics.records import Mode
 
 # A sideways recovery step reaches about 20 cm (lateral perturbations in walking, J. Exp. Biol. 2010,
@@ -54,10 +54,10 @@ FrontalLoad = namedtuple("FrontalLoad", "alpha beta normal height side")
 
 # One step across the track: the new state, the extrapolated centre of mass
 # relative to the pivot (m, + left), the margin of stability (m, NaN not
-# judged), the roll the load needs (rad, signed), the pivot's sideways shift by
+# judged), the tangent of the roll the load needs (signed), the pivot's sideways shift by
 # a step (m), what happened: 1 a step, 2 a topple, 0 nothing; and the centre
 # of pressure the feet held (m from the pivot line, + left).
-FrontalStep = namedtuple("FrontalStep", "frontal xcom margin required shift happened cop")
+FrontalStep = namedtuple("FrontalStep", "frontal xcom margin required_tan shift happened cop")
 
 
 @small
@@ -68,8 +68,17 @@ def level():
 
 @small
 def roof_slope(car, y):
-    """Slope of a crowned roof across the track at y (rad): positive where it rises toward the left."""
-    return math.atan(-8.0 * car.crown * y / (car.width * car.width))
+    """Tangent of a crowned roof's slope across the track at y: positive where it rises toward the left."""
+    return -8.0 * car.crown * y / (car.width * car.width)
+
+
+@small
+def slope_cos_sin(slope):
+    """cos and sin of the roof's slope from its tangent (no trigonometry on a flat roof)."""
+    if slope == 0.0:
+        return 1.0, 0.0
+    c = 1.0 / math.sqrt(1.0 + slope * slope)
+    return c, slope * c
 
 
 @small
@@ -80,15 +89,15 @@ def roof_z_at(car, y):
 
 
 @small
-def frontal_load(air, mass, height, slope, accel_y, normal):
+def frontal_load(air, mass, height, slope_sin, accel_y, normal):
     """The load across the track on a body whose centre of mass is `height` above its contact: the
     torque of the side wind and the car's lateral pseudo-force; and the side load the roof must hold
-    by friction, which also has gravity's part down a crowned roof (slope, rad)."""
+    by friction, which also has gravity's part down a crowned roof (slope_sin: the sine of its slope)."""
     weight = mass * G
     pseudo = -mass * accel_y
     h = max(height, MIN_PENDULUM)
     return FrontalLoad(air.roll + pseudo * h, weight * h, max(normal, 1e-6), h,
-                       air.fy + pseudo - weight * math.sin(slope))
+                       air.fy + pseudo - weight * slope_sin)
 
 
 @small
@@ -97,7 +106,7 @@ def equilibrium(load, roll):
     return (load.alpha * math.cos(roll) + load.beta * math.sin(roll)) / load.normal
 
 
-@small
+@kernel
 def frontal_step(fr, load, inertia, half, mode, feet, recovery_step, max_lean, restart, buf_err, buf_rate, buf_ff,
                  k, mass, dt, gait, new_step):
     """Brace, command the centre of pressure (delayed), advance the roll, judge the support.
@@ -110,26 +119,28 @@ def frontal_step(fr, load, inertia, half, mode, feet, recovery_step, max_lean, r
         w = dt / ANTICIPATION_TIME
         a = fr.brace_a + (load.alpha - fr.brace_a) * w
         b = fr.brace_b + (load.beta - fr.brace_b) * w
-    aim, unused = solve_lean(a, b, 0.0)
-    aim = min(max(aim, -max_lean), max_lean)
-    needed, solvable = solve_lean(load.alpha, load.beta, 0.0)
-    required = needed if solvable else math.copysign(0.5 * math.pi, -load.alpha)
+    # alpha cos(roll) + beta sin(roll) = 0 with beta = W h > 0: the lean that holds the load with the
+    # centre of pressure in the middle.
+    aim = 0.0 if a == 0.0 else min(max(math.atan2(-a, b), -max_lean), max_lean)
+    required_tan = -load.alpha / load.beta
     roll = fr.roll
     if restart:
         roll = aim
+    h = load.height
+    c, s = (1.0, 0.0) if roll == 0.0 else (math.cos(roll), math.sin(roll))
+    ff = (load.alpha * c + load.beta * s) / load.normal      # where the load's resultant passes the roof
+    xcom = ff + (0.0 if fr.rate == 0.0 else fr.rate * h * math.sqrt(h / G))
     size = buf_err.shape[0]
     slot = k % size
     buf_err[slot] = roll - aim
     buf_rate[slot] = fr.rate
-    buf_ff[slot] = equilibrium(load, roll)
+    buf_ff[slot] = ff
     if restart:
         for i in range(size):
             buf_err[i] = 0.0
             buf_rate[i] = fr.rate
             buf_ff[i] = buf_ff[slot]
     old = (k + 1) % size
-    h = load.height
-    xcom = equilibrium(load, roll) + fr.rate * h / math.sqrt(G / h)
     foot, since = 0.0, fr.since + dt
     lo, hi = -half, half
     if gait:
@@ -144,7 +155,7 @@ def frontal_step(fr, load, inertia, half, mode, feet, recovery_step, max_lean, r
     else:
         cop = buf_ff[old] + KP_FACTOR * h * buf_err[old] + KD_FACTOR * h * buf_rate[old]
         cop = min(max(cop, lo), hi)
-    torque = load.alpha * math.cos(roll) + load.beta * math.sin(roll) - cop * load.normal
+    torque = ff * load.normal - cop * load.normal
     accel = torque / (mass * max(inertia, 1e-6))
     rate = fr.rate + accel * dt
     new_roll = roll + rate * dt
@@ -184,7 +195,7 @@ def frontal_step(fr, load, inertia, half, mode, feet, recovery_step, max_lean, r
         falling = True
     if happened == 1:
         foot, since = 0.0, 0.0
-    return FrontalStep(Frontal(new_roll, rate, accel, a, b, outside, falling, foot, since), xcom, margin, required,
+    return FrontalStep(Frontal(new_roll, rate, accel, a, b, outside, falling, foot, since), xcom, margin, required_tan,
                        shift, happened, cop)
 
 

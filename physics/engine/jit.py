@@ -124,6 +124,13 @@ def kernel(fn):
     return _jit(fn, "never")
 
 
+def apart(fn):
+    """A kernel part that runs on few steps (the body in the air): compiled as a function of its own and
+    called, not inlined, so the optimiser does not carry it through the whole step loop (a shorter
+    first compile)."""
+    return _jit(fn, "never", False)
+
+
 def small(fn):
     """A kernel helper of a few lines, inlined by numba into each caller instead of compiled on its own."""
     return _jit(fn, "always")
@@ -144,11 +151,11 @@ def entry(fn):
 _OPTIONS = {"fastmath": FASTMATH, "error_model": "numpy", "_nrt": False}
 
 
-def _jit(fn, inline: str):
+def _jit(fn, inline: str, forceinline: bool = True):
     _functions.append((sys.modules[fn.__module__], fn.__name__, fn))
     if _numba is None:
         return fn
-    return _numba.njit(no_cpython_wrapper=True, no_cfunc_wrapper=True, inline=inline, forceinline=True,
+    return _numba.njit(no_cpython_wrapper=True, no_cfunc_wrapper=True, inline=inline, forceinline=forceinline,
                        **_OPTIONS)(fn)
 
 

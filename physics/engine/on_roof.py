@@ -11,7 +11,7 @@ from collections import namedtuple
 from physics.engine.air_load import rotate
 from physics.engine.beat_state import Beat, State, failed, lifted, travel, with_mode
 from physics.engine.flight import over_the_side, take_off
-from physics.engine.frontal import frontal_load, frontal_step, held, level, roof_slope, roof_z_at
+from physics.engine.frontal import frontal_load, frontal_step, held, level, roof_slope, roof_z_at, slope_cos_sin
 from physics.engine.jit import kernel, small
 from physics.engine.outcome import note_event, note_side, note_stance, note_takeoff
 from physics.engine.overhead import anything_overhead, overhead_step
@@ -27,9 +27,11 @@ STANDING_TAKEOFF_DELAY = 0.3  # s from the start of a standing jump to take-off 
 # Where and how the body stands this step: its posture row, how it touches
 # the roof, the car under the pivot and its roof height there (m), the
 # commanded gait speed (m/s), the support (m from the pivot, with any recovery
-# step), the roof's friction for this contact, its slope across the track (rad)
-# and the distance from the support's outer edge to the nearer side edge (m).
-Footing = namedtuple("Footing", "row contact car roof_z gait_v lo hi mu_static mu_kinetic slope edge gait_vy")
+# step), the roof's friction for this contact, the tangent of its slope across
+# the track and that slope's cosine and sine, the distance from the support's
+# outer edge to the nearer side edge (m) and the gait's speed across (m/s).
+Footing = namedtuple("Footing", "row contact car roof_z gait_v lo hi mu_static mu_kinetic slope slope_cos slope_sin "
+                                "edge gait_vy")
 
 # What the step found at t_k, for the record.
 Seen = namedtuple("Seen", "mode row x roof_z lean rate u wx air normal grip mu_static xcom lo hi margin "
@@ -53,15 +55,17 @@ def footing(v, inputs, beat, bal, slide, plan):
     gait_vy = plan.gait_speed_y if walking else 0.0
     under = cars[car if car >= 0 else 0]
     edge = 0.5 * under.width - abs(slide.y) - posture.half_width
+    slope = roof_slope(under, slide.y)
+    slope_cos, slope_sin = slope_cos_sin(slope)
     return Footing(row, contact, car, roof_z_at(under, slide.y), gait_v, posture.support_lo, posture.support_hi,
-                   mu_s, mu_k, roof_slope(under, slide.y), edge, gait_vy)
+                   mu_s, mu_k, slope, slope_cos, slope_sin, edge, gait_vy)
 
 
 # Across the track at t_k, for the record: the roll and its rate (rad, rad/s),
 # the extrapolated centre of mass (m from the pivot), the margin of stability
-# (m, NaN not judged), the roll the load needs (rad), the support's half-width
-# (m) and the centre of pressure across the track (m from the pivot line).
-Across = namedtuple("Across", "roll rate xcom margin required half cop")
+# (m, NaN not judged), the tangent of the roll the load needs, the support's
+# half-width (m) and the centre of pressure across the track (m from the pivot line).
+Across = namedtuple("Across", "roll rate xcom margin required_tan half cop")
 
 
 @kernel
@@ -100,16 +104,15 @@ def roof_iteration(v, inputs, env, state, plan, act, out):
         v.buf_err[:] = bal.lean - target.lean
         v.buf_rate[:] = bal.rate
         v.buf_ff[:] = equilibrium_cop(load, bal.lean)
-    side_load = frontal_load(load.air, v.mass, load.com_z, ft.slope, env.accel_y, load.normal)
+    side_load = frontal_load(load.air, v.mass, load.com_z, ft.slope_sin, env.accel_y, load.normal)
     beat, bal, fr, slide, across = sideways(v, inputs, env, beat, bal, state.frontal, side_load, ft, plan, slide,
                                             restart_now, was_assessing, act, out)
     beat, grip, moved = grip_and_slide(v, inputs, env, beat, bal, load, side_load.side, ft, plan, slide, out)
     lean_required = 0.0 if plan.settling else target.required
     air = load.air
     if was_assessing and beat.mode != Mode.DOWN and not bal.lying:
-        tilt = math.atan(math.hypot(math.tan(min(lean_required, 1.5)), math.tan(min(abs(across.required), 1.5))))
         note_stance(out.outcomes[v.b, act], ft.mu_static, grip.demand, margin, across.margin, ft.edge,
-                    grip.static_normal / v.weight, tilt, math.sqrt(wx * wx + wy * wy),
+                    grip.static_normal / v.weight, lean_required, across.required_tan, math.sqrt(wx * wx + wy * wy),
                     math.sqrt(air.fx * air.fx + air.fy * air.fy + air.fz * air.fz), abs(env.accel_y), ft.contact)
     if anything_overhead(inputs):
         beat = overhead_step(v, inputs, env, beat, posture, lean_k, slide.x, ft.roof_z, act, out)
@@ -202,7 +205,7 @@ def sideways(v, inputs, env, beat, bal, fr, side_load, ft, plan, slide, restart_
     if fr.falling and abs(fr.roll) >= LIE_ANGLE:
         bal = laid(bal)
     margin = step.margin if beat.mode == Mode.PLANTED or step.happened == 2 else nan
-    return beat, bal, fr, slide, Across(roll_k, rate_k, step.xcom, margin, step.required, posture.half_width,
+    return beat, bal, fr, slide, Across(roll_k, rate_k, step.xcom, margin, step.required_tan, posture.half_width,
                                         step.cop)
 
 
@@ -212,7 +215,7 @@ def grip_and_slide(v, inputs, env, beat, bal, load, side, ft, plan, slide, out):
     phase = slide.gait_phase + 2.0 * math.pi * plan.gait_rate * v.dt
     walking = beat.mode == Mode.PLANTED and not bal.lying
     push = gait_force(phase, plan.gait_friction, v.weight) if walking else 0.0
-    grip = grip_demand(load.air, v.mass, env.accel, push, side, ft.slope)
+    grip = grip_demand(load.air, v.mass, env.accel, push, side, ft.slope_cos)
     x, u, udot, y, w = slide.x, slide.u, slide.udot, slide.y, slide.w
     if beat.mode == Mode.PLANTED or (beat.mode == Mode.DOWN and bal.lying and u == 0.0 and w == 0.0):
         if grip.demand > ft.mu_static:

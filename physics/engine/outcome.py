@@ -38,10 +38,11 @@ def note_side(events, b, kind, t, side):
 
 
 @small
-def note_stance(out, mu_static, demand, margin, margin_y, edge, lift_ratio, lean_required, wind, drag, accel_y,
-                contact):
+def note_stance(out, mu_static, demand, margin, margin_y, edge, lift_ratio, lean_required, roll_tan, wind, drag,
+                accel_y, contact):
     """Margins of a step on the roof into the action's outcome record `out`. The balance margin is the
-    smaller of the margins along and across the track; the one across is kept on its own too."""
+    smaller of the margins along and across the track; the one across is kept on its own too. The lean
+    needed is the tilt from the vertical of the leans along (rad) and across (its tangent) together."""
     if demand > 1e-12:
         out.grip_ratio_min = min(out.grip_ratio_min, mu_static / demand)
     out.grip_demand_max = max(out.grip_demand_max, demand)
@@ -53,7 +54,15 @@ def note_stance(out, mu_static, demand, margin, margin_y, edge, lift_ratio, lean
         if margin_y == margin_y:
             out.frontal_margin_min = min(out.frontal_margin_min, margin_y)
             out.balance_margin_min = min(out.balance_margin_min, margin_y)
-        out.lean_max = max(out.lean_max, lean_required)
+        # atan(sqrt(tan^2 a + tan^2 b)) lies between max(a, b) and a + b: work it out only when it may
+        # be a new largest.
+        # (atan(x) <= x bounds b from above).
+        if lean_required + abs(roll_tan) > out.lean_max:
+            if roll_tan == 0.0 or lean_required >= 1.5:
+                tilt = max(lean_required, math.atan(abs(roll_tan)))
+            else:
+                tilt = math.atan(math.sqrt(math.tan(lean_required) ** 2 + roll_tan * roll_tan))
+            out.lean_max = max(out.lean_max, tilt)
     out.lift_ratio_min = min(out.lift_ratio_min, lift_ratio)
     out.apparent_wind_max = max(out.apparent_wind_max, wind)
     out.drag_max = max(out.drag_max, drag)

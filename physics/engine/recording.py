@@ -102,9 +102,9 @@ def record_roof(r, env, seen):
     r.cop_y = seen.across.cop
     r.half_width = seen.across.half
     r.frontal_margin = seen.across.margin
-    r.roll_required = seen.across.required
+    r.roll_required = math.atan(seen.across.required_tan)
     r.edge_margin = seen.ft.edge
-    r.roof_slope = seen.ft.slope
+    r.roof_slope = math.atan(seen.ft.slope)
     r.app_x = seen.wx
     r.app_y = env.wind_y - seen.w
     r.app_z = 0.0

@@ -33,13 +33,13 @@ def gait_force(phase, gait_friction, weight):
 
 
 @small
-def grip_demand(air, mass, frame_accel, push, side, slope):
+def grip_demand(air, mass, frame_accel, push, side, slope_cos):
     """What the roof must hold: the air load, the pseudo-force -m a and the gait's push along the track;
-    `side` across it (N, + left: the air, the crown, the car's lateral motion); slope: the roof's tilt
-    across the track (rad)."""
+    `side` across it (N, + left: the air, the crown, the car's lateral motion); slope_cos: the cosine of
+    the roof's tilt across the track."""
     need_x = -(air.fx - mass * frame_accel + push)
     need_y = -side
-    static_normal = mass * G * math.cos(slope) - air.fz
+    static_normal = mass * G * slope_cos - air.fz
     demand = math.sqrt(need_x * need_x + need_y * need_y) / max(static_normal, 1e-6)
     return Grip(need_x, need_y, static_normal, demand)
 
