@@ -45,8 +45,8 @@ CHECKLIST = [
     "The roof surface, the weather and the wind on the day were checked against the scene's values.",
 ]
 INK, SOFT, RULE = "#2b3138", "#5f656c", "#c9c6bf"
-NOT_MODELLED = ("Not modelled: sideways balance, the roof's side edges and crosswind on them; curves, cant and "
-                "car-body sway; the roof's crown; injury. See physics/README.md, \"Not modelled\".")
+NOT_MODELLED = ("Not modelled: curves, cant and car-body sway; the air's slow-down over the roof; limbs posed "
+                "sideways (the figure is one plane); rigging; injury. See physics/README.md, \"Not modelled\".")
 BODY = 8.0        # pt, the pages' body text
 ROW = 0.17        # in, a table row
 
@@ -68,7 +68,8 @@ def key_numbers(scene) -> list[tuple[str, str]]:
     system = scene.units
     length = lambda v: display(v, "length", system)  # noqa: E731
     speed = lambda v: display(v, "speed", system, ".0f")  # noqa: E731
-    cars = "; ".join(f"{c.name} {length(c.length)}, roof {length(c.roof_height)}, {c.surface} "
+    cars = "; ".join(f"{c.name} {length(c.length)}, roof {length(c.roof_height)} high, {length(c.width)} wide"
+                     f"{', crown ' + length(c.crown) if c.crown else ', flat'}, {c.surface} "
                      f"(static {c.sole_static:.2f})" for c in scene.cars)
     if len(scene.keyframes) == 1:
         profile = f"constant {speed(scene.keyframes[0].speed)}"
@@ -83,6 +84,9 @@ def key_numbers(scene) -> list[tuple[str, str]]:
         wind += "; turbulence"
     p = scene.performer
     performer = f"{length(p.stature)}, {display(p.mass, 'mass', system, '.0f')}, {p.body_model} body"
+    if scene.start_y:
+        performer += (f", starts {length(abs(scene.start_y))} {'left' if scene.start_y > 0 else 'right'} of the "
+                      "roof's centreline")
     if p.drag_area:
         area, unit = to_display(p.drag_area, "area", system)
         performer += f", standing drag area {area:.2f} {unit}"
@@ -121,8 +125,13 @@ def key_times(playback) -> list[tuple[str, float]]:
     demand = tr.field("grip_demand")
     critical = ("highest grip demand", float(tr.times[int(np.nanargmax(np.where(np.isfinite(demand), demand, -1)))]))
     if first:
-        return [("just before the failure", max(0.0, first["time_s"] - 0.5)),
-                (f"{first['kind']} at {first['time_s']:.2f} s, and after", min(duration, first["time_s"] + 0.4))]
+        before = ("just before the failure", max(0.0, first["time_s"] - 0.5))
+        over = next((e for e in playback.summary["events"] if e["kind"] == "off the side"), None)
+        if over is not None and over is not first:
+            # A slip or topple that ends over the side edge: show it going over.
+            return [before, (f"{first['kind']} at {first['time_s']:.2f} s, then off the {over['side']} side at "
+                             f"{over['time_s']:.2f} s", min(duration, over["time_s"] + 0.25))]
+        return [before, (f"{first['kind']} at {first['time_s']:.2f} s, and after", min(duration, first["time_s"] + 0.4))]
     if flying.size:
         return [("in the air", float(tr.times[flying[len(flying) // 2]])),
                 ("landed", float(tr.times[min(flying[-1] + 12, tr.times.size - 1)]))]
@@ -131,6 +140,27 @@ def key_times(playback) -> list[tuple[str, float]]:
         if np.isfinite(gaps).any():
             return [("tightest overhead clearance", float(tr.times[4 * int(np.argmin(gaps))])), critical]
     return [critical, ("end of the beat", duration)]
+
+
+def deciding_view(playback) -> str:
+    """The view that shows what decides the verdict: across the track (the end view) when the first
+    failure is sideways or over a side edge, or the beat is marginal on its side-edge margin or on its
+    balance across the track; else the side view, split for a beat with a jump."""
+    summary = playback.summary
+    first = summary["first_failure"]
+    across = False
+    if first:
+        across = first.get("side") is not None
+    else:
+        for row in summary["actions"]:
+            for short in row["marginal_because"]:
+                if short["margin"] == "side-edge margin":
+                    across = True
+                elif short["margin"] == "balance margin" and row["frontal_balance_margin_min_m"] is not None:
+                    across = across or row["frontal_balance_margin_min_m"] <= row["balance_margin_min_m"] + 1e-12
+    if across:
+        return "end"
+    return "split" if any(a.kind == "jump" for a in playback.scene.actions) else "car"
 
 
 def frame_facts(playback, t: float) -> str:
@@ -156,6 +186,10 @@ def frame_facts(playback, t: float) -> str:
             parts.append(f"grip ratio {f('grip_available') / demand:.2f}")
         if math.isfinite(f("balance_margin")):
             parts.append(f"balance margin {display(f('balance_margin'), 'length', units, '+.3f')}")
+        if math.isfinite(f("frontal_margin")):
+            parts.append(f"across the track {display(f('frontal_margin'), 'length', units, '+.3f')}")
+        if math.isfinite(f("edge_margin")):
+            parts.append(f"side edge {display(f('edge_margin'), 'length', units, '+.2f')}")
     gap, over = tr.overhead_gap(i)
     if over is not None:
         parts.append(f"overhead clearance {display(gap, 'length', units, '+.2f')}")
@@ -341,14 +375,16 @@ def _actions_table(page: Page, scene, content) -> None:
     req = content["required_factors"]
     length_unit = to_display(1.0, "length", system)[1]
     wind_unit = to_display(1.0, "wind", system)[1]
-    heads = [("action", 0.0), ("time (s)", 1.25), ("verdict", 1.85), ("grip ratio", 2.72),
-             (f"balance ({length_unit})", 3.35), ("lift ratio", 4.05), ("lean (°)", 4.62),
-             (f"wind ({wind_unit}, Bft)", 5.1), (f"landing ({length_unit})", 5.98), (f"clear. ({length_unit})", 6.65)]
+    heads = [("action", 0.0), ("time (s)", 1.15), ("verdict", 1.76), ("grip ratio", 2.5),
+             (f"balance ({length_unit})", 3.08), ("lift ratio", 3.78), ("lean (°)", 4.3),
+             (f"wind ({wind_unit}, Bft)", 4.75), (f"land. ({length_unit})", 5.65), (f"clear. ({length_unit})", 6.2),
+             (f"edge ({length_unit})", 6.75)]
     needed = {"grip ratio": "grip ratio", f"balance ({length_unit})": "balance margin", "lift ratio": "lift ratio",
-              f"landing ({length_unit})": "landing margin", f"clear. ({length_unit})": "overhead clearance"}
+              f"land. ({length_unit})": "landing margin", f"clear. ({length_unit})": "overhead clearance",
+              f"edge ({length_unit})": "side-edge margin"}
     page.heading("verdict per action: margins beside the factors required (≥)")
     for head, x in heads:
-        page.text(MARGIN_IN + x, head, BODY - 1, "bold")
+        page.text(MARGIN_IN + x, head, BODY - 1.5, "bold")
     page.y -= ROW - 0.03
     for head, x in heads:
         if head in needed:
@@ -364,14 +400,14 @@ def _actions_table(page: Page, scene, content) -> None:
         cells = [name, f"{a['start_s']:.1f}-{a['end_s']:.1f}"]
         if not a["assessed"]:
             page.text(MARGIN_IN, cells[0])
-            page.text(MARGIN_IN + 1.25, cells[1])
-            page.text(MARGIN_IN + 1.85, "FAILS: not reached, the beat failed before it", BODY, "bold")
+            page.text(MARGIN_IN + 1.15, cells[1])
+            page.text(MARGIN_IN + 1.76, "FAILS: not reached, the beat failed before it", BODY, "bold")
             page.y -= ROW
             continue
         cells += [a["verdict"].upper(), ratio(a["grip_ratio_min"]), length3(a["balance_margin_min_m"]),
                   ratio(a["lift_ratio_min"]), f"{a['lean_max_deg']:.1f}",
                   f"{to_display(a['apparent_wind_max_ms'], 'wind', system)[0]:.1f}, {a['beaufort_max']}",
-                  length(a["landing_margin_min_m"]), length(a["clearance_min_m"])]
+                  length(a["landing_margin_min_m"]), length(a["clearance_min_m"]), length(a["edge_margin_min_m"])]
         short = {s["margin"] for s in a["marginal_because"]}
         for (head, x), cell in zip(heads, cells):
             bold = head == "verdict" or needed.get(head) in short
@@ -388,12 +424,12 @@ def _page_two(page: Page, scene, content, playback) -> None:
     from preview.canvas import FigureCanvas
     from preview.frame import ViewSettings, draw_frame
     _header(page, scene, content, "key frames")
-    frame = "split" if any(a.kind == "jump" for a in scene.actions) else "car"
+    frame = deciding_view(playback)
     width_in = page.w - 2 * MARGIN_IN
     height_in = width_in * KEY_FRAME_SIZE[1] / KEY_FRAME_SIZE[0]
+    what = {"split": "ground and car frames", "car": "car frame", "end": "end view, across the track"}[frame]
     for label, t in key_times(playback):
-        page.para(f"{label}: {timecode(t, scene.frame_rate)} ({t:.2f} s), {frame} frame"
-                  f"{'s' if frame == 'split' else ''}", BODY + 0.5, "bold", gap=0.0)
+        page.para(f"{label}: {timecode(t, scene.frame_rate)} ({t:.2f} s), {what}", BODY + 0.5, "bold", gap=0.0)
         page.para(frame_facts(playback, t), BODY, gap=0.06)
         ax = page.fig.add_axes((page.fx(MARGIN_IN), page.fy(page.y - height_in), page.fx(width_in),
                                 page.fy(height_in)))

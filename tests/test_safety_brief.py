@@ -243,3 +243,18 @@ def test_limit_words_never_offer_a_failing_speed_to_plan_on():
     factored = dict(none, value=12.0)
     words = limit_words("speed", at_all, span, "metric", [factored, at_all])
     assert "above 43.20 km/h it holds only below the required factors (marginal): plan to 43.20 km/h" in words
+
+
+def test_a_failure_across_the_track_is_briefed_in_the_end_view(tmp_path):
+    # The crosswind scene fails by a slip toward the right edge that ends over it: the key frames are
+    # drawn across the track, the second as the body goes over; the table gives the side-edge margin.
+    from pypdf import PdfReader
+    out = tmp_path / "edge.pdf"
+    assert main(["brief", str(REPO / "scenes" / "crosswind_edge.toml"), "-o", str(out)]) == 0
+    reader = PdfReader(out)
+    first = " ".join(reader.pages[0].extract_text().split())
+    second = " ".join(reader.pages[1].extract_text().split())
+    assert "END VIEW" in second and "end view, across the track" in second
+    assert "then off the right side at" in second and "CAR FRAME" not in second
+    assert "edge (m)" in first and "≥ 0.50" in first and "sideways toward the right edge" in first
+    assert "sideways balance" not in first    # no longer listed as not modelled
