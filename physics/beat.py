@@ -15,7 +15,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from physics import air, body, consist
+from physics import air, body, consist, track
 from physics.records import ACTION, POSTURE, STEP, ActionCode, Contact
 from physics.scene import Scene
 
@@ -241,6 +241,7 @@ def _steps(scene, times, rows, hip, contact, gait, facing) -> np.ndarray:
     steps["accel"] = consist.acceleration_at(scene.keyframes, times, scene.jerk)
     steps["distance"] = consist.distance_travelled(scene.keyframes, times, scene.jerk)
     steps["gust_x"], steps["gust_y"] = air.gust_profile(times, scene.air.gusts)
+    steps["ride_y"], steps["ride_z"] = track.ride_profile(times, scene.ride)
     steps["row"] = rows
     pivot_moves = (contact[1:] != contact[:-1]) | (gait[1:] != gait[:-1])
     steps["reset"][1:] = pivot_moves | (facing[1:] != facing[:-1])

@@ -93,6 +93,7 @@ PARAMS = np.dtype([
     ("start_x", "f8"),            # starting pivot position, car frame, m
     ("start_y", "f8"),            # starting pivot offset across the roof from its centreline, m (+ left)
     ("takeoff_scale", "f8"),      # multiplies every take-off velocity
+    ("flexibility", "f8"),        # car-body roll per unit of cant deficiency on the suspension
 ])
 
 # -------------------------------------------------------------- shared inputs
@@ -100,7 +101,8 @@ PARAMS = np.dtype([
 # prescribed timeline (state-independent, shared by every variant).
 STEP = np.dtype([
     ("time", "f8"), ("speed", "f8"), ("accel", "f8"), ("distance", "f8"),
-    ("accel_y", "f8"),            # car-body lateral acceleration felt on the roof, m/s^2 (+ left)
+    ("accel_y", "f8"),            # car-body lateral acceleration given directly (tests), m/s^2 (+ left)
+    ("ride_y", "f8"), ("ride_z", "f8"),  # ride vibration of the car body, across and up, m/s^2
     ("gust_x", "f8"), ("gust_y", "f8"),
     ("action", "i8"),             # index of the action under way
     ("row", "i8"),                # posture row of this step
@@ -148,6 +150,12 @@ CAR = np.dtype([
 STRUCTURE = np.dtype([("x_start", "f8"), ("span", "f8"), ("soffit", "f8")])  # ground frame; soffit above rail
 LINE = np.dtype([("x_start", "f8"), ("x_end", "f8"), ("wire_height", "f8"), ("exclusion", "f8")])
 
+# The track as pieces of linearly changing curvature (1/m, + turning left) and
+# cant tilt (rad, + the car's roof low on the left) from s0 to s1 (m along the
+# track, the coordinate structures use), with the heading at s0 (rad, + left).
+TRACK = np.dtype([("s0", "f8"), ("s1", "f8"), ("k0", "f8"), ("k1", "f8"), ("tilt0", "f8"), ("tilt1", "f8"),
+                  ("heading0", "f8")])
+
 BODY = np.dtype([
     ("crossflow_area", "f8", (N_SEGMENTS,)),  # Cd * breadth * length per segment, m^2 (before drag_scale)
     ("axial_area", "f8", (N_SEGMENTS,)),      # Cd * end area per segment, m^2
@@ -158,7 +166,7 @@ BODY = np.dtype([
     ("lying_row", "i8"),                      # posture row of the body lying on the ground after a fall
 ])
 
-Inputs = namedtuple("Inputs", "steps postures actions cars structures lines body")
+Inputs = namedtuple("Inputs", "steps postures actions cars structures lines body track")
 
 # -------------------------------------------------------------------- outputs
 EVENT = np.dtype([
@@ -234,7 +242,11 @@ RECORD = np.dtype([
     ("roll_required", "f8"),      # sideways lean the load needs, rad (signed, + toward the left)
     ("edge_margin", "f8"),        # support to the nearer side edge, m
     ("roof_slope", "f8"),         # slope of the roof across the track under the contact, rad (+ rising to the left)
-    ("accel_y", "f8"),            # car-body lateral acceleration, m/s^2
+    ("accel_y", "f8"),            # car-body lateral acceleration felt in the roof's plane, m/s^2 (+ left)
+    ("accel_z", "f8"),            # felt vertical acceleration of the car body beyond gravity, m/s^2
+    ("curvature", "f8"),          # of the track under the performer's car, 1/m (+ turning left)
+    ("cant_tilt", "f8"),          # the track's cant as a tilt, rad (+ roof low on the left)
+    ("body_roll", "f8"),          # the car body's roll on its suspension, rad (+ roof low on the left)
 ])
 
 

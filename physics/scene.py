@@ -151,6 +151,9 @@ class Scene:
     lines: tuple[Line, ...] = ()
     jerk: float = 2.0    # m/s^3, how fast the consist's acceleration changes (physics.consist.DEFAULT_JERK)
     start_y: float = 0.0  # m across the roof from its centreline, + left in the direction of travel
+    track: tuple = ()     # physics.track.TrackSection, in order from where the lead car's front is at t = 0
+    ride: object = None   # physics.track.Ride or None (no ride vibration)
+    flexibility: float = 0.25  # the car bodies' roll per unit of cant deficiency (physics.track.DEFAULT_FLEXIBILITY)
     raw: dict = field(default_factory=dict, compare=False, repr=False)
     # Spread (SI, +/-) of values written with an uncertainty, by sweep parameter
     # name (speed, wind_speed, mass, drag_area, reaction_time) or, for a car's

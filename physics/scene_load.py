@@ -20,6 +20,7 @@ from physics.scene_file import key_lines, parse_toml, read_text
 from physics.scene_overrides import apply_overrides, origin_of
 from physics.scene_problems import Problem, SceneError
 from physics.surfaces import SURFACES
+from physics.track import DEFAULT_FLEXIBILITY, RIDE_BAND, RIDE_LEVELS, STANDARD_GAUGE, Ride, TrackSection
 from physics.units import QuantityError, parse_quantity, parse_uncertain
 
 # Roof across the car when the scene does not say (from memory): a rail car body is about 2.8 m
@@ -280,7 +281,7 @@ def parse_scene(text: str, source: str, overrides: list[str] | None = None) -> S
 
 def _build(raw: dict, r: _Reader, source: str) -> Scene | None:
     r.unknown(raw, "", ("title", "units", "frame_rate", "consist", "motion", "air", "performer", "start",
-                        "actions", "safety", "simulation", "structures", "lines"))
+                        "actions", "safety", "simulation", "structures", "lines", "track", "ride"))
     title = r.text(raw, "title", "")
     units = r.choice(raw, "units", "", ("metric", "imperial"), default="metric")
     frame_rate = r.number(raw, "frame_rate", "", default=24, integer=True, minimum=1, maximum=120)
@@ -296,13 +297,17 @@ def _build(raw: dict, r: _Reader, source: str) -> Scene | None:
     rate = r.quantity(sim, "rate", "simulation", "frequency", default=240.0, minimum=60.0, maximum=2000.0)
     structures = _structures(raw, r, keyframes, jerk)
     lines = _lines(raw, r)
+    sections = _track(raw, r)
+    ride = _ride(r.table(raw, "ride", "", required=False), r)
+    consist = raw.get("consist") if isinstance(raw.get("consist"), dict) else {}
+    flexibility = r.number(consist, "flexibility", "consist", default=DEFAULT_FLEXIBILITY, minimum=0.0, maximum=1.0)
     if actions and rate:
         _beat_length(r, sum(a.duration for a in actions), rate, len(actions))
     if r.problems:
         return None
     return Scene(title, source, units, frame_rate, tuple(cars), tuple(keyframes), air, performer, start_x,
                  start_car, tuple(actions), safety, 1.0 / rate, tuple(structures), tuple(lines), jerk, start_y,
-                 raw, dict(r.uncertain))
+                 tuple(sections), ride, flexibility, raw, dict(r.uncertain))
 
 
 MAX_ACTIONS = 200
@@ -326,7 +331,7 @@ def _beat_length(r: _Reader, duration: float, rate: float, count: int) -> None:
 def _cars(consist: dict, r: _Reader) -> list[Car]:
     """The consist, front to rear. A car with a problem keeps its place (with NaN numbers) so that
     car numbers elsewhere in the scene are judged against the consist as written."""
-    r.unknown(consist, "consist", ("roof", "cars", "width", "crown"))
+    r.unknown(consist, "consist", ("roof", "cars", "width", "crown", "flexibility"))
     cars, front = [], 0.0
     items = r.items(consist, "cars", "consist")
     width_all = r.quantity(consist, "width", "consist", "length", None, False, minimum=1.0, maximum=4.0)
@@ -606,6 +611,62 @@ def _structures(raw: dict, r: _Reader, keyframes: list[Keyframe], jerk: float) -
 
 def _distance_at(keyframes: list[Keyframe], t: float, jerk: float) -> float:
     return float(distance_travelled(keyframes, t, jerk))
+
+
+def _track(raw: dict, r: _Reader) -> list[TrackSection]:
+    """The track's sections in order: a straight has only a length; a curve a radius, a cant and a turn."""
+    out = []
+    for path, item in r.items(raw, "track", "", required=False):
+        r.unknown(item, path, ("length", "radius", "cant", "turn", "transition", "gauge"))
+        length = r.quantity(item, "length", path, "length", positive=True, maximum=100_000.0)
+        gauge = r.quantity(item, "gauge", path, "length", default=STANDARD_GAUGE, minimum=0.6, maximum=1.8)
+        curve = any(k in item for k in ("radius", "cant", "turn", "transition"))
+        if not curve:
+            if length is not None:
+                out.append(TrackSection(length, math.inf, 0.0, 0, 0.0, gauge))
+            continue
+        radius = r.quantity(item, "radius", path, "length", minimum=50.0, maximum=100_000.0)
+        cant = r.quantity(item, "cant", path, "length", default=0.0, minimum=0.0, maximum=0.2)
+        turn = r.choice(item, "turn", path, ("left", "right"))
+        transition = r.quantity(item, "transition", path, "length", default=0.0, minimum=0.0, maximum=2000.0)
+        if None in (length, radius, cant, turn, transition, gauge):
+            continue
+        if 2 * transition > length:
+            r.fail(f"{path}.transition", f"{transition:g} m at each end is more than half the curve's "
+                                         f"{length:g} m", also=f"{path}.length")
+        out.append(TrackSection(length, radius, cant, 1 if turn == "left" else -1, transition, gauge))
+    return out
+
+
+def _ride(data: dict, r: _Reader):
+    """The car body's ride vibration: a named level or explicit RMS values and a band; None without one."""
+    if not data:
+        return None
+    p = "ride"
+    r.unknown(data, p, ("level", "lateral_rms", "vertical_rms", "band_low", "band_high", "seed"))
+    named = "level" in data
+    explicit = "lateral_rms" in data or "vertical_rms" in data
+    if named == explicit:
+        r.fail(p, "give either level (smooth, typical, rough) or lateral_rms and vertical_rms"
+                  + (", not both" if named else ""))
+        return None
+    level = r.choice(data, "level", p, tuple(RIDE_LEVELS)) if named else None
+    if named and level is None:
+        return None
+    if level is not None:
+        lateral, vertical = RIDE_LEVELS[level]
+    else:
+        lateral = r.quantity(data, "lateral_rms", p, "acceleration", minimum=0.0, maximum=5.0)
+        vertical = r.quantity(data, "vertical_rms", p, "acceleration", minimum=0.0, maximum=5.0)
+    low = r.quantity(data, "band_low", p, "frequency", default=RIDE_BAND[0], minimum=0.05, maximum=50.0)
+    high = r.quantity(data, "band_high", p, "frequency", default=RIDE_BAND[1], minimum=0.1, maximum=100.0)
+    seed = r.number(data, "seed", p, default=0, integer=True, minimum=0, maximum=2**62)
+    if None in (lateral, vertical, low, high, seed):
+        return None
+    if high <= low:
+        r.fail(f"{p}.band_high", f"{high:g} Hz is not above band_low ({low:g} Hz)", also=f"{p}.band_low")
+        return None
+    return Ride(lateral, vertical, (low, high), int(seed), level or "explicit")
 
 
 def _lines(raw: dict, r: _Reader) -> list[Line]:

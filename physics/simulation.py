@@ -22,7 +22,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from physics import G, air, body
+from physics import G, air, body, track
 from physics.beat import Timeline, build_timeline
 from physics.engine import driver, jit
 from physics.records import BODY, CAR, LINE, PARAMS, RECORD, STRUCTURE, Inputs, empty_events, empty_outcomes
@@ -239,6 +239,7 @@ def base_params(scene: Scene) -> np.ndarray:
         "turbulence_length": turb.length_scale if turb else 1.0, "turbulence_seed": turb.seed if turb else 0,
         "gust_scale": 1.0, "max_lean": scene.performer.max_lean, "recovery_step": scene.performer.recovery_step,
         "start_x": scene.start_x, "start_y": scene.start_y, "takeoff_scale": 1.0,
+        "flexibility": scene.flexibility,
     }
     for name in PARAMS.names:
         p[name] = values[name]
@@ -277,7 +278,8 @@ def build_inputs(scene: Scene) -> tuple[Timeline, Inputs]:
     drag["lumped"] = scene.performer.body_model == "lumped"
     drag["lumped_drag_area"] = scene.performer.drag_area if scene.performer.body_model == "lumped" else 0.0
     drag["lying_row"] = timeline.lying_row
-    inputs = Inputs(timeline.steps, timeline.postures, timeline.actions, cars, structures, lines, drag)
+    inputs = Inputs(timeline.steps, timeline.postures, timeline.actions, cars, structures, lines, drag,
+                    track.pieces(scene.track))
     for table in inputs:
         table.flags.writeable = False
     return timeline, inputs

@@ -148,12 +148,12 @@ def test_overhead_hand_case():
 
 def test_grip_demand_and_slide():
     air = air_load.AirLoad(-120.0, 30.0, 40.0, 0.0, 0.0, 0.0)
-    grip = sliding.grip_demand(air, 75.0, -1.0, 0.0, 30.0, 1.0)
+    grip = sliding.grip_demand(air, 75.0, -1.0, 0.0, 30.0, 1.0, G)
     assert grip.need_x == pytest.approx(120.0 - 75.0)
     assert grip.static_normal == pytest.approx(75 * G - 40.0)
     assert grip.demand == pytest.approx(math.hypot(45.0, -30.0) / (75 * G - 40.0))
     # On a roof tilted 0.1 rad across the track the normal load is W cos(0.1) less the lift.
-    assert sliding.grip_demand(air, 75.0, -1.0, 0.0, 30.0, math.cos(0.1)).static_normal == pytest.approx(
+    assert sliding.grip_demand(air, 75.0, -1.0, 0.0, 30.0, math.cos(0.1), G).static_normal == pytest.approx(
         75 * G * math.cos(0.1) - 40.0)
     # A slide under kinetic friction alone decelerates at mu_k g and stops.
     u, w, udot, stopped = sliding.slide_step(-1.0, 0.0, 0.0, 0.0, 75.0, 0.5, 75 * G, 0.0, 0.01)

@@ -41,7 +41,7 @@ def flight_iteration(v, inputs, env, state, act, out):
         record_flight(out.record[env.k], env, fl, posture, v.drag, beat.mode)
     if beat.mode == Mode.GONE or env.last:
         return State(beat, state.slide, state.balance, fl, state.frontal)
-    new = rk4(fl, posture, env.speed, env.next_speed, env.accel, env.accel_y, env.wind_x, env.wind_y, v.drag, v.mass,
+    new = rk4(fl, posture, env.speed, env.next_speed, env.accel, env.body.ground_y, env.wind_x, env.wind_y, v.drag, v.mass,
               v.dt)
     car, cross = touchdown_car(inputs.cars, fl, new, not beat.assessing)
     if car >= 0:

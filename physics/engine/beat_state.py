@@ -34,9 +34,11 @@ Beat = namedtuple("Beat", "mode jumped landed assessing leaves_now failed_act pl
 Plan = namedtuple("Plan", "row gait_speed gait_friction gait_rate settling gait_speed_y")
 State = namedtuple("State", "beat slide balance flight frontal")
 # Step k: its time (s), the consist's speed (m/s), acceleration (m/s^2) and
-# travel (m), the ambient wind (m/s), the next step's speed, whether this is
-# the last step, and the car body's lateral acceleration (m/s^2, + left).
-Env = namedtuple("Env", "k t speed accel distance wind_x wind_y next_speed last accel_y")
+# travel (m), the ambient wind in the car's axes (m/s), the next step's speed,
+# whether this is the last step, and the car body's motion on the track (a
+# curves.CarBody: felt lateral and vertical accelerations, its lateral
+# acceleration over the ground, cant and roll).
+Env = namedtuple("Env", "k t speed accel distance wind_x wind_y next_speed last body")
 
 
 @small

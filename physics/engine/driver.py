@@ -16,6 +16,7 @@ from physics import G
 from physics.engine.air_load import body_drag
 from physics.engine.airborne import flight_iteration
 from physics.engine.beat_state import Beat, Env, Outputs, Plan, State, Variant, after_failure
+from physics.engine.curves import car_body, track_at
 from physics.engine.flight import Flight
 from physics.engine.frontal import level
 from physics.engine.jit import entry, kernel, small
@@ -27,14 +28,26 @@ from physics.engine.turbulence import advance_turbulence, start_turbulence
 from physics.records import ActionCode, Mode
 
 
-@small
-def environment(p, step, next_step, tb, k, last):
-    """The consist's motion and the ambient wind (mean, gusts, turbulence) at step k."""
+@kernel
+def environment(p, track, step, next_step, tb, k, last):
+    """The consist's motion, the car body's on the track and the ambient wind (mean, gusts, turbulence)
+    at step k. The track is read where the performer started on the consist (a walk moves them a few
+    metres along a curve of hundreds); the ambient wind is fixed to the ground, so the car's heading
+    turns it."""
     speed = step.speed * p.speed_scale
-    tb = advance_turbulence(tb, step.time, abs(speed - p.wind_x), p.turbulence_sigma, p.turbulence_length)
-    env = Env(k, step.time, speed, step.accel * p.speed_scale, step.distance * p.speed_scale,
-              p.wind_x + step.gust_x * p.gust_scale + tb.value, p.wind_y + step.gust_y * p.gust_scale,
-              next_step.speed * p.speed_scale, last, step.accel_y)
+    distance = step.distance * p.speed_scale
+    point = track_at(track, distance + p.start_x)
+    body = car_body(point, speed, p.flexibility, step.ride_y, step.ride_z, step.accel_y)
+    wx = p.wind_x + step.gust_x * p.gust_scale
+    wy = p.wind_y + step.gust_y * p.gust_scale
+    mean_x = p.wind_x
+    if point.heading != 0.0:
+        c, s = math.cos(point.heading), math.sin(point.heading)
+        wx, wy = wx * c + wy * s, -wx * s + wy * c
+        mean_x = p.wind_x * c + p.wind_y * s
+    tb = advance_turbulence(tb, step.time, abs(speed - mean_x), p.turbulence_sigma, p.turbulence_length)
+    env = Env(k, step.time, speed, step.accel * p.speed_scale, distance, wx + tb.value, wy,
+              next_step.speed * p.speed_scale, last, body)
     return env, tb
 
 
@@ -104,7 +117,7 @@ def run_variants(params, roof_scale, inputs, first, last, events, outcomes, reco
         state = start_state(p)
         for k in range(n):
             step = steps[k]
-            env, tb = environment(p, step, steps[min(k + 1, n - 1)], tb, k, k == n - 1)
+            env, tb = environment(p, inputs.track, step, steps[min(k + 1, n - 1)], tb, k, k == n - 1)
             act = step.action
             state, plan = planned(inputs, state, step, act)
             beat = state.beat

@@ -89,11 +89,11 @@ def roof_z_at(car, y):
 
 
 @small
-def frontal_load(air, mass, height, slope_sin, accel_y, normal):
+def frontal_load(air, mass, height, slope_sin, accel_y, normal, g):
     """The load across the track on a body whose centre of mass is `height` above its contact: the
     torque of the side wind and the car's lateral pseudo-force; and the side load the roof must hold
     by friction, which also has gravity's part down a crowned roof (slope_sin: the sine of its slope)."""
-    weight = mass * G
+    weight = mass * g
     pseudo = -mass * accel_y
     h = max(height, MIN_PENDULUM)
     return FrontalLoad(air.roll + pseudo * h, weight * h, max(normal, 1e-6), h,

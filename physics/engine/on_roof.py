@@ -8,6 +8,7 @@ from __future__ import annotations
 import math
 from collections import namedtuple
 
+from physics import G
 from physics.engine.air_load import rotate
 from physics.engine.beat_state import Beat, State, failed, lifted, travel, with_mode
 from physics.engine.flight import over_the_side, take_off
@@ -83,8 +84,9 @@ def roof_iteration(v, inputs, env, state, plan, act, out):
     if plan.settling and beat.mode == Mode.PLANTED:
         bal = restart(bal)
     restart_now = bal.restart
+    g = G + env.body.felt_z
     bal, load, target = settle(bal, posture, wx, wy, v.mass, env.accel + slide.udot, v.drag,
-                               v.params.max_lean, v.dt, ft.contact != Contact.BODY and beat.mode != Mode.DOWN)
+                               v.params.max_lean, v.dt, ft.contact != Contact.BODY and beat.mode != Mode.DOWN, g)
     if restart_now:
         v.buf_err[:] = 0.0
         v.buf_rate[:] = 0.0
@@ -104,16 +106,16 @@ def roof_iteration(v, inputs, env, state, plan, act, out):
         v.buf_err[:] = bal.lean - target.lean
         v.buf_rate[:] = bal.rate
         v.buf_ff[:] = equilibrium_cop(load, bal.lean)
-    side_load = frontal_load(load.air, v.mass, load.com_z, ft.slope_sin, env.accel_y, load.normal)
+    side_load = frontal_load(load.air, v.mass, load.com_z, ft.slope_sin, env.body.felt_y, load.normal, g)
     beat, bal, fr, slide, across = sideways(v, inputs, env, beat, bal, state.frontal, side_load, ft, plan, slide,
                                             restart_now, was_assessing, act, out)
-    beat, grip, moved = grip_and_slide(v, inputs, env, beat, bal, load, side_load.side, ft, plan, slide, out)
+    beat, grip, moved = grip_and_slide(v, inputs, env, beat, bal, load, side_load.side, ft, plan, slide, g, out)
     lean_required = 0.0 if plan.settling else target.required
     air = load.air
     if was_assessing and beat.mode != Mode.DOWN and not bal.lying:
         note_stance(out.outcomes[v.b, act], ft.mu_static, grip.demand, margin, across.margin, ft.edge,
                     grip.static_normal / v.weight, lean_required, across.required_tan, math.sqrt(wx * wx + wy * wy),
-                    math.sqrt(air.fx * air.fx + air.fy * air.fy + air.fz * air.fz), abs(env.accel_y), ft.contact)
+                    math.sqrt(air.fx * air.fx + air.fy * air.fy + air.fz * air.fz), abs(env.body.felt_y), ft.contact)
     if anything_overhead(inputs):
         beat = overhead_step(v, inputs, env, beat, posture, lean_k, slide.x, ft.roof_z, act, out)
     if out.recording:
@@ -210,12 +212,12 @@ def sideways(v, inputs, env, beat, bal, fr, side_load, ft, plan, slide, restart_
 
 
 @kernel
-def grip_and_slide(v, inputs, env, beat, bal, load, side, ft, plan, slide, out):
+def grip_and_slide(v, inputs, env, beat, bal, load, side, ft, plan, slide, g, out):
     """Grip demand, a slip if it beats static friction, and the contact's move: (beat, grip, slide at t_(k+1))."""
     phase = slide.gait_phase + 2.0 * math.pi * plan.gait_rate * v.dt
     walking = beat.mode == Mode.PLANTED and not bal.lying
     push = gait_force(phase, plan.gait_friction, v.weight) if walking else 0.0
-    grip = grip_demand(load.air, v.mass, env.accel, push, side, ft.slope_cos)
+    grip = grip_demand(load.air, v.mass, env.accel, push, side, ft.slope_cos, g)
     x, u, udot, y, w = slide.x, slide.u, slide.udot, slide.y, slide.w
     if beat.mode == Mode.PLANTED or (beat.mode == Mode.DOWN and bal.lying and u == 0.0 and w == 0.0):
         if grip.demand > ft.mu_static:

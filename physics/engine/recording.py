@@ -18,7 +18,11 @@ def record_common(r, env, mode, row, lean):
     r.distance = env.distance
     r.wind_x = env.wind_x
     r.wind_y = env.wind_y
-    r.accel_y = env.accel_y
+    r.accel_y = env.body.felt_y
+    r.accel_z = env.body.felt_z
+    r.curvature = env.body.curvature
+    r.cant_tilt = env.body.tilt
+    r.body_roll = env.body.roll
 
 
 @small

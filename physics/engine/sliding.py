@@ -13,7 +13,6 @@ from __future__ import annotations
 import math
 from collections import namedtuple
 
-from physics import G
 from physics.engine.jit import small
 
 # Carried state of the contact on the roof: pivot position (car frame, m), its
@@ -33,13 +32,13 @@ def gait_force(phase, gait_friction, weight):
 
 
 @small
-def grip_demand(air, mass, frame_accel, push, side, slope_cos):
+def grip_demand(air, mass, frame_accel, push, side, slope_cos, g):
     """What the roof must hold: the air load, the pseudo-force -m a and the gait's push along the track;
     `side` across it (N, + left: the air, the crown, the car's lateral motion); slope_cos: the cosine of
-    the roof's tilt across the track."""
+    the roof's tilt across the track; g: gravity as felt on the car body (m/s^2)."""
     need_x = -(air.fx - mass * frame_accel + push)
     need_y = -side
-    static_normal = mass * G * slope_cos - air.fz
+    static_normal = mass * g * slope_cos - air.fz
     demand = math.sqrt(need_x * need_x + need_y * need_y) / max(static_normal, 1e-6)
     return Grip(need_x, need_y, static_normal, demand)
 

@@ -53,10 +53,12 @@ QUIET_COP = 0.4
 Balance = namedtuple("Balance", "lean rate accel brace_a brace_b brace_lift steps shift outside restart lying")
 
 # Loads on a planted posture at a lean: the air load, the rotated centre of
-# mass (m), the car-frame pseudo-force (N), the normal force (N) and the
+# mass (m), the car-frame pseudo-force (N), the normal force (N), the
 # gravity + pseudo-force + air torque coefficients alpha, beta (N m) such that
-# the torque about the pivot is alpha cos(lean) + beta sin(lean).
-PlantedLoad = namedtuple("PlantedLoad", "air com_x com_z pseudo normal alpha beta")
+# the torque about the pivot is alpha cos(lean) + beta sin(lean), and the
+# weight as felt on the car (N: mass x gravity and the car body's vertical
+# acceleration).
+PlantedLoad = namedtuple("PlantedLoad", "air com_x com_z pseudo normal alpha beta weight")
 
 # The lean the performer aims for: its value (rad, within max_lean), the lean
 # the load would need (rad; pi/2 when no lean balances it), the centre of
@@ -112,22 +114,23 @@ def solve_lean(alpha, beta, target):
 
 
 @kernel
-def planted_load(posture, bal, wx, wy, mass, frame_accel, drag):
+def planted_load(posture, bal, wx, wy, mass, frame_accel, drag, g):
     """Loads on `posture` leaned by bal.lean in the apparent wind (wx, wy) (m/s).
 
     frame_accel: the acceleration of the contact's frame along the track (the
-    consist's plus the slide's), m/s^2, which gives the pseudo-force.
+    consist's plus the slide's), m/s^2, which gives the pseudo-force; g: gravity
+    as felt on the car body (m/s^2).
     """
     c = math.cos(bal.lean)
     s = math.sin(bal.lean)
     air = air_load(posture, c, s, wx, wy, 0.0, drag)
     cx, cz = rotate(posture.com_x, posture.com_z, c, s)
-    weight = mass * G
+    weight = mass * g
     pseudo = -mass * frame_accel
     normal = weight - air.fz - mass * (bal.accel * cx + bal.rate * bal.rate * cz)
     alpha = weight * posture.com_x + air.torque_cos + pseudo * posture.com_z
     beta = weight * posture.com_z + air.torque_sin - pseudo * posture.com_x
-    return PlantedLoad(air, cx, cz, pseudo, normal, alpha, beta)
+    return PlantedLoad(air, cx, cz, pseudo, normal, alpha, beta, weight)
 
 
 @small
@@ -197,21 +200,21 @@ def carry_on(bal):
 
 
 @kernel
-def settle(bal, posture, wx, wy, mass, frame_accel, drag, max_lean, dt, leans):
+def settle(bal, posture, wx, wy, mass, frame_accel, drag, max_lean, dt, leans, g):
     """Brace and aim for this step: (balance, load, target).
 
     On a restart a performer who `leans` takes the braced lean at once; the load
     is then taken again at that lean (and the lean re-aimed), so the first
     step's forces are those of the body as it stands, not of an upright one.
     """
-    weight = mass * G
-    load = planted_load(posture, bal, wx, wy, mass, frame_accel, drag)
+    weight = mass * g
+    load = planted_load(posture, bal, wx, wy, mass, frame_accel, drag, g)
     bal = brace(bal, load, dt)
     target = lean_target(bal, posture, weight, max_lean)
     if bal.restart and leans:
         for _ in range(SETTLE_PASSES):
             bal = with_lean(bal, target.lean, bal.rate, bal.accel)
-            load = planted_load(posture, bal, wx, wy, mass, frame_accel, drag)
+            load = planted_load(posture, bal, wx, wy, mass, frame_accel, drag, g)
             bal = brace(bal, load, dt)
             target = lean_target(bal, posture, weight, max_lean)
     return bal, load, target
@@ -257,7 +260,7 @@ def balance_step(bal, load, target, posture, mode, cop, lo, hi, mass, dt):
     """
     c = math.cos(bal.lean)
     s = math.sin(bal.lean)
-    torque = (mass * G * load.com_x + load.air.torque_cos * c + load.air.torque_sin * s + load.pseudo * load.com_z
+    torque = (load.weight * load.com_x + load.air.torque_cos * c + load.air.torque_sin * s + load.pseudo * load.com_z
               - cop * load.normal)
     accel = torque / (mass * posture.inertia)
     rate = bal.rate + accel * dt
