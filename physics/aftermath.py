@@ -61,6 +61,7 @@ def _phase(tr, first: int, last: int, mode: int) -> dict:
             phase["state"] = ("on the ground beside or between the cars" if abs(com[1]) <= 0.5 * widest else
                               f"on the ground beside the track, {'left' if com[1] > 0 else 'right'} of the cars")
             phase["ground_x_m"] = float(com[0] + tr.field("distance")[first])
+            phase["ground_y_m"] = float(com[1])
     return phase
 
 

@@ -214,6 +214,8 @@ def summarise(scene: Scene, events: np.ndarray, outcomes: np.ndarray) -> dict:
             "failures": [e["kind"] for e in failures if action.start <= e["time_s"] < action.end
                          or (a == len(scene.actions) - 1 and e["time_s"] >= action.end)],
             "marginal_because": shortfalls(scene.safety, m) if codes[a] == MARGINAL else [],
+            # Every margin below its factor while the action was assessed (before any failure), failing or not.
+            "below_required": shortfalls(scene.safety, m),
             "grip_ratio_min": _finite(m["grip_ratio_min"]),
             "grip_demand_max": float(m["grip_demand_max"]),
             "balance_margin_min_m": _finite(m["balance_margin_min"]),

@@ -27,7 +27,7 @@ from physics.records import Mode
 from physics.units import display, to_display
 from preview.caution import CAUTION
 from preview.outputs import OutputSet, check_target
-from preview.report import marginal_words, phase_words, required_words, wind_words
+from preview.report import apparent_wind_line, floor_to, marginal_words, phase_words, required_words, wind_words
 from preview.session import OutputError
 from preview.timecode import timecode
 
@@ -45,8 +45,9 @@ CHECKLIST = [
     "The roof surface, the weather and the wind on the day were checked against the scene's values.",
 ]
 INK, SOFT, RULE = "#2b3138", "#5f656c", "#c9c6bf"
-NOT_MODELLED = ("Not modelled: curves, cant and car-body sway; the air's slow-down over the roof; limbs posed "
-                "sideways (the figure is one plane); rigging; injury. See physics/README.md, \"Not modelled\".")
+NOT_MODELLED = ("Not modelled: the air's slow-down over the roof; limbs posed sideways (the figure is one plane); "
+                "the ground beside the track (taken level at rail height); rigging; injury. See physics/README.md, "
+                "\"Not modelled\".")
 BODY = 8.0        # pt, the pages' body text
 ROW = 0.17        # in, a table row
 
@@ -76,10 +77,10 @@ def key_numbers(scene) -> list[tuple[str, str]]:
     else:
         profile = ", ".join(f"{speed(k.speed)} at {k.time:.0f} s" for k in scene.keyframes)
     wind = display(scene.air.wind_speed, "wind", system, ".1f")
-    wind += f" from {math.degrees(scene.air.wind_from):.0f}° (0 = ahead)"
-    if scene.air.gusts:
-        wind += f"; {len(scene.air.gusts)} gust(s) to " + display(max(g.peak for g in scene.air.gusts), "wind",
-                                                                  system, ".1f")
+    wind += f" from {math.degrees(scene.air.wind_from):.0f}° ({direction_words(scene.air.wind_from)})"
+    for g in scene.air.gusts:
+        wind += (f"; a gust adding {display(g.peak, 'wind', system, '.1f')} from "
+                 f"{math.degrees(g.from_direction):.0f}° at {g.start:g} s for {g.duration:g} s")
     if scene.air.turbulence:
         wind += "; turbulence"
     p = scene.performer
@@ -93,6 +94,15 @@ def key_numbers(scene) -> list[tuple[str, str]]:
     return [("consist", cars), ("speed", profile), ("wind", wind),
             ("air density", f"{scene.air.density:.3f} kg/m³"), ("performer", performer),
             ("required", required_words(_required(scene), system))]
+
+
+def direction_words(angle: float) -> str:
+    """Where a wind blowing from `angle` (rad, 0 ahead, + toward the left) comes from, in words."""
+    deg = math.degrees(angle) % 360
+    names = ((0, "from ahead"), (45, "from ahead and the left"), (90, "from the left"),
+             (135, "from behind and the left"), (180, "from behind"), (225, "from behind and the right"),
+             (270, "from the right"), (315, "from ahead and the right"), (360, "from ahead"))
+    return min(names, key=lambda n: abs(n[0] - deg))[1]
 
 
 def _required(scene) -> dict:
@@ -111,6 +121,7 @@ def brief_content(scene, playback, sweep_summary) -> dict:
         "required_factors": s["required_factors"], "first_failure": s["first_failure"], "events": s["events"],
         "aftermath": s["aftermath"], "ducks": s["ducks"],
         "apparent_wind": wind_words(peak, scene.units), "apparent_wind_max_ms": peak,
+        "apparent_wind_whole_beat_ms": s.get("apparent_wind_whole_beat_ms", peak),
         "envelope": sweep_summary, "checklist": CHECKLIST, "caution": CAUTION, "sign_off": SIGN_OFF,
     }
 
@@ -148,19 +159,45 @@ def deciding_view(playback) -> str:
     balance across the track; else the side view, split for a beat with a jump."""
     summary = playback.summary
     first = summary["first_failure"]
-    across = False
     if first:
         across = first.get("side") is not None
     else:
-        for row in summary["actions"]:
-            for short in row["marginal_because"]:
-                if short["margin"] == "side-edge margin":
-                    across = True
-                elif short["margin"] == "balance margin" and row["frontal_balance_margin_min_m"] is not None:
-                    across = across or row["frontal_balance_margin_min_m"] <= row["balance_margin_min_m"] + 1e-12
+        across = _tightest_is_across(playback.scene, summary, _grip_mostly_across(playback.trajectory))
     if across:
         return "end"
     return "split" if any(a.kind == "jump" for a in playback.scene.actions) else "car"
+
+
+def _grip_mostly_across(tr) -> bool:
+    """Whether the friction the roof must give is mostly across the track where it is highest."""
+    demand = tr.field("grip_demand")
+    if not np.isfinite(demand).any():
+        return False
+    k = int(np.nanargmax(demand))
+    return abs(float(tr.field("need_y")[k])) > abs(float(tr.field("need_x")[k]))
+
+
+def _tightest_is_across(scene, summary, grip_across: bool) -> bool:
+    """Whether the beat's tightest margin, against what the scene requires, is across the track: the
+    side-edge margin, a balance margin set by the balance across the track, or a grip ratio whose
+    demand is mostly across the track."""
+    best, across = math.inf, False
+    required = scene.safety
+    for row in summary["actions"]:
+        if not row["assessed"]:
+            continue
+        candidates = [(row["grip_ratio_min"], required.grip_ratio, grip_across),
+                      (row["edge_margin_min_m"], required.edge_margin, True)]
+        if row["balance_margin_min_m"] is not None:
+            frontal = row["frontal_balance_margin_min_m"]
+            candidates.append((row["balance_margin_min_m"], required.balance_margin,
+                               frontal is not None and frontal <= row["balance_margin_min_m"] + 1e-12))
+        for value, factor, is_across in candidates:
+            if value is None or factor <= 0:
+                continue
+            if value / factor < best:
+                best, across = value / factor, is_across
+    return across
 
 
 def frame_facts(playback, t: float) -> str:
@@ -297,7 +334,8 @@ def _page_one(page: Page, scene, content, sweep, sweep_summary):
             page.para(f"After it (the plan stops; the body goes where the physics takes it): {after}.")
     else:
         page.para("No failure in the simulated beat.", BODY + 0.5, "bold")
-    page.para(f"Apparent wind, highest: {content['apparent_wind']}.")
+    wind_line = apparent_wind_line(content, system)
+    page.para(wind_line[0].upper() + wind_line[1:] + ".")
     env = content["envelope"]
     if env:
         from preview.analysis import limit_words
@@ -392,9 +430,10 @@ def _actions_table(page: Page, scene, content) -> None:
             value = display(f["value"], "length", system).split()[0] if f["unit"] == "m" else f"{f['value']:.2f}"
             page.text(MARGIN_IN + x, f"≥ {value}", BODY - 1, color=SOFT)
     page.y -= ROW
-    length = lambda v: "-" if v is None else f"{to_display(v, 'length', system)[0]:.2f}"  # noqa: E731
-    ratio = lambda v: "-" if v is None else f"{v:.2f}"  # noqa: E731
-    length3 = lambda v: "-" if v is None else f"{to_display(v, 'length', system)[0]:+.3f}"  # noqa: E731
+    # Margins rounded down, never up (a ratio of 0.998 is not shown as 1.00).
+    length = lambda v: "-" if v is None else f"{floor_to(to_display(v, 'length', system)[0]):.2f}"  # noqa: E731
+    ratio = lambda v: "-" if v is None else f"{floor_to(v):.2f}"  # noqa: E731
+    length3 = lambda v: "-" if v is None else f"{floor_to(to_display(v, 'length', system)[0], 3):+.3f}"  # noqa: E731
     for a in content["actions"]:
         name = a["name"] if len(a["name"]) <= 20 else a["name"][:19] + "…"
         cells = [name, f"{a['start_s']:.1f}-{a['end_s']:.1f}"]
@@ -408,7 +447,7 @@ def _actions_table(page: Page, scene, content) -> None:
                   ratio(a["lift_ratio_min"]), f"{a['lean_max_deg']:.1f}",
                   f"{to_display(a['apparent_wind_max_ms'], 'wind', system)[0]:.1f}, {a['beaufort_max']}",
                   length(a["landing_margin_min_m"]), length(a["clearance_min_m"]), length(a["edge_margin_min_m"])]
-        short = {s["margin"] for s in a["marginal_because"]}
+        short = {s["margin"] for s in a.get("below_required", a["marginal_because"])}
         for (head, x), cell in zip(heads, cells):
             bold = head == "verdict" or needed.get(head) in short
             page.text(MARGIN_IN + x, cell, BODY, "bold" if bold else "normal")

@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 import json
+import math
 
 from physics.units import display, to_display
 from physics.wind_scales import BEAUFORT_NAMES, beaufort, pedestrian_threshold, saffir_simpson
@@ -10,9 +11,17 @@ from preview.caution import CAUTION
 from preview.timecode import timecode
 
 
+def floor_to(value: float, places: int = 2) -> float:
+    """A margin rounded down, never up: a ratio of 0.998 shows as 0.99, not as 1.00."""
+    scale = 10 ** places
+    return math.floor(value * scale + 1e-9) / scale
+
+
 def _fmt(value, spec: str, unit: str = "") -> str:
     if value is None:
         return "n/a"
+    places = int(spec[-2]) if spec.endswith("f") and spec[-2].isdigit() else None
+    value = floor_to(value, places) if places is not None else value
     return f"{value:{spec}}{(' ' + unit) if unit else ''}"
 
 
@@ -45,7 +54,8 @@ def text_report(scene, summary: dict) -> str:
         wind, wind_unit = to_display(row["apparent_wind_max_ms"], "wind", system)
         drag, drag_unit = to_display(row["drag_max_n"], "force", system)
         bal = row["balance_margin_min_m"]
-        bal_text = "n/a" if bal is None else "{:.2f} {}".format(*to_display(bal, "length", system))
+        bal_value, bal_unit = to_display(bal, "length", system) if bal is not None else (None, "")
+        bal_text = "n/a" if bal is None else f"{floor_to(bal_value):.2f} {bal_unit}"
         lines.append(
             f"{row['name'][:15]:<16}{row['start_s']:5.1f}-{row['end_s']:<6.1f} {row['verdict']:<9}"
             f"{_fmt(row['grip_ratio_min'], '.2f'):>6}{bal_text:>10}{_fmt(row['lift_ratio_min'], '.2f'):>6}"
@@ -64,6 +74,9 @@ def text_report(scene, summary: dict) -> str:
             lines.append(" " * 16 + "; ".join(extra) + f" {to_display(0, 'length', system)[1]}")
         if row["marginal_because"]:
             lines.append(" " * 16 + "marginal because " + marginal_words(row["marginal_because"], system))
+        elif row["verdict"] == "fails" and row.get("below_required"):
+            lines.append(" " * 16 + "before the failure, already below the required: "
+                         + marginal_words(row["below_required"], system))
         if row.get("recovery_steps"):
             n = row["recovery_steps"]
             lines.append(" " * 16 + f"{n} recovery step{'s' if n > 1 else ''}: the performer had to step to stay up")
@@ -72,8 +85,7 @@ def text_report(scene, summary: dict) -> str:
     lines.append("grip = roof friction available / needed (min); balance = margin of stability, the smaller of "
                  "along and across the track (min); lift = normal force / weight (min); lean = lean needed to "
                  "balance the load (max); side edge = support to the nearer side edge (min)")
-    peak = max((r["apparent_wind_max_ms"] for r in summary["actions"]), default=0.0)
-    lines.append(f"apparent wind, highest: {wind_words(peak, system)}")
+    lines.append(apparent_wind_line(summary, system))
     lines.append("")
     for duck in summary.get("ducks", []):
         if duck["latest_start_s"] is None:
@@ -102,18 +114,36 @@ def text_report(scene, summary: dict) -> str:
     return "\n".join(lines)
 
 
-def factor_value(value: float, unit: str, system: str) -> str:
-    return display(value, "length", system) if unit == "m" else f"{value:.2f}"
+def apparent_wind_line(summary: dict, system: str) -> str:
+    """The highest apparent wind: over the assessed beat, and over the whole run when a failure cut the
+    assessment short and the body met more wind after it."""
+    peak = max((r["apparent_wind_max_ms"] for r in summary["actions"]), default=0.0)
+    first = summary["first_failure"]
+    whole = summary.get("apparent_wind_whole_beat_ms", peak)
+    if first is None:
+        return f"apparent wind, highest: {wind_words(max(peak, whole), system)}"
+    words = f"apparent wind, highest before the first failure ({first['time_s']:.2f} s): {wind_words(peak, system)}"
+    if whole > peak + 0.05:
+        words += f"; over the whole beat as simulated: {display(whole, 'wind', system, '.1f')}"
+    return words
+
+
+def factor_value(value: float, unit: str, system: str, measured: bool = True) -> str:
+    """A margin (rounded down, never flattering) or a required factor (rounded as usual)."""
+    if unit == "m":
+        number, name = to_display(value, "length", system)
+        return f"{floor_to(number) if measured else number:.2f} {name}"
+    return f"{floor_to(value) if measured else value:.2f}"
 
 
 def marginal_words(shortfalls: list[dict], system: str) -> str:
     """'balance margin 0.02 m, required 0.03 m; ...': which factor made an action marginal."""
     return "; ".join(f"{s['margin']} {factor_value(s['value'], s['unit'], system)}, required "
-                     f"{factor_value(s['required'], s['unit'], system)}" for s in shortfalls)
+                     f"{factor_value(s['required'], s['unit'], system, False)}" for s in shortfalls)
 
 
 def required_words(factors: dict, system: str) -> str:
-    return ", ".join(f"{name} {factor_value(f['value'], f['unit'], system)}" for name, f in factors.items())
+    return ", ".join(f"{name} {factor_value(f['value'], f['unit'], system, False)}" for name, f in factors.items())
 
 
 def phase_words(phase: dict, system: str) -> str:
@@ -124,6 +154,10 @@ def phase_words(phase: dict, system: str) -> str:
                   f"{display(phase['peak_speed_ms'], 'wind', system)}")
     elif "ground_x_m" in phase:
         words += f" at ground x = {display(phase['ground_x_m'], 'length', system, '.1f')}"
+        y = phase.get("ground_y_m", 0.0)
+        if "beside the track" in phase["state"]:
+            words += (f", {display(abs(y), 'length', system, '.1f')} {'left' if y > 0 else 'right'} of the "
+                      "track's centreline")
     return words
 
 

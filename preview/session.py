@@ -90,7 +90,16 @@ def make_playback(scene, variant=None) -> Playback:
     summary["aftermath"] = phases(trajectory)
     summary["arrivals"] = structure_arrivals(trajectory)
     summary["ducks"] = latest_duck_starts(scene) if variant is None else []
+    summary["apparent_wind_whole_beat_ms"] = whole_beat_wind(trajectory)
     return Playback(trajectory, summary)
+
+
+def whole_beat_wind(trajectory) -> float:
+    """The highest apparent wind the body met anywhere in the run, after a failure too (m/s, horizontal);
+    the actions' own maxima stop at the first failure."""
+    import numpy as np
+    wind = np.hypot(trajectory.field("app_x"), trajectory.field("app_y"))
+    return float(np.nanmax(wind)) if np.isfinite(wind).any() else 0.0
 
 
 def structure_arrivals(trajectory) -> list[dict]:
