@@ -236,3 +236,36 @@ duration = "2 s"
 ''', "bad.toml")
     message = str(err.value)
     assert "bad.toml" in message and words in message
+
+
+def test_the_bundled_curve_and_rough_ride_scenes(capsys):
+    # A tight curve taken too fast: a sideways step, then a slip toward the outside (the right of a
+    # left-hand curve) and over the edge. The envelope over speed finds where the beat stops holding
+    # on the curve, and a run just either side of its limits agrees. The rough ride: a kneeling
+    # performer holds, with the ride's lateral acceleration reported.
+    import json
+
+    from physics.scene_load import load_scene
+    from physics.verdict import summarise
+    from preview.cli import main
+    from tests.conftest import REPO
+    path = REPO / "scenes" / "curve_too_fast.toml"
+    scene = load_scene(path)
+    tr = simulate(scene)
+    summary = summarise(scene, tr.events, tr.outcomes)
+    assert summary["verdict"] == "fails" and summary["first_failure"]["side"] == "right"
+    assert int(tr.events[Event.OFF_SIDE]["side"]) == -1
+    assert summary["actions"][0]["lateral_accel_max_ms2"] > 2.5
+    assert main(["envelope", str(path), "--vary", "speed=20 km/h..90 km/h", "--points", "15", "--json"]) == 0
+    limits = json.loads(capsys.readouterr().out)["limits"]
+    holds, not_fail = limits[0]["value"], limits[1]["value"]
+    assert 40 / 3.6 < holds < not_fail < 75 / 3.6
+    for speed, verdict in ((0.97 * holds, "holds"), (1.03 * not_fail, "fails")):
+        s = load_scene(path, [f'motion.speed="{speed} m/s"'])
+        t = simulate(s)
+        assert summarise(s, t.events, t.outcomes)["verdict"] == verdict
+    rough = load_scene(REPO / "scenes" / "rough_freight_kneel.toml")
+    tr = simulate(rough)
+    summary = summarise(rough, tr.events, tr.outcomes)
+    assert summary["verdict"] == "holds"
+    assert 1.0 < summary["actions"][0]["lateral_accel_max_ms2"] < 0.35 * G
