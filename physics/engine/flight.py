@@ -93,6 +93,14 @@ def over_the_side(fl, side):
 
 
 @small
+def side_clearance(fl):
+    """How far the centre of mass of a body going down a car's side stays from it (m): half a body's
+    depth, and the reach of a body lying over sideways toward the car (its length below the centre of
+    mass, turned by the roll)."""
+    return SIDE_CLEAR + abs(math.sin(fl.roll)) * abs(fl.low_dz)
+
+
+@small
 def beside(car, y):
     """Whether y (m across the track) is past a car's side edges."""
     return abs(y) > 0.5 * car.width
@@ -190,7 +198,8 @@ def kept_out_of_cars(cars, before, after):
     that end; over the roof a touchdown has already taken it."""
     for i in range(cars.shape[0]):
         car = cars[i]
-        if after.z + after.low_dz >= car.roof_height or beside(car, after.y - after.side * SIDE_CLEAR):
+        clear = side_clearance(after)
+        if after.z + after.low_dz >= car.roof_height or beside(car, after.y - after.side * clear):
             continue
         if after.side != 0:
             # Gone over a side edge: it goes down along the car's side, not into the car.
@@ -198,7 +207,7 @@ def kept_out_of_cars(cars, before, after):
                 continue
             return Flight(after.x, after.z, after.vx, after.vz, after.row, after.lean, after.low_dx, after.low_dz,
                           after.left, after.right, after.fallen, after.ground_x,
-                          after.side * (0.5 * car.width + SIDE_CLEAR), 0.0 if after.vy * after.side < 0 else after.vy,
+                          after.side * (0.5 * car.width + clear), 0.0 if after.vy * after.side < 0 else after.vy,
                           after.roll, after.side), True
         if after.x + after.right <= car.rear_x or after.x + after.left >= car.front_x:
             continue

@@ -160,10 +160,12 @@ def frontal_step(fr, load, inertia, half, mode, feet, recovery_step, max_lean, r
     rate = fr.rate + accel * dt
     new_roll = roll + rate * dt
     falling = fr.falling
-    if falling and abs(new_roll) >= LIE_ANGLE:
+    if abs(new_roll) >= LIE_ANGLE:
+        # Over on its side (a body sliding or toppling sideways): it lies there.
         new_roll = math.copysign(LIE_ANGLE, new_roll)
         rate = 0.0
         accel = 0.0
+        falling = True
     margin = half - abs(xcom)
     happened = 0
     shift = 0.0
