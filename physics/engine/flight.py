@@ -23,6 +23,7 @@ from physics.engine.frontal import roof_z_at
 from physics.engine.jit import kernel, small
 from physics.engine.roof import EDGE_TOLERANCE, car_at, feet_friction
 
+ACROSS_REACH = 0.2         # m the shoulders and arms stand out from the body's midline (from memory)
 SIDE_CLEAR = 0.15          # m from a car's side to the centre of mass of a body falling down beside it (half a
                            # body's depth, from memory)
 LANDING_ABSORB_TIME = 0.2  # s of leg flexion in a landing (from memory; drop-landing studies ~0.1-0.3 s)
@@ -97,7 +98,7 @@ def side_clearance(fl):
     """How far the centre of mass of a body going down a car's side stays from it (m): half a body's
     depth, and the reach of a body lying over sideways toward the car (its length below the centre of
     mass, turned by the roll)."""
-    return SIDE_CLEAR + abs(math.sin(fl.roll)) * abs(fl.low_dz)
+    return SIDE_CLEAR + abs(math.tan(min(abs(fl.roll), 1.5))) * abs(fl.low_dz)
 
 
 @small
@@ -138,8 +139,11 @@ def take_off(posture, row, lean, pivot_x, roof_z, vx, vz, pivot_y, vy, roll):
     cx, cz = rotate(posture.com_x, posture.com_z, math.cos(lean), math.sin(lean))
     r = reach(posture, lean, posture.com_x, posture.com_z)
     # In the air every segment turns with the lean, feet too: the body leaves the roof, not through it.
-    z = max(roof_z + cz * math.cos(roll), roof_z - r.low_z)
-    return Flight(pivot_x + cx, z, vx, vz, row, lean, r.low_x, r.low_z, r.left, r.right, False, math.nan,
+    # A body rolled over sideways has its lowest point turned up with it, and its shoulders and feet,
+    # which stand out across it, turned down.
+    low_z = r.low_z * math.cos(roll) - abs(math.sin(roll)) * max(posture.half_width, ACROSS_REACH)
+    z = max(roof_z + cz * math.cos(roll), roof_z - low_z)
+    return Flight(pivot_x + cx, z, vx, vz, row, lean, r.low_x, low_z, r.left, r.right, False, math.nan,
                   pivot_y + cz * math.sin(roll), vy, roll, 0)
 
 
