@@ -12,20 +12,33 @@ zones. Off the roof the figure is drawn where the record puts it, in the air
 beside the car and then on the ground. Every number comes from the recorded
 trajectory (car frame, SI); track gauge, wheels and deck depth are drawing
 values, not physics.
+
+On a curve (or with a ride) the section turns: the rails and sleeper by the
+track's cant, the car body, its roof and everything drawn in the body's axes
+(the figure on the roof, its support, the roof's reaction and friction, the air
+load and the apparent wind) by the cant plus the body's roll on its suspension,
+about rail level at the track's centreline; the ground, the structures and the
+lines stay level. The weight is drawn straight down and the pseudo-force as
+the car body's acceleration reversed, both in level axes (together they are
+what the roof's axes feel). In the air and on the ground the engine's places
+are level already (gravity straight down), so the body is drawn as recorded.
+A box beside the track says the cant, the roll and the lateral acceleration
+felt on the roof.
 """
 
 from __future__ import annotations
 
 import math
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
 
 import numpy as np
 
-from physics import body
+from physics import G, body
 from physics.records import Event, Mode
 from physics.units import display
+from preview import curves
 from preview.layout import Box, fit
-from preview.palette import (AERO, CAR_BODY, CAR_EDGE, FAILURE, FAINT, FAR_LIMB, GROUND_TONE, HOLDS, INK,
+from preview.palette import (AERO, CAR_BODY, CAR_EDGE, CURVE, FAILURE, FAINT, FAR_LIMB, GROUND_TONE, HOLDS, INK,
                              LINE_ZONE, PANEL, PSEUDO, REACTION, SKY, SOFT_INK, STRUCTURE, TRAIL, WEIGHT, WIND)
 from preview.world import (FORCE_PER_METRE, REACTION_OFFSET, WIND_PER_METRE, canvas_measure, draw_failure_callout,
                            force_arrow, label_size)
@@ -50,9 +63,22 @@ class EndCamera:
     top: int
     origin_x: float    # screen x of the track's centreline (y = 0)
     ground_y: float    # screen y of rail level (z = 0)
+    tilt: float = 0.0  # rad: axes turned by this (+ their left side low) about rail level at the centreline
+
+    def level(self, y: float, z: float) -> tuple[float, float]:
+        """A point given in these (turned) axes in level axes, m."""
+        if self.tilt == 0.0:
+            return y, z
+        c, s = math.cos(self.tilt), math.sin(self.tilt)
+        return y * c + z * s, -y * s + z * c
 
     def to_screen(self, y: float, z: float) -> tuple[float, float]:
+        y, z = self.level(y, z)
         return (self.origin_x - y * self.scale, self.ground_y - z * self.scale)
+
+    def turned(self, tilt: float) -> "EndCamera":
+        """This camera for axes turned by `tilt` (rad, + left side low): the track's, the car body's."""
+        return replace(self, tilt=tilt)
 
 
 def camera(tr, t: float, size, region: Box, zoom: float = DEFAULT_ZOOM) -> EndCamera:
@@ -85,10 +111,11 @@ def draw(canvas, playback, t: float, view, cam: EndCamera, layout, area: Box) ->
     x = section_x(tr, i)
     near = nearby_overhead(scene, x + float(tr.field("distance")[i]))
     car, ahead = section_car(scene, x)
+    cant, roll = curves.tilt(tr, i)
     draw_backdrop(canvas, cam)
     draw_overhead(canvas, cam, near)
-    draw_car(canvas, cam, car, faint=ahead != 0)
-    draw_track(canvas, cam)
+    draw_car(canvas, cam.turned(cant + roll), car, faint=ahead != 0, track=cam.turned(cant))
+    draw_track(canvas, cam.turned(cant))
     draw_zone_edges(canvas, cam, near)
     keep_clear(layout, tr, i, view, cam, car if ahead == 0 else None)
     draw_trail(canvas, tr, i, view, cam)
@@ -97,7 +124,8 @@ def draw(canvas, playback, t: float, view, cam: EndCamera, layout, area: Box) ->
     draw_figure(canvas, tr, i, cam)
     draw_vectors(canvas, tr, i, view, cam)
     draw_side_words(canvas, cam, car, layout, area)
-    draw_car_name(canvas, cam, car, ahead, scene.units, layout, area)
+    draw_car_name(canvas, cam.turned(cant + roll), car, ahead, scene.units, layout, area)
+    draw_track_words(canvas, tr, i, cam, car, layout, area)
     draw_overhead_labels(canvas, cam, near, scene.units, layout, area)
     draw_facts(canvas, tr, i, cam, car if ahead == 0 else None, layout, area)
 
@@ -109,6 +137,15 @@ def section_x(tr, i: int) -> float:
     x = tr.com_path3[:i + 1, 0]
     x = x[np.isfinite(x)]
     return float(x[-1]) if x.size else float(tr.scene.start_x)
+
+
+def pose_camera(tr, i: int, cam: EndCamera) -> EndCamera:
+    """The camera for the body as recorded at step i: on the roof its places are in the car body's axes,
+    turned by the cant and the body's roll; in the air and on the ground they are level."""
+    if not math.isfinite(float(tr.field("pivot_x")[i])):
+        return cam.turned(0.0)
+    cant, roll = curves.tilt(tr, i)
+    return cam.turned(cant + roll)
 
 
 def section_car(scene, x: float):
@@ -183,12 +220,19 @@ def roof_points(car, n: int = 25) -> list[tuple[float, float]]:
     return [(float(y), float(car.roof_z(y))) for y in ys]
 
 
-def draw_car(canvas, cam: EndCamera, car, faint: bool = False) -> None:
-    """The car cut across: wheels and bogie frame, then the body with its crowned roof and side edges.
-    A car seen ahead of the section (over a gap) is a faint outline only."""
+def _quad(cam: EndCamera, y0: float, z0: float, y1: float, z1: float) -> list[tuple[float, float]]:
+    """The corners of a rectangle given in the camera's axes, on the screen."""
+    return [cam.to_screen(y0, z0), cam.to_screen(y1, z0), cam.to_screen(y1, z1), cam.to_screen(y0, z1)]
+
+
+def draw_car(canvas, cam: EndCamera, car, faint: bool = False, track: EndCamera | None = None) -> None:
+    """The car cut across: wheels and bogie frame (in the track's axes, `track`), then the body with its
+    crowned roof and side edges (in the body's, `cam`). A car seen ahead of the section (over a gap) is a
+    faint outline only."""
     canvas.tag = "consist"
     if car is None:
         return
+    track = track or cam
     roof = [cam.to_screen(y, z) for y, z in roof_points(car)]
     body_pts = ([cam.to_screen(-car.width / 2, car.body_bottom)] + roof + [cam.to_screen(car.width / 2,
                                                                                          car.body_bottom)])
@@ -196,29 +240,23 @@ def draw_car(canvas, cam: EndCamera, car, faint: bool = False) -> None:
         canvas.polygon(body_pts, FAINT, 2)
         return
     for side in (-1, 1):
-        x0, y0 = cam.to_screen(side * GAUGE / 2 + 0.07, WHEEL)
-        x1, y1 = cam.to_screen(side * GAUGE / 2 - 0.07, 0.0)
-        canvas.rect(min(x0, x1), y0, abs(x1 - x0), y1 - y0, CAR_EDGE)
-    x0, y0 = cam.to_screen(GAUGE / 2 + 0.25, 0.75)
-    x1, y1 = cam.to_screen(-GAUGE / 2 - 0.25, 0.45)
-    canvas.rect(x0, y0, x1 - x0, y1 - y0, CAR_EDGE)
+        canvas.polygon(_quad(track, side * GAUGE / 2 + 0.07, WHEEL, side * GAUGE / 2 - 0.07, 0.0), CAR_EDGE)
+    canvas.polygon(_quad(track, GAUGE / 2 + 0.25, 0.75, -GAUGE / 2 - 0.25, 0.45), CAR_EDGE)
     canvas.polygon(body_pts, CAR_BODY)
     canvas.polygon(body_pts, CAR_EDGE, 2)
     canvas.polyline(roof, INK, 3)
-    for y in (-car.width / 2, car.width / 2):   # the side edges
-        ex, ey = cam.to_screen(y, car.roof_z(y))
-        canvas.line((ex, ey - 6), (ex, ey + 8), INK, 3)
+    for y in (-car.width / 2, car.width / 2):   # the side edges, upright in the body's axes
+        z = car.roof_z(y)
+        canvas.line(cam.to_screen(y, z + 6 / cam.scale), cam.to_screen(y, z - 8 / cam.scale), INK, 3)
 
 
 def draw_track(canvas, cam: EndCamera) -> None:
-    """Sleeper and the two rails at rail level."""
+    """Sleeper and the two rails at rail level, in the track's axes (turned by the cant)."""
     canvas.tag = "scenery"
-    x0, y0 = cam.to_screen(GAUGE / 2 + 0.55, 0.0)
-    x1, y1 = cam.to_screen(-GAUGE / 2 - 0.55, -0.12)
-    canvas.rect(x0, y0, x1 - x0, y1 - y0, FAINT)
+    canvas.polygon(_quad(cam, GAUGE / 2 + 0.55, 0.0, -GAUGE / 2 - 0.55, -0.12), FAINT)
+    rail = max(2.0, 0.08 * cam.scale) / cam.scale
     for side in (-1, 1):
-        rx, ry = cam.to_screen(side * GAUGE / 2 + 0.04, 0.15)
-        canvas.rect(rx, ry, max(2.0, 0.08 * cam.scale), 0.15 * cam.scale, CAR_EDGE)
+        canvas.polygon(_quad(cam, side * GAUGE / 2 + 0.04, 0.15, side * GAUGE / 2 + 0.04 - rail, 0.0), CAR_EDGE)
 
 
 def keep_clear(layout, tr, i: int, view, cam: EndCamera, car) -> None:
@@ -226,17 +264,21 @@ def keep_clear(layout, tr, i: int, view, cam: EndCamera, car) -> None:
     kept free of labels."""
     pts = tr.ends3(i).reshape(-1, 3)
     pad = 0.2 * cam.scale
+    pose = pose_camera(tr, i, cam)
     if np.isfinite(pts).all():
-        _reserve_around(layout, [cam.to_screen(y, z) for _, y, z in pts], pad)
+        _reserve_around(layout, [pose.to_screen(y, z) for _, y, z in pts], pad)
         r, com = tr.record[i], tr.com_path3[i]
         if "wind" in view.vectors and math.isfinite(r["app_y"]) and np.isfinite(com).all():
             head = (float(com[1]), float(com[2]) + 1.3)
             tail = (head[0] - float(r["app_y"]) / WIND_PER_METRE, head[1] - _or0(r["app_z"]) / WIND_PER_METRE)
-            _reserve_around(layout, [cam.to_screen(*head), cam.to_screen(*tail)], 8)
+            _reserve_around(layout, [pose.to_screen(*head), pose.to_screen(*tail)], 8)
     if car is not None:
-        x0, y0 = cam.to_screen(car.width / 2, car.roof_height)
-        x1, y1 = cam.to_screen(-car.width / 2, car.body_bottom)
-        layout.reserve(Box(x0, y0 - 8, x1 - x0, y1 - y0 + 8))
+        cant, roll = curves.tilt(tr, i)
+        body = cam.turned(cant + roll)
+        corners = [body.to_screen(y, z) for y in (-car.width / 2, car.width / 2)
+                   for z in (car.roof_height, 0.0)]   # the body, its bogie and wheels down to the rails
+        xs, ys = [p[0] for p in corners], [p[1] for p in corners]
+        layout.reserve(Box(min(xs), min(ys) - 8, max(xs) - min(xs), max(ys) - min(ys) + 8))
 
 
 def _reserve_around(layout, points, pad: float) -> None:
@@ -257,8 +299,9 @@ def struck_out(tr, i: int) -> bool:
 
 
 def screen_ends(tr, i: int, cam: EndCamera) -> np.ndarray:
-    """(12, 2, 2) segment ends in pixels: across (y) and up (z)."""
+    """(12, 2, 2) segment ends in pixels: across (y) and up (z); on the roof turned with the car body."""
     ends = tr.ends3(i)
+    cam = pose_camera(tr, i, cam)
     return np.array([[cam.to_screen(p[1], p[2]) for p in seg] for seg in ends])
 
 
@@ -286,7 +329,8 @@ def draw_figure(canvas, tr, i: int, cam: EndCamera, ghost: bool = False) -> None
     canvas.circle(head_c, radius, ink, max(2, int(stature_px * 0.015)))
     if not ghost and tr.field("mode")[i] == Mode.GONE:   # lying along the track it is small end-on: ringed
         com = tr.com_path3[i]
-        canvas.circle(cam.to_screen(float(com[1]), float(com[2])), max(12.0, 0.5 * cam.scale), INK, 1)
+        canvas.circle(pose_camera(tr, i, cam).to_screen(float(com[1]), float(com[2])), max(12.0, 0.5 * cam.scale),
+                      INK, 1)
 
 
 def draw_trail(canvas, tr, i: int, view, cam: EndCamera) -> None:
@@ -297,8 +341,11 @@ def draw_trail(canvas, tr, i: int, view, cam: EndCamera) -> None:
     if mode[i] in (Mode.FLIGHT, Mode.GONE):
         grounded = np.nonzero(np.isin(mode[:i + 1], (Mode.PLANTED, Mode.SLIDING, Mode.DOWN)))[0]
         start = min(start, int(grounded[-1]) if grounded.size else 0)
-    com = tr.com_path3[start:i + 1:4]
-    points = [cam.to_screen(y, z) for _, y, z in com if math.isfinite(y) and math.isfinite(z)]
+    points = []
+    for k in range(start, i + 1, 4):
+        _, y, z = tr.com_path3[k]
+        if math.isfinite(y) and math.isfinite(z):
+            points.append(pose_camera(tr, k, cam).to_screen(float(y), float(z)))
     canvas.polyline(points, TRAIL, 2)
 
 
@@ -313,11 +360,14 @@ def draw_vectors(canvas, tr, i: int, view, cam: EndCamera) -> None:
     mode = int(r["mode"])
     if not np.isfinite(com).all() or mode == Mode.GONE:
         return
+    level = cam.turned(0.0)
+    cam = pose_camera(tr, i, cam)          # the body's axes on the roof, level in the air
     at = (float(com[1]), float(com[2]))
+    at_level = cam.level(*at)
     if mode in (Mode.PLANTED, Mode.SLIDING) and "balance" in view.vectors:
         draw_balance(canvas, r, at, cam)
     if "weight" in view.vectors:
-        force_arrow(canvas, cam, at, (0.0, -tr.weight), WEIGHT, "weight")
+        force_arrow(canvas, level, at_level, (0.0, -tr.weight), WEIGHT, "weight")
     if "aero" in view.vectors and math.isfinite(r["aero_y"]):
         force_arrow(canvas, cam, at, (float(r["aero_y"]), _or0(r["aero_z"])), AERO, "aero")
     on_roof = mode in (Mode.PLANTED, Mode.SLIDING, Mode.DOWN)
@@ -325,15 +375,33 @@ def draw_vectors(canvas, tr, i: int, view, cam: EndCamera) -> None:
         base = (float(r["pivot_y"]), float(r["contact_z"]))
         force_arrow(canvas, cam, base, (0.0, _or0(r["normal"])), REACTION, "normal", push=True, shift=REACTION_OFFSET)
         force_arrow(canvas, cam, base, (_or0(r["need_y"]), 0.0), REACTION, "friction", push=True)
-    pseudo = -tr.params["mass"] * _or0(r["accel_y"])
-    if "pseudo" in view.vectors and abs(pseudo) > 1.0:
-        force_arrow(canvas, cam, at, (pseudo, 0.0), PSEUDO, "pseudo")
+    pseudo = pseudo_force(tr, i, on_roof=math.isfinite(float(r["pivot_x"])))
+    if "pseudo" in view.vectors and math.hypot(*pseudo) > 1.0:
+        force_arrow(canvas, level, at_level, pseudo, PSEUDO, "pseudo")
     if "wind" in view.vectors and math.isfinite(r["app_y"]):
         canvas.tag = "wind"
         head = (at[0], at[1] + 1.3)
         w = (float(r["app_y"]), _or0(r["app_z"]))
         tail = cam.to_screen(head[0] - w[0] / WIND_PER_METRE, head[1] - w[1] / WIND_PER_METRE)
         canvas.arrow(tail, cam.to_screen(*head), WIND, 2)
+
+
+def car_acceleration(tr, i: int) -> tuple[float, float]:
+    """The car body's acceleration across and up in level axes (m/s^2, + left, + up) at step i: what it
+    feels in its own axes (records' accel_y, accel_z beyond gravity) turned back by its cant and roll."""
+    r = tr.record[i]
+    cant, roll = curves.tilt(tr, i)
+    c, s = math.cos(cant + roll), math.sin(cant + roll)
+    fy, fz = _or0(r["accel_y"]), _or0(r["accel_z"]) + G
+    return fy * c + fz * s, -fy * s + fz * c - G
+
+
+def pseudo_force(tr, i: int, on_roof: bool = True) -> tuple[float, float]:
+    """The pseudo-force across and up in level axes (N): the mass times the car body's acceleration,
+    reversed. In the air the engine keeps only its part across the track (gravity alone acts up and down)."""
+    ay, az = car_acceleration(tr, i)
+    m = float(tr.params["mass"])
+    return -m * ay, (-m * az if on_roof else 0.0)
 
 
 def _or0(value) -> float:
@@ -372,7 +440,7 @@ def draw_failure(canvas, playback, failure, cam: EndCamera, layout, area: Box) -
     z = float(com[2])
     if not (math.isfinite(y) and math.isfinite(z)):
         return
-    px, py = cam.to_screen(y, z)
+    px, py = pose_camera(tr, k, cam).to_screen(y, z)
     px, py = min(max(px, area.x + 20), area.right - 20), min(max(py, area.y + 20), area.bottom - 20)
     draw_failure_callout(canvas, failure, px, py, layout, area, beside=True)
 
@@ -451,7 +519,12 @@ def fact_lines(tr, i: int, car, units: str) -> list[str]:
         if math.isfinite(num("roll")):
             need = num("roll_required")
             needs = f", needs {math.degrees(need):+.1f}°" if math.isfinite(need) else ""
-            out.append(f"sideways lean {math.degrees(num('roll')):+.1f}° (+ toward the left){needs}")
+            roll = math.degrees(num("roll"))
+            roof = math.degrees(sum(curves.tilt(tr, i)))
+            if abs(roof) >= math.degrees(curves.LEVEL):   # the roof's upright is not plumb
+                out.append(f"sideways lean {roll:+.1f}° ({roll + roof:+.1f}° from plumb; + toward the left){needs}")
+            else:
+                out.append(f"sideways lean {roll:+.1f}° (+ toward the left){needs}")
         for name, words in (("frontal_margin", "balance margin across"), ("edge_margin", "support to the side edge")):
             if math.isfinite(num(name)):
                 out.append(f"{words} {display(num(name), 'length', units, '+.2f')}")
@@ -476,6 +549,44 @@ def fact_lines(tr, i: int, car, units: str) -> list[str]:
     return []
 
 
+def track_lines(tr, i: int) -> list[str]:
+    """What the track does under the performer's car at step i, for a scene with a curve or a ride: where
+    it is, the cant and the body's roll (when the roof is tilted) and the lateral acceleration felt on the
+    roof; nothing for a straight, still track."""
+    if not curves.shows_track(tr.scene):
+        return []
+    lines = [curves.place_words(tr, i)]
+    cant, roll = curves.tilt(tr, i)
+    if abs(cant) >= curves.LEVEL or abs(roll) >= curves.LEVEL:
+        lines.append(curves.tilt_words(tr, i))
+    lines.append(f"lateral {curves.lateral_words(float(tr.record['accel_y'][i]), tr.scene.units)}, felt on the roof")
+    return lines
+
+
+def draw_track_words(canvas, tr, i: int, cam: EndCamera, car, layout, area: Box) -> None:
+    """The track lines in one box beside the track, above the ground on the left (else on the right)."""
+    lines = track_lines(tr, i)
+    if not lines:
+        return
+    canvas.tag = "end-track"
+    ts = label_size(canvas)
+    lines = [fit(line, ts, area.w / 2 - 12) for line in lines]
+    w = max(canvas_measure(line, ts)[0] for line in lines) + 12
+    lh = ts + 5
+    h = lh * len(lines) + 8
+    _, rail_y = cam.to_screen(0.0, 0.0)
+    half = car.width / 2 if car is not None else 1.4
+    left_x = cam.to_screen(half + 0.6, 0.0)[0] - w
+    right_x = cam.to_screen(-half - 0.6, 0.0)[0]
+    spots = [(area.x + 10, rail_y - h - 12), (left_x, rail_y - h - 12), (right_x, rail_y - h - 12),
+             (area.x + 10, area.bottom - h - 6)]
+    box = layout.place(w, h, spots, area)
+    canvas.rect(box.x, box.y, box.w, box.h, PANEL)
+    canvas.rect(box.x, box.y, 3, box.h, CURVE)
+    for k, line in enumerate(lines):
+        canvas.text((box.x + 8, box.y + 4 + lh * k), line, INK, ts)
+
+
 def draw_facts(canvas, tr, i: int, cam: EndCamera, car, layout, area: Box) -> None:
     """The fact lines in one box to the right of the car, at roof height."""
     lines = fact_lines(tr, i, car, tr.scene.units)
@@ -492,7 +603,7 @@ def draw_facts(canvas, tr, i: int, cam: EndCamera, car, layout, area: Box) -> No
     spots = [(px, py - h), (px, py + 10), (area.right - w - 10, area.bottom - h - 10)]
     com = tr.com_path3[i]
     if int(tr.field("mode")[i]) in (Mode.FLIGHT, Mode.GONE) and np.isfinite(com).all():
-        bx, by = cam.to_screen(float(com[1]), float(com[2]))   # off the roof: the words beside the body
+        bx, by = pose_camera(tr, i, cam).to_screen(float(com[1]), float(com[2]))   # off the roof: beside the body
         spots = [(bx + 24, by - h - 24), (bx - w - 24, by - h - 24), (bx - w / 2, by - h - 40)] + spots
     box = layout.place(w, h, spots, area)
     canvas.rect(box.x, box.y, box.w, box.h, PANEL)
@@ -502,7 +613,7 @@ def draw_facts(canvas, tr, i: int, cam: EndCamera, car, layout, area: Box) -> No
 
 # ---------------------------------------------------------------- legend
 
-def legend_rows(view, units: str, px_per_m: float | None) -> list[tuple]:
+def legend_rows(view, units: str, px_per_m: float | None, scene=None) -> list[tuple]:
     """The end view's legend: the vector keys it draws, its paths and zones, the scale bars, the timeline."""
     from preview.panels import VECTOR_LEGEND, bar_row, timeline_legend_rows
     rows = [("vector", (key, colour if name in view.vectors else FAINT, words))
@@ -513,4 +624,4 @@ def legend_rows(view, units: str, px_per_m: float | None) -> list[tuple]:
     rows.append(bar_row(1.0, "length", SOFT_INK, "(lengths)", units, px_per_m))
     rows.append(("zone", (LINE_ZONE, "overhead line exclusion zone")))
     rows.append(("zone", (STRUCTURE, "structure deck over the track")))
-    return rows + timeline_legend_rows()
+    return rows + timeline_legend_rows(scene)

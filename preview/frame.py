@@ -43,14 +43,15 @@ class ViewSettings:
         return replace(self, vectors=self.vectors ^ {key})
 
 
-def main_area(size: tuple[int, int], view: "ViewSettings | None" = None, units: str = "metric") -> tuple[int, int]:
+def main_area(size: tuple[int, int], view: "ViewSettings | None" = None, units: str = "metric",
+              scene=None) -> tuple[int, int]:
     """Width and height available to the views above the legend, the timeline and the caution line."""
-    return size[0], size[1] - panels.bottom_height(size, view, units)
+    return size[0], size[1] - panels.bottom_height(size, view, units, scene)
 
 
-def drawing_region(size, view: ViewSettings, units: str) -> Box:
+def drawing_region(size, view: ViewSettings, units: str, scene=None) -> Box:
     """Where the end and plan views fit their drawing: beside the readout and under the banner."""
-    width, height = main_area(size, view, units)
+    width, height = main_area(size, view, units, scene)
     left = panels.readout_width(size, view) + 2 * panels.MARGIN if view.readout else panels.MARGIN
     top = panels.banner_height(size, view) + panels.MARGIN
     return Box(left, top, max(1.0, width - left - panels.MARGIN), max(1.0, height - top - panels.MARGIN))
@@ -58,10 +59,10 @@ def drawing_region(size, view: ViewSettings, units: str) -> Box:
 
 def cameras(playback: Playback, t: float, view: ViewSettings, size) -> list:
     """One camera per view: the side views' (two for split), or the end or plan view's."""
-    width, height = main_area(size, view, playback.scene.units)
+    width, height = main_area(size, view, playback.scene.units, playback.scene)
     tr = playback.trajectory
     if view.frame in ACROSS:
-        region = drawing_region(size, view, playback.scene.units)
+        region = drawing_region(size, view, playback.scene.units, playback.scene)
         return [ACROSS[view.frame].camera(tr, t, (width, height), region, view.zoom)]
     if view.frame == "split":
         half = height // 2

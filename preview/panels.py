@@ -22,7 +22,9 @@ from preview.camera import GROUND
 from preview.canvas import measure
 from preview.caution import CAUTION_SHORT
 from preview.layout import Box, Layout, fit, wrap
-from preview.palette import (AERO, FACT, FAILURE, FAINT, HOLDS, INK, LANDING_ZONE, MARGINAL, PANEL, PSEUDO,
+from preview.report import floor_to
+from preview import curves
+from preview.palette import (AERO, CURVE, FACT, FAILURE, FAINT, HOLDS, INK, LANDING_ZONE, MARGINAL, PANEL, PSEUDO,
                              REACTION,
                              SEGMENT_AERO, SOFT_INK, STRUCTURE, TRAIL, WEIGHT, WIND)
 from preview.report import marginal_words, phase_words
@@ -69,26 +71,27 @@ def caution_height(size, boost: int = 0) -> int:
     return 8 + (14 + boost) * len(caution_lines(size, boost))
 
 
-def bottom_height(size, view=None, units: str = "metric") -> int:
-    """Height under the views: the legend strip (when shown), the timeline with its marks and the caution."""
+def bottom_height(size, view=None, units: str = "metric", scene=None) -> int:
+    """Height under the views: the legend strip (when shown), the timeline with its marks and the caution
+    (`scene`: its curves add a row to the legend)."""
     base = TICK_H + TIMELINE_H + 6 + caution_height(size, _boost(view))
-    return base + (legend_strip(size, view, units) if legend_shown(size, view, units) else 0)
+    return base + (legend_strip(size, view, units, scene) if legend_shown(size, view, units, scene) else 0)
 
 
 def _boost(view) -> int:
     return getattr(view, "text_boost", 0) if view is not None else 0
 
 
-def legend_strip(size, view, units: str) -> int:
-    return legend_layout(size, legend_rows(view, units, None), text_size(size, _boost(view)) - 1)[2] + 4
+def legend_strip(size, view, units: str, scene=None) -> int:
+    return legend_layout(size, legend_rows(view, units, None, scene), text_size(size, _boost(view)) - 1)[2] + 4
 
 
-def legend_shown(size, view, units: str) -> bool:
+def legend_shown(size, view, units: str, scene=None) -> bool:
     """The legend when asked for and the views keep at least 45 % of the height."""
     if view is None or not view.legend:
         return False
     base = TICK_H + TIMELINE_H + 6 + caution_height(size, _boost(view))
-    return size[1] - base - legend_strip(size, view, units) >= 0.45 * size[1]
+    return size[1] - base - legend_strip(size, view, units, scene) >= 0.45 * size[1]
 
 
 def timeline_rect(size, boost: int = 0) -> tuple[int, int, int, int]:
@@ -139,6 +142,8 @@ def readout_rows(playback, t: float, view) -> tuple[list, tuple, list]:
     app = math.hypot(f("app_x"), f("app_y"))
     if math.isfinite(app):
         rows.append(("apparent wind", f"{display(app, 'wind', units, '.1f')}, Beaufort {beaufort(app)}", INK))
+    if curves.shows_track(scene):   # the car body's lateral acceleration in the roof's plane: + left pushes right
+        rows.append(("lateral on roof", curves.lateral_words(f("accel_y"), units), INK))
     if after is not None:
         rows.append(("state", state_words(after, units), FAILURE))
     else:
@@ -147,14 +152,18 @@ def readout_rows(playback, t: float, view) -> tuple[list, tuple, list]:
             rows.append(("in the air", "no roof contact", INK))
         else:
             demand, avail = f("grip_demand"), f("grip_available")
-            grip = (f"{avail / demand:.2f} (needs {demand:.2f}, roof {avail:.2f})" if demand > 1e-6
+            # Margins rounded down, never up.
+            grip = (f"{floor_to(avail / demand):.2f} (needs {demand:.2f}, roof {avail:.2f})" if demand > 1e-6
                     else "no horizontal load")
             rows.append(("grip ratio", grip if math.isfinite(demand) else "n/a", INK))
-            mos = f("balance_margin")
-            rows.append(("balance margin", display(mos, "length", units, "+.2f") if math.isfinite(mos)
-                         else "n/a", INK))
+            # The smaller of the margins along and across the track, as the verdict weighs them.
+            along, across = f("balance_margin"), f("frontal_margin")
+            mos = min((v for v in (along, across) if math.isfinite(v)), default=math.nan)
+            which = " (across)" if math.isfinite(across) and across < along else ""
+            rows.append(("balance margin", display(floor_to(mos, 2), "length", units, "+.2f") + which
+                         if math.isfinite(mos) else "n/a", INK))
             lean = f("lean")
-            rows.append(("lean", f"{math.degrees(lean):+.1f}°" if math.isfinite(lean) else "n/a", INK))
+            rows.append(("lean along track", f"{math.degrees(lean):+.1f}°" if math.isfinite(lean) else "n/a", INK))
         gap, over = tr.overhead_gap(i)
         if over is not None:
             colour = FAILURE if gap < 0 else (MARGINAL if gap < scene.safety.clearance else INK)
@@ -209,17 +218,18 @@ def scale_bar(per_metre_si: float, dimension: str, units: str, px_per_m: float, 
     return value, unit, value * px_per_unit
 
 
-def legend_rows(view, units: str, px_per_m: float | None) -> list[tuple]:
+def legend_rows(view, units: str, px_per_m: float | None, scene=None) -> list[tuple]:
     """(kind, payload) rows: a vector key, the trail, a scale bar or a timeline mark.
-    px_per_m None: the bars at their longest (for sizing the strip). The end and plan views
-    have legends of their own (preview.end_view, preview.plan_view)."""
+    px_per_m None: the bars at their longest (for sizing the strip); `scene`: a scene with curves
+    has their timeline mark. The end and plan views have legends of their own (preview.end_view,
+    preview.plan_view)."""
     from preview.world import FORCE_PER_METRE, SEGMENT_FORCE_PER_METRE, WIND_PER_METRE
     if getattr(view, "frame", None) == "end":
         from preview.end_view import legend_rows as end_rows
-        return end_rows(view, units, px_per_m)
+        return end_rows(view, units, px_per_m, scene)
     if getattr(view, "frame", None) == "plan":
         from preview.plan_view import legend_rows as plan_rows
-        return plan_rows(view, units, px_per_m)
+        return plan_rows(view, units, px_per_m, scene)
     rows = []
     for key, name, colour, words in VECTOR_LEGEND:
         rows.append(("vector", (key, colour if name in view.vectors else FAINT, words)))
@@ -230,7 +240,7 @@ def legend_rows(view, units: str, px_per_m: float | None) -> list[tuple]:
                             px_per_m))
     rows.append(bar_row(WIND_PER_METRE, "wind", WIND, "(apparent wind)", units, px_per_m))
     rows.append(("zone", (LANDING_ZONE, "landing zone (a jump's landing roof)")))
-    return rows + timeline_legend_rows()
+    return rows + timeline_legend_rows(scene)
 
 
 def bar_row(per_metre: float, dimension: str, colour, what: str, units: str, px_per_m: float | None) -> tuple:
@@ -239,12 +249,16 @@ def bar_row(per_metre: float, dimension: str, colour, what: str, units: str, px_
     return ("bar", (colour, BAR_SLOT if px_per_m is None else px, f"{value:g} {unit} {what}"))
 
 
-def timeline_legend_rows() -> list[tuple]:
-    """The legend's rows for the timeline's marks (every view has the timeline)."""
-    return [("tick", (FAILURE, "timeline: failure")),
+def timeline_legend_rows(scene=None) -> list[tuple]:
+    """The legend's rows for the timeline's marks (every view has the timeline); a scene with curves
+    adds theirs."""
+    rows = [("tick", (FAILURE, "timeline: failure")),
             ("tick", (FACT, "timeline: take-off, touchdown, recovery step")),
             ("mark", (STRUCTURE, "timeline: reaches a structure")),
             ("flag", (MARGINAL, "timeline: latest duck start that clears"))]
+    if scene is not None and curves.has_curve(scene):
+        rows.append(("span", (CURVE, "timeline: on a curve, its start and end")))
+    return rows
 
 
 def legend_row_width(row, size: int) -> float:
@@ -282,7 +296,7 @@ def plan(layout: Layout, size, playback, t: float, view, cams) -> Panels:
     ts = text_size(size, _boost(view))
     lh = line_height(ts)
     units = playback.scene.units
-    bottom = bottom_height(size, view, units)
+    bottom = bottom_height(size, view, units, playback.scene)
     layout.reserve(Box(0, height - bottom, width, bottom))
     # Readout, top-left of the first view.
     rows, verdict, why = readout_rows(playback, t, view)
@@ -305,8 +319,8 @@ def plan(layout: Layout, size, playback, t: float, view, cams) -> Panels:
         banners.append((layout.reserve(Box(width - MARGIN - w - 16, cam.top + MARGIN, w + 16, h + 8)), text))
     # The legend strip above the timeline's marks, across the whole width.
     legend, lrows, per_column, columns = None, [], 1, []
-    if legend_shown(size, view, units):
-        lrows = legend_rows(view, units, cams[0].scale)
+    if legend_shown(size, view, units, playback.scene):
+        lrows = legend_rows(view, units, cams[0].scale, playback.scene)
         per_column, columns, strip = legend_layout(size, lrows, ts - 1)
         legend = layout.reserve(Box(MARGIN, height - bottom, width - 2 * MARGIN, strip))
     panels = Panels(size, readout, rows, title, verdict, why_lines, banners, legend, lrows, per_column, columns,
@@ -441,6 +455,10 @@ def draw_legend(canvas, panels: Panels, ts: int) -> None:
                 canvas.circle((x + 2 + 6 * k, mid), 2, payload[0])
         elif kind == "ring":
             canvas.circle((x + 11, mid), 6, payload[0], 2)
+        elif kind == "span":
+            canvas.line((x + 2, mid), (x + 20, mid), payload[0], 3)
+            for end in (x + 2, x + 20):
+                canvas.line((end, mid - 6), (end, mid + 2), payload[0], 2)
         canvas.text((x + 30, y), words, SOFT_INK if kind == "vector" and payload[1] == FAINT else INK, ts)
 
 
@@ -471,8 +489,34 @@ def draw_timeline(canvas, playback, t: float, ts: int, boost: int = 0) -> None:
         if duck.get("latest_start_s") is not None:
             px = at(duck["latest_start_s"])
             canvas.polygon([(px - 5, y - TICK_H), (px + 5, y - TICK_H), (px, y - 1)], MARGINAL)
+    draw_curve_marks(canvas, playback, at, y)
     px = at(t)
     canvas.line((px, y - TICK_H), (px, y + h + 2), INK, 3)
+
+
+def curve_marks(playback) -> list[tuple[float, float, bool, bool]]:
+    """(from, to, starts, ends) in seconds for each curve the performer's mark is on during the beat:
+    `starts`/`ends` whether the curve's start/end is met in the beat (else it runs on past the timeline)."""
+    duration = playback.scene.duration
+    out = []
+    for _, t0, t1 in curves.curve_times(playback.trajectory):
+        a = 0.0 if t0 is None else t0
+        if a > duration:
+            continue
+        b = duration if t1 is None or t1 > duration else t1
+        out.append((a, b, t0 is not None, t1 is not None and t1 <= duration))
+    return out
+
+
+def draw_curve_marks(canvas, playback, at, y: float) -> None:
+    """Along the timeline's top, a line while the performer's mark is on a curve, with a tick where it
+    enters the curve and where it leaves it."""
+    for a, b, starts, ends in curve_marks(playback):
+        x0, x1 = at(a), at(b)
+        canvas.line((x0, y - 2), (x1, y - 2), CURVE, 3)
+        for edge, here in ((x0, starts), (x1, ends)):
+            if here:
+                canvas.line((edge, y - TICK_H), (edge, y + 2), CURVE, 2)
 
 
 def draw_caution(canvas, size, boost: int = 0) -> None:

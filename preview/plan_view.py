@@ -10,6 +10,12 @@ landing zone and where it came down, where the body went over a side edge or
 came down on the ground, and the first failure with the side view's marker
 and callout. The framing is fixed for the whole beat (the whole path fits),
 so the plan reads as a map. Every position comes from the recorded trajectory.
+
+The roof map is in the car frame, so a curve does not bend it; when the track
+under the beat curves, an inset shows the track's centreline from above over
+the whole beat (travel → where the beat starts) with the consist on it now,
+and says which curve the performer's mark is on or comes to next: its side,
+radius, cant, where it runs along the track and how far into it the mark is.
 """
 
 from __future__ import annotations
@@ -22,9 +28,10 @@ import numpy as np
 from physics import body
 from physics.records import Event, Mode
 from physics.units import display
+from preview import curves
 from preview.end_view import FAR, struck_out
-from preview.layout import Box, fit
-from preview.palette import (CAR_BODY, CAR_EDGE, FAILURE, FAINT, FAR_LIMB, GROUND_TONE, HOLDS, INK, LANDING_ZONE,
+from preview.layout import Box, Layout, fit, wrap
+from preview.palette import (CAR_BODY, CAR_EDGE, CURVE, FAILURE, FAINT, FAR_LIMB, GROUND_TONE, HOLDS, INK, LANDING_ZONE,
                              LINE_ZONE, PANEL, SOFT_INK, STRUCTURE, TRAIL)
 from preview.world import (canvas_measure, draw_failure_callout, draw_landing_mark, draw_takeoff_mark, label_size)
 
@@ -150,6 +157,7 @@ def draw(canvas, playback, t: float, view, cam: PlanCamera, layout, area: Box) -
     draw_figure(canvas, tr, i, cam)
     draw_car_words(canvas, scene, cam, layout, area)
     draw_overhead_labels(canvas, scene, cam, float(tr.field("distance")[i]), layout, area)
+    draw_track_inset(canvas, tr, i, cam, layout, area)      # last: it goes where nothing else is
 
 
 def draw_bed(canvas, cam: PlanCamera) -> None:
@@ -355,6 +363,129 @@ def draw_figure(canvas, tr, i: int, cam: PlanCamera) -> None:
     canvas.circle(cam.to_screen(*here), max(10.0, 0.6 * cam.scale), INK, 1)
 
 
+# ---------------------------------------------------------------- inset
+
+INSET_MAP = (190, 96)  # px: the inset's map, width and height (smaller on a small picture)
+INSET_WORDS = 320      # px: the width of its words beside the map (more with a text boost)
+
+
+def beat_span(tr) -> tuple[float, float]:
+    """The stretch of track the consist covers in the beat (m along the track): from its rear at the
+    start to its front at the end."""
+    scene = tr.scene
+    distance = tr.field("distance")
+    rear = min(c.rear_x for c in scene.cars) + float(np.nanmin(distance))
+    front = max(c.front_x for c in scene.cars) + float(np.nanmax(distance))
+    return rear, front
+
+
+def _path_box(tr, cam: PlanCamera) -> Box:
+    """The box round the whole path from above (and where the body came to the ground), on the screen."""
+    pts = path_points(tr)
+    pts = pts[np.isfinite(pts).all(axis=-1)]
+    g = ground_index(tr)
+    if g is not None:
+        pts = np.vstack([pts, tr.com_path3[g, :2]]) if pts.size else tr.com_path3[g:g + 1, :2]
+    if not pts.size:
+        return Box(0, 0, 0, 0)
+    xy = np.array([cam.to_screen(float(x), float(y)) for x, y in pts])
+    (x0, y0), (x1, y1) = xy.min(axis=0) - 12, xy.max(axis=0) + 12
+    return Box(x0, y0, x1 - x0, y1 - y0)
+
+
+def draw_track_inset(canvas, tr, i: int, cam: PlanCamera, layout, area: Box) -> None:
+    """When the track under the beat curves: its centreline from above over the beat in a small panel,
+    curves in their colour, the consist on it now and the performer's mark, with the curve's words."""
+    scene = tr.scene
+    if not curves.has_curve(scene):
+        return
+    canvas.tag = "track-inset"
+    ts = label_size(canvas) - 1
+    lh = ts + 4
+    map_w, map_h = INSET_MAP if area.h >= 480 else (150, 72)
+    words_w = INSET_WORDS + 20 * getattr(canvas, "text_boost", 0)
+    words = [line for part in curves.curve_words(tr, i) for line in wrap(part, ts, words_w)]
+    title = fit("the track over the beat, from above", ts, words_w)
+    w = 12 + map_w + 14 + words_w + 10
+    h = 8 + max(map_h, lh * (len(words) + 1)) + 8
+    probe = Layout(list(layout.taken) + [_path_box(tr, cam)])   # clear of the body's whole path too
+    below, above = cam.to_screen(0.0, -BED)[1], cam.to_screen(0.0, BED)[1]
+    spots = [(area.right - w - 10, area.bottom - h - 10), (area.x + 10, area.bottom - h - 10),
+             (area.right - w - 10, below + 10), (area.right - w - 10, above - h - 10)]
+    box = probe.place(w, h, spots, area)
+    layout.reserve(box)
+    canvas.rect(box.x, box.y, box.w, box.h, PANEL)
+    canvas.rect(box.x, box.y, box.w, box.h, FAINT, width=1)
+    canvas.rect(box.x, box.y, 3, box.h, CURVE)
+    top = box.y + 8
+    draw_inset_map(canvas, tr, i, Box(box.x + 12, top, map_w, map_h))
+    canvas.text((box.x + 12 + map_w + 14, top), title, SOFT_INK, ts)
+    for k, line in enumerate(words):
+        canvas.text((box.x + 12 + map_w + 14, top + lh * (k + 1)), line, INK, ts)
+
+
+def inset_geometry(tr, region: Box):
+    """The centreline over the beat fitted to `region`: (s, screen points, a function from s to the
+    screen, pixels per metre)."""
+    s0, s1 = beat_span(tr)
+    pad = 0.06 * (s1 - s0) + 5.0
+    line = curves.centreline(tr.scene, s0 - pad, s1 + pad, step=max(0.5, (s1 - s0) / 400))
+    s, x, y = line[:, 0], line[:, 1], line[:, 2]
+    span = max(float(np.ptp(x)), float(np.ptp(y)) * region.w / region.h, 1.0)
+    scale = min(region.w / max(float(np.ptp(x)), 1e-6), region.h / max(float(np.ptp(y)), 1e-6), region.w / span)
+    cx, cy = 0.5 * (x.min() + x.max()), 0.5 * (y.min() + y.max())
+    sx = region.x + region.w / 2 + (x - cx) * scale
+    sy = region.y + region.h / 2 - (y - cy) * scale      # left of travel up, as in the plan
+
+    def at(v: float) -> tuple[float, float]:
+        return float(np.interp(v, s, sx)), float(np.interp(v, s, sy))
+    return s, np.stack([sx, sy], axis=-1), at, scale
+
+
+def draw_inset_map(canvas, tr, i: int, region: Box) -> None:
+    """The centreline (curves thicker, in their colour), the consist now and the performer's mark."""
+    s, pts, at, scale = inset_geometry(tr, region)
+    on_curve = np.zeros(s.size, bool)
+    for c in curves.curves(tr.scene):
+        on_curve |= (s >= c.start) & (s <= c.end)
+    cuts = np.concatenate([[0], np.flatnonzero(np.diff(on_curve.astype(int))) + 1, [s.size]])
+    for a, b in zip(cuts[:-1], cuts[1:]):
+        seg = [tuple(p) for p in pts[max(0, a - 1):b]]
+        canvas.polyline(seg, CURVE if on_curve[a] else SOFT_INK, 3 if on_curve[a] else 2)
+    for c in curves.curves(tr.scene):      # where each curve starts and ends, a short cross-tick
+        for edge in (c.start, c.end):
+            if s[0] <= edge <= s[-1]:
+                p0, p1 = at(edge - 1.0), at(edge + 1.0)
+                dx, dy = p1[0] - p0[0], p1[1] - p0[1]
+                norm = math.hypot(dx, dy) or 1.0
+                mx, my = at(edge)
+                canvas.line((mx - 6 * dy / norm, my + 6 * dx / norm), (mx + 6 * dy / norm, my - 6 * dx / norm),
+                            CURVE, 2)
+    scene = tr.scene
+    distance = float(tr.field("distance")[i])
+    rear = min(c.rear_x for c in scene.cars) + distance
+    front = max(c.front_x for c in scene.cars) + distance
+    consist = [at(v) for v in np.linspace(rear, front, 12)]
+    canvas.polyline(consist, CAR_EDGE, 7)
+    mark = at(curves.mark_position(tr, i))
+    canvas.circle(mark, 5, PANEL)
+    canvas.circle(mark, 5, INK, 2)
+    draw_inset_bar(canvas, scene.units, scale, region)
+
+
+def draw_inset_bar(canvas, units: str, px_per_m: float, region: Box) -> None:
+    """A round length at the inset map's bottom right, at most a third of its width."""
+    from preview.panels import scale_bar
+    value, unit, px = scale_bar(1.0, "length", units, px_per_m, region.w / 3)
+    x1, y = region.right, region.bottom
+    canvas.line((x1 - px, y), (x1, y), SOFT_INK, 2)
+    for x in (x1 - px, x1):
+        canvas.line((x, y - 4), (x, y + 1), SOFT_INK, 2)
+    words = f"{value:g} {unit}"
+    ts = label_size(canvas) - 2
+    canvas.text((x1 - px / 2 - canvas_measure(words, ts)[0] / 2, y - ts - 7), words, SOFT_INK, ts)
+
+
 # ---------------------------------------------------------------- labels
 
 def _label(canvas, words: str, colour, candidates, layout, area: Box, tag: str) -> Box:
@@ -414,7 +545,7 @@ def draw_overhead_labels(canvas, scene, cam: PlanCamera, distance: float, layout
 
 # ---------------------------------------------------------------- legend
 
-def legend_rows(view, units: str, px_per_m: float | None) -> list[tuple]:
+def legend_rows(view, units: str, px_per_m: float | None, scene=None) -> list[tuple]:
     """The plan's legend: its paths and marks, a length bar, and the timeline's marks."""
     from preview.panels import bar_row, timeline_legend_rows
     rows = [("trail", (TRAIL, "contact on the roof, up to now")),
@@ -425,4 +556,4 @@ def legend_rows(view, units: str, px_per_m: float | None) -> list[tuple]:
             bar_row(1.0, "length", SOFT_INK, "(lengths)", units, px_per_m),
             ("zone", (STRUCTURE, "structure over the track")),
             ("zone", (LINE_ZONE, "overhead line exclusion zone"))]
-    return rows + timeline_legend_rows()
+    return rows + timeline_legend_rows(scene)

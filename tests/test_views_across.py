@@ -8,6 +8,7 @@ are drawn to the legend's scale, that labels stay apart and the caution stays.""
 
 from __future__ import annotations
 
+import math
 import os
 import subprocess
 import sys
@@ -357,3 +358,22 @@ def test_render_with_bad_view_options_says_what_is_wrong(tmp_path):
     broken.write_text(SIDE_WIND.replace('offset = "-1.0 m"', 'offset = "-3.0 m"'))
     out = roofbeat("render", str(broken), "-o", str(tmp_path / "z.gif"), "--frame", "end")
     assert out.returncode == 3 and "start.offset" in out.stderr and "Traceback" not in out.stderr
+
+
+def test_readout_balance_margin_is_the_smaller_of_both_planes():
+    # The bundled curve scene at 7.0 s: the performer is stepping sideways, the margin across the track
+    # negative while the one along it is positive; the readout gives the smaller, says it is across,
+    # and rounds it down.
+    from physics.scene_load import load_scene
+    from preview.frame import ViewSettings
+    from preview.panels import readout_rows
+    from preview.session import make_playback
+    from tests.conftest import REPO
+    pb = make_playback(load_scene(REPO / "scenes" / "curve_too_fast.toml"))
+    i = pb.trajectory.index_at(7.0)
+    along, across = pb.trajectory.record["balance_margin"][i], pb.trajectory.record["frontal_margin"][i]
+    assert across < 0 < along
+    rows, _, _ = readout_rows(pb, 7.0, ViewSettings())
+    value = dict((r[0], r[1]) for r in rows)["balance margin"]
+    assert value.endswith("(across)") and value.startswith("-")
+    assert float(value.split()[0]) == pytest.approx(math.floor(across * 100) / 100, abs=1e-9)
