@@ -18,7 +18,7 @@ import functools
 import math
 import os
 from concurrent.futures import ThreadPoolExecutor
-from dataclasses import dataclass
+from dataclasses import dataclass, field
 
 import numpy as np
 
@@ -61,6 +61,7 @@ class Trajectory:
     events: np.ndarray    # (events,) records.EVENT: the first of each kind
     outcomes: np.ndarray  # (actions,) records.OUTCOME
     variant: Variants     # the one variant that ran
+    _ends: dict = field(default_factory=dict, compare=False, repr=False)   # ends3 of single steps, by index
 
     def field(self, name: str) -> np.ndarray:
         return self.record[name]
@@ -113,7 +114,17 @@ class Trajectory:
         whole leaning body turns sideways by the roll about its contact line (in
         the air about its centre of mass).
         """
-        idx = np.arange(self.times.size) if index is None else np.atleast_1d(index)
+        if index is not None and np.ndim(index) == 0:
+            key = int(index)
+            if key not in self._ends:
+                if len(self._ends) > 4096:
+                    self._ends.clear()
+                self._ends[key] = self._ends3(np.atleast_1d(key))[0]
+                self._ends[key].flags.writeable = False
+            return self._ends[key]
+        return self._ends3(np.arange(self.times.size) if index is None else np.atleast_1d(index))
+
+    def _ends3(self, idx) -> np.ndarray:
         rec = self.record[idx]
         posture = self.timeline.postures[rec["row"]]
         c, s = np.cos(rec["lean"])[:, None, None], np.sin(rec["lean"])[:, None, None]
@@ -144,7 +155,7 @@ class Trajectory:
         for car in self.scene.cars:
             on_car = stays & ((rec["pivot_x"] >= car.rear_x) & (rec["pivot_x"] <= car.front_x))[:, None, None]
             out[..., 2] += np.where(on_car, car.roof_z(out[..., 1]) - base_z, 0.0)
-        return out[0] if index is not None and np.ndim(index) == 0 else out
+        return out
 
     def _across(self, posture) -> np.ndarray:
         """(R, 12, 2) where each segment end stands across the body (m, + left), before the roll."""

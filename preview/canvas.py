@@ -24,20 +24,32 @@ def font_file(bold: bool, mono: bool) -> Path:
 
 
 def _font(size: int, bold: bool, mono: bool):
+    key = (int(size), bold, mono)
+    found = _FONTS.get(key)
+    if found is not None:
+        return found
     import os
     os.environ.setdefault("PYGAME_HIDE_SUPPORT_PROMPT", "1")
     import pygame
     if not pygame.font.get_init():
         pygame.font.init()
-    key = (int(size), bold, mono)
-    if key not in _FONTS:
-        _FONTS[key] = pygame.font.Font(str(font_file(bold, mono)), int(size))
+    _FONTS[key] = pygame.font.Font(str(font_file(bold, mono)), int(size))
     return _FONTS[key]
 
 
+_MEASURED: dict = {}
+
+
 def measure(string: str, size: int, bold: bool = False, mono: bool = False) -> tuple[int, int]:
-    """Width and height in pixels of a line of text in the bundled fonts."""
-    return _font(size, bold, mono).size(string)
+    """Width and height in pixels of a line of text in the bundled fonts (remembered: a frame measures
+    the same labels every time)."""
+    key = (string, int(size), bold, mono)
+    found = _MEASURED.get(key)
+    if found is None:
+        if len(_MEASURED) > 20_000:
+            _MEASURED.clear()
+        found = _MEASURED[key] = _font(size, bold, mono).size(string)
+    return found
 
 
 def anchored(pos, w: float, h: float, anchor: str) -> tuple[float, float, float, float]:

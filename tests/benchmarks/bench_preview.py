@@ -39,8 +39,9 @@ def main():
     times = np.linspace(0, scene.duration, 240)
     for t in times[:10]:
         draw_frame(canvas, playback, t, view)
-    for frame in ("car", "ground", "split"):
+    for frame in ("car", "ground", "split", "end", "plan"):
         v = ViewSettings(frame=frame, vectors=frozenset(VECTOR_KEYS))
+        playback = make_playback(scene)   # a fresh run: nothing remembered from the pass before
         t0 = time.perf_counter()
         for t in times:
             draw_frame(canvas, playback, t, v)
