@@ -140,7 +140,8 @@ def health(scene: Scene, result: BatchResult, level: int) -> np.ndarray:
             terms = [grip / s.grip_ratio - 1.0, (np.min(m[b]["balance_margin_min"]) - s.balance_margin) / 0.1,
                      np.min(m[b]["lift_ratio_min"]) / max(s.lift_ratio, 1e-9) - 1.0,
                      (np.min(m[b]["landing_margin_min"]) - s.landing_margin) / 0.5,
-                     (np.min(m[b]["clearance_min"]) - s.clearance) / 0.5]
+                     (np.min(m[b]["clearance_min"]) - s.clearance) / 0.5,
+                     (np.min(m[b]["edge_margin_min"]) - s.edge_margin) / 0.5]
             finite = [t for t in terms if math.isfinite(t)]
             out[b] = min(finite) if finite else 1.0
     return out

@@ -301,3 +301,16 @@ def test_a_lateral_push_in_walking_moves_the_ankle_little_and_a_step_does_the_re
     moved = np.nanmax(np.abs(tr.record["pivot_y"]))
     assert 0.1 < moved <= 0.2 + 1e-12
     assert np.isnan(tr.events[Event.TOPPLE]["time"])
+
+
+def test_the_sweeps_health_weighs_the_side_edge_margin():
+    # A performer standing 1.1 m off the centreline of a 2.8 m roof, in still air: marginal on the
+    # side-edge margin alone (0.14 m against 0.5 m). The continuous margin the envelope's root finding
+    # follows must say so (negative), or a threshold would be put where the verdict does not change.
+    from physics.simulation import simulate_batch
+    from physics.sweep import health
+    from physics.verdict import verdict_codes
+    scene = side_scene(0.0, offset=1.1)
+    result = simulate_batch(scene, variants(scene, 1))
+    assert verdict_codes(scene, result.events, result.outcomes)[0] == 1
+    assert health(scene, result, 1)[0] < 0
