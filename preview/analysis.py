@@ -9,6 +9,7 @@ import sys
 from pathlib import Path
 
 from physics.units import QuantityError, parse_quantity, to_display
+from physics.verdict import FACTORS as FACTORS_WORDS
 from preview.caution import CAUTION
 from preview.report import _fmt
 
@@ -254,4 +255,62 @@ def cmd_risk(args) -> int:
     summary["scene"] = scene.title
     summary["caution"] = CAUTION
     print(json.dumps(summary, indent=2) if args.json else risk_text(scene, summary))
+    return 0
+
+
+def ladder_text(scene, ladder: dict) -> str:
+    """The rehearsal ladder as a table, the first rung short of the factors, and the abort limits."""
+    from physics.units import display as show
+    from preview.report import factor_value
+    system = scene.units
+    words = [w for _, _, w, _ in FACTORS_WORDS]
+    lines = [f"roofbeat ladder: {scene.title}", "rehearsal rungs from walking pace to the planned top speed "
+             "(the whole speed profile scaled); margins are the worst over the beat", "",
+             f"{'rung':<5}{'speed':>12}  {'verdict':<9}" + "".join(f"{w[:14]:>16}" for w in words)]
+    for row in ladder["rungs"]:
+        cells = []
+        for w, unit in zip(words, (u for _, _, _, u in FACTORS_WORDS)):
+            value = row["margins"][w]
+            cells.append("-" if value is None else factor_value(value, unit, system))
+        lines.append(f"{row['rung']:<5}{show(row['speed_ms'], 'speed', system, '.1f'):>12}  {row['verdict']:<9}"
+                     + "".join(f"{c:>16}" for c in cells)
+                     + (f"  {row['first_failure']}" if row["first_failure"] else ""))
+    lines.append("required: " + ", ".join(f"{w} {factor_value(getattr(scene.safety, f), u, system, False)}"
+                                          for _, f, w, u in FACTORS_WORDS))
+    short = ladder["first_rung_short"]
+    if short is None:
+        lines.append("every rung holds with the required factors")
+    else:
+        row = ladder["rungs"][short - 1]
+        why = row["first_failure"] or "; ".join(
+            f"{s['margin']} {factor_value(s['value'], s['unit'], system)}" for s in row["below_required"])
+        lines.append(f"first rung short of the factors: rung {short} at "
+                     f"{show(row['speed_ms'], 'speed', system, '.1f')} ({row['verdict']}: {why})")
+    lines += ["", "ABORT LIMITS (watch on set; found by the envelope's sweeps over the ranges given)"]
+    for name, head in (("speed", "top speed"), ("wind_speed", "ambient wind at the scene's direction "
+                                                              f"({ladder['abort_limits']['wind_from_deg']:.0f}°)")):
+        lim = ladder["abort_limits"][name]
+        span = f"{display(name, lim['range'][0], system)}..{display(name, lim['range'][1], system)}"
+        lines.append(f"  {head.upper()} (swept {span}, {lim['points']} points):")
+        for limit in lim["limits"]:
+            lines.append("    " + limit_words(name, limit, lim["range"], system, lim["limits"]))
+    machine = ladder["wind_machine"]
+    lines += ["", f"wind machine for a rehearsal on a stationary vehicle: "
+                  f"{show(machine['air_speed_ms'], 'wind', system, '.1f')} from {machine['from_deg']:.0f}° "
+                  f"(0 = from ahead, + from the left) gives the planned speed's apparent wind; "
+                  f"{machine['note']}", "", "CAUTION: " + CAUTION]
+    return "\n".join(lines)
+
+
+def cmd_ladder(args) -> int:
+    from physics.ladder import build_ladder
+    from physics.sweep import SweepError
+    from preview.session import UsageError, load
+    scene = load(args)
+    try:
+        ladder = build_ladder(scene, args.rungs)
+    except SweepError as exc:
+        raise UsageError(f"ladder: {exc}") from None
+    ladder["caution"] = CAUTION
+    print(json.dumps(ladder, indent=2) if args.json else ladder_text(scene, ladder))
     return 0

@@ -477,10 +477,71 @@ def _page_two(page: Page, scene, content, playback) -> None:
         page.y -= height_in + 0.2
 
 
+def _page_ladder(page: Page, scene, content, ladder) -> None:
+    """The rehearsal ladder: the abort limits in large type, the rungs with their margins, the wind
+    machine for a static rehearsal, and what is not covered (rigging)."""
+    from physics.units import display as show
+    from physics.verdict import FACTORS
+    from preview.analysis import display as value_words
+    from preview.analysis import limit_words
+    from preview.report import factor_value
+    system = scene.units
+    _header(page, scene, content, "rehearsal ladder and abort limits")
+    if ladder is None:
+        page.para("No ladder: the consist does not move in this scene.", BODY + 1, "bold")
+        return
+    page.heading("abort limits: stop the rehearsal above these")
+    limits = ladder["abort_limits"]
+    for name, head in (("speed", "TOP SPEED"),
+                       ("wind_speed", f"AMBIENT WIND from {limits['wind_from_deg']:.0f}°, at the planned speed")):
+        factored = limits[name]["limits"][0]
+        if factored["value"] is None:
+            big = f"{head}: none holds with the required factors: do not shoot the beat as written"
+        else:
+            big = f"{head}: {value_words(name, factored['value'], system)}"
+            if factored["bound"]:
+                big += " or more (the end of the sweep)"
+        page.para(big, 13, "bold")
+        for limit in limits[name]["limits"]:
+            page.para(limit_words(name, limit, limits[name]["range"], system, limits[name]["limits"]) + ".",
+                      BODY, color=SOFT)
+    page.rule()
+    page.heading("rungs: build up from walking pace; margins are the worst over the beat")
+    heads = [("rung", 0.0), ("speed", 0.45), ("verdict", 1.3)] + [(w, 2.1 + 0.86 * i) for i, (_, _, w, _)
+                                                                      in enumerate(FACTORS)]
+    short_words = {"grip ratio": "grip ratio", "balance margin": "balance", "lift ratio": "lift ratio",
+                   "landing margin": "landing", "overhead clearance": "clearance", "side-edge margin": "side edge"}
+    for head, x in heads:
+        page.text(MARGIN_IN + x, short_words.get(head, head), BODY - 1.5, "bold")
+    page.y -= ROW
+    for row in ladder["rungs"]:
+        cells = [str(row["rung"]), show(row["speed_ms"], "speed", system, ".1f"), row["verdict"].upper()]
+        for (_, _, words, unit) in FACTORS:
+            value = row["margins"][words]
+            cells.append("-" if value is None else factor_value(value, unit, system))
+        short = {s["margin"] for s in row["below_required"]}
+        for (head, x), cell in zip(heads, cells):
+            page.text(MARGIN_IN + x, cell, BODY, "bold" if head in short or head == "verdict" else "normal")
+        page.y -= ROW
+    first = ladder["first_rung_short"]
+    page.para("Every rung holds with the required factors." if first is None else
+              f"First rung short of the factors: rung {first} "
+              f"({ladder['rungs'][first - 1]['first_failure'] or 'marginal'}): do not go past the rung before it.",
+              BODY + 0.5, "bold")
+    page.rule()
+    machine = ladder["wind_machine"]
+    page.para(f"Static rehearsal: a wind machine giving {show(machine['air_speed_ms'], 'wind', system, '.1f')} "
+              f"from {machine['from_deg']:.0f}° (0 = from ahead, + from the left) gives the performer the planned "
+              f"speed's apparent wind. Note: {machine['note']}.")
+    page.para("Rigging (tethers, running lines, restraint or arrest): not modelled in this version; "
+              "the rigger's own calculation governs.", BODY, "bold")
+
+
 def write_brief(scene, out: Path, paper: str = "a4") -> dict:
     """Render the pages to OUT (PDF) and the content to OUT with .json; returns the content."""
     from matplotlib.backends.backend_pdf import PdfPages
 
+    from physics.ladder import POINTS, build_ladder, speed_range
     from physics.sweep import SweepError, sweep_1d
     from preview.analysis import envelope_summary
     from preview.plots import _mpl
@@ -488,14 +549,16 @@ def write_brief(scene, out: Path, paper: str = "a4") -> dict:
 
     plt = _mpl()
     playback = make_playback(scene)
-    sweep = sweep_summary = None
-    top = max(k.speed for k in scene.keyframes)
+    sweep = sweep_summary = ladder = None
     try:
-        sweep = sweep_1d(scene, "speed", max(0.5, 0.25 * top), max(top * 2.5, 10.0), points=33)
+        # The same sweep as the ladder's top-speed abort limit, so the two pages give one number.
+        sweep = sweep_1d(scene, "speed", *speed_range(scene), points=POINTS)
         sweep_summary = envelope_summary(scene, sweep)
+        ladder = build_ladder(scene)
     except SweepError:
         pass
     content = brief_content(scene, playback, sweep_summary)
+    content["ladder"] = ladder
     pages = [Page(plt, paper, content)]
     out = Path(out)
     try:
@@ -504,8 +567,10 @@ def write_brief(scene, out: Path, paper: str = "a4") -> dict:
         _page_two(pages[1], scene, content, playback)
         if left_over is not None:
             pages.append(Page(plt, paper, content))
-            _header(pages[2], scene, content, "speed envelope")
-            _envelope(pages[2], scene, left_over, sweep_summary, 3.2)
+            _header(pages[-1], scene, content, "speed envelope")
+            _envelope(pages[-1], scene, left_over, sweep_summary, 3.2)
+        pages.append(Page(plt, paper, content))
+        _page_ladder(pages[-1], scene, content, ladder)
         for n, page in enumerate(pages, start=1):
             page.footer(n, len(pages))
         content["pages"] = len(pages)

@@ -67,6 +67,10 @@ def build_parser() -> argparse.ArgumentParser:
     risk.add_argument("--samples", type=options.whole(1, options.MAX_SAMPLES, "samples"), default=1000)
     risk.add_argument("--seed", type=options.whole(0, options.MAX_SEED, "a seed"), default=0)
     risk.add_argument("--json", action="store_true")
+    ladder = sub.add_parser("ladder", help="rehearsal rungs up to the planned speed, and abort limits")
+    _add_scene_args(ladder)
+    ladder.add_argument("--rungs", type=options.whole(2, 20, "rungs"), default=5)
+    ladder.add_argument("--json", action="store_true")
     brief = sub.add_parser("brief", help="one printable page for the safety meeting (PDF + JSON)")
     _add_scene_args(brief)
     brief.add_argument("-o", "--output", required=True, metavar="BRIEF.pdf", type=options.brief_output)
@@ -99,6 +103,11 @@ def cmd_envelope(args) -> int:
     return run(args)
 
 
+def cmd_ladder(args) -> int:
+    from preview.analysis import cmd_ladder as run
+    return run(args)
+
+
 def cmd_risk(args) -> int:
     from preview.analysis import cmd_risk as run
     return run(args)
@@ -123,7 +132,7 @@ def cmd_scenes(args) -> int:
 
 
 COMMANDS = {"scenes": cmd_scenes, "check": cmd_check, "play": cmd_play, "render": cmd_render, "envelope": cmd_envelope,
-            "risk": cmd_risk, "brief": cmd_brief}
+            "risk": cmd_risk, "ladder": cmd_ladder, "brief": cmd_brief}
 
 
 def main(argv: list[str] | None = None) -> int:

@@ -87,7 +87,7 @@ def test_brief_says_verdict_why_required_factors_duck_start_checklist_and_who_si
     scene_file = REPO / "scenes" / "footbridge_late_duck.toml"
     assert main(["brief", str(scene_file), "-o", str(out)]) == 0
     reader = PdfReader(out)
-    assert len(reader.pages) in (2, 3)
+    assert len(reader.pages) in (3, 4)
     first = " ".join(reader.pages[0].extract_text().split())
     assert "VERDICT: FAILS" in first and "not a safety certificate" in first
     for role in ("stunt coordinator", "safety officer", "1st AD", "operator's representative"):
@@ -285,3 +285,25 @@ def test_check_never_rounds_a_margin_up_and_says_where_the_wind_count_stops(caps
     assert "over the whole beat as simulated" in text
     assert "before the failure, already below the required: grip ratio 0.99, required 1.30; side-edge" in text
     assert re.search(r"\d\.\d m right of the track's centreline", text)
+
+
+def test_the_brief_ends_with_the_ladder_and_its_abort_limits(tmp_path, capsys):
+    # The last page: the abort limits in large type, the same numbers as `roofbeat ladder` (one sweep
+    # behind both), the rungs, the wind machine, and rigging said plainly to be outside the model.
+    from pypdf import PdfReader
+    path = str(REPO / "scenes" / "curve_too_fast.toml")
+    out = tmp_path / "curve.pdf"
+    assert main(["brief", path, "-o", str(out)]) == 0
+    last = " ".join(PdfReader(out).pages[-1].extract_text().split())
+    content = json.loads(out.with_suffix(".json").read_text())
+    capsys.readouterr()
+    assert main(["ladder", path, "--json"]) == 0
+    ladder = json.loads(capsys.readouterr().out)
+    assert content["ladder"]["abort_limits"] == ladder["abort_limits"]
+    top = ladder["abort_limits"]["speed"]["limits"][0]["value"]
+    assert f"TOP SPEED: {top * 3.6:.2f} km/h" in last
+    assert "First rung short of the factors: rung 5" in last and "wind machine" in last
+    assert "Rigging" in last and "not modelled" in last
+    # The envelope line on page one gives the same top speed.
+    first = " ".join(PdfReader(out).pages[0].extract_text().split())
+    assert f"holds with the required factors up to {top * 3.6:.2f} km/h" in first

@@ -1,0 +1,111 @@
+"""The rehearsal ladder: how a beat is built up in speed over rehearsals, and the abort limits a crew
+can watch on set.
+
+Rungs run from walking pace to the planned top speed (the whole speed profile scales, as in the
+envelope); each rung's margins are set beside the factors the scene requires, and the first rung
+where one falls short is named. The abort limits are the envelope's own limits, found by the same
+sweep and root finding over stated ranges (so `roofbeat envelope` over the same range gives the same
+numbers): the highest top speed, and the highest ambient wind at the scene's wind direction, at which
+the beat still holds with the required factors. For a rehearsal on a stationary vehicle, the wind
+machine's air speed that gives the performer the planned speed's apparent wind.
+"""
+
+from __future__ import annotations
+
+import math
+
+import numpy as np
+
+from physics.air import wind_vector
+from physics.scene import Scene
+from physics.scene_load import LIMITS
+from physics.sweep import SweepError, _run, base_value, limits, sweep_1d
+from physics.verdict import FACTORS, NAMES, first_failure_kinds, shortfalls, verdict_codes
+
+# The first rung: walking pace, 5 km/h (common practice, no source: build up from a walk).
+WALKING_PACE = 5 / 3.6
+# The sweeps behind the abort limits: top speed from walking pace to 2.5 times the planned (at least
+# 10 m/s), ambient wind from calm to 40 m/s (a strong storm); points before refinement.
+SPEED_RANGE_FACTOR = 2.5
+WIND_TOP = 40.0
+POINTS = 41
+
+
+def speed_range(scene: Scene) -> tuple[float, float]:
+    """Walking pace to 2.5 times the planned top speed (at least 10 m/s), within what a scene may give."""
+    top = base_value(scene, "speed")
+    return WALKING_PACE, min(max(SPEED_RANGE_FACTOR * top, 10.0), LIMITS["speed"][1])
+
+
+def rung_speeds(scene: Scene, rungs: int) -> np.ndarray:
+    top = base_value(scene, "speed")
+    if top <= WALKING_PACE:
+        return np.array([top])
+    return np.linspace(WALKING_PACE, top, rungs)
+
+
+def build_ladder(scene: Scene, rungs: int = 5) -> dict:
+    """The ladder's rungs, the first rung short of the factors, the abort limits and the wind machine
+    (JSON-ready, SI)."""
+    if base_value(scene, "speed") <= 0:
+        raise SweepError("a ladder needs a consist that moves")
+    speeds = rung_speeds(scene, rungs)
+    result = _run(scene, "speed", speeds)
+    codes = verdict_codes(scene, result.events, result.outcomes)
+    kinds = first_failure_kinds(result.events)
+    rows = []
+    for i, speed in enumerate(speeds):
+        worst = _worst_margins(result.outcomes[i])
+        rows.append({"rung": i + 1, "speed_ms": float(speed), "verdict": NAMES[codes[i]],
+                     "first_failure": kinds[i], "margins": worst,
+                     "below_required": shortfalls(scene.safety, _as_outcome(result.outcomes[i]))})
+    short = next((r["rung"] for r in rows if r["verdict"] != "holds"), None)
+    return {"scene": scene.title, "units": "SI", "rungs": rows, "first_rung_short": short,
+            "abort_limits": abort_limits(scene), "wind_machine": wind_machine(scene)}
+
+
+def _worst_margins(outcomes) -> dict:
+    """Each margin's worst over the beat's actions (None where never met)."""
+    out = {}
+    for field, _, words, _ in FACTORS:
+        values = outcomes[field]
+        value = float(np.min(values))
+        out[words] = value if math.isfinite(value) else None
+    return out
+
+
+def _as_outcome(outcomes):
+    """The worst of each margin over the actions, as one outcome row (for verdict.shortfalls)."""
+    row = outcomes[0].copy()
+    for field, _, _, _ in FACTORS:
+        row[field] = np.min(outcomes[field])
+    return row
+
+
+def abort_limits(scene: Scene) -> dict:
+    """The highest top speed and the highest ambient wind at the scene's direction that still hold with
+    the required factors, with the sweep ranges that found them."""
+    out = {}
+    low, high = speed_range(scene)
+    for name, start, stop in (("speed", low, high), ("wind_speed", 0.0, WIND_TOP)):
+        sweep = sweep_1d(scene, name, start, stop, points=POINTS)
+        factored, at_all = limits(sweep)
+        out[name] = {"range": [start, stop], "points": POINTS, "holds_with_factors": factored.value,
+                     "limits": [{"level": lim.level, "value": lim.value, "bound": lim.bound,
+                                 "all_below": lim.all_below, "failure_beyond": lim.failure_beyond}
+                                for lim in (factored, at_all)]}
+    out["wind_from_deg"] = math.degrees(scene.air.wind_from)
+    return out
+
+
+def wind_machine(scene: Scene) -> dict:
+    """The air speed a wind machine must give a performer on a stationary vehicle for the apparent
+    wind of the planned top speed in the scene's mean wind, and the direction it must blow from
+    (deg, 0 from ahead, + from the left)."""
+    top = base_value(scene, "speed")
+    wx, wy = wind_vector(scene.air.wind_speed, scene.air.wind_from)
+    ax, ay = wx - top, wy
+    speed = math.hypot(ax, ay)
+    return {"air_speed_ms": speed, "from_deg": math.degrees(math.atan2(-ay, -ax)) if speed > 0 else 0.0,
+            "note": "a wind machine on a stationary vehicle lacks the air's profile over a moving roof, "
+                    "the car's motion, its jolts and its curves: it rehearses the wind, not the ride"}
