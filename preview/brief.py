@@ -19,6 +19,7 @@ import datetime as dt
 import hashlib
 import json
 import math
+import zlib
 from pathlib import Path
 
 import numpy as np
@@ -598,5 +599,9 @@ def cmd_brief(args) -> int:
         content = write_brief(scene, out, args.paper)
     except OSError as exc:
         raise OutputError(f"{out}: could not write: {exc.strerror or exc}") from None
+    except zlib.error as exc:
+        # The PDF writer compresses its pages as it writes them: a write that fails under it (a full
+        # disk) can surface as the compressor's error instead of the disk's.
+        raise OutputError(f"{out}: could not write the PDF's compressed pages ({exc}); is the disk full?") from None
     print(f"wrote {out} ({content['pages']} pages) and {out.with_suffix('.json')}; verdict {content['verdict']}")
     return 0

@@ -11,7 +11,8 @@ import argparse
 import sys
 
 from preview import options
-from preview.session import DEFAULT_SCENE, EXIT_RUNTIME, EXIT_SCENE, EXIT_USAGE, OutputError, UsageError, load
+from preview.session import (DEFAULT_SCENE, EXIT_INTERNAL, EXIT_RUNTIME, EXIT_SCENE, EXIT_USAGE, OutputError,
+                             UsageError, load)
 
 
 def _add_scene_args(p: argparse.ArgumentParser) -> None:
@@ -165,7 +166,7 @@ def main(argv: list[str] | None = None) -> int:
     except Exception as exc:  # a defect of ours: say so plainly, no traceback
         print(f"roofbeat: internal error ({type(exc).__name__}: {exc}); please report it with the scene file",
               file=sys.stderr)
-        return EXIT_RUNTIME
+        return EXIT_INTERNAL
 
 
 if __name__ == "__main__":

@@ -16,6 +16,7 @@ from pathlib import Path
 EXIT_USAGE = 2
 EXIT_SCENE = 3
 EXIT_RUNTIME = 4
+EXIT_INTERNAL = 5    # a defect of roofbeat's own, said in one line
 DEFAULT_SCENE = "heritage_excursion.toml"
 
 

@@ -77,3 +77,16 @@ def test_missing_scene_file():
     out = roofbeat("check", "does/not/exist.toml")
     assert out.returncode == 3
     assert "cannot read the file" in out.stderr and "Traceback" not in out.stderr
+
+
+def test_an_internal_error_is_one_line_and_its_own_exit_code(monkeypatch, capsys):
+    # A defect of ours is not "an output cannot be written" (4): it exits 5, in one line, no traceback.
+    from preview import cli
+
+    def broken(args):
+        raise TypeError("a planted defect")
+    monkeypatch.setitem(cli.COMMANDS, "check", broken)
+    assert cli.main(["check"]) == 5
+    err = capsys.readouterr().err
+    assert err.count("\n") == 1 and "internal error (TypeError: a planted defect)" in err
+    assert "Traceback" not in err
