@@ -28,7 +28,8 @@ from physics.records import Mode
 from physics.units import display, to_display
 from preview.caution import CAUTION
 from preview.outputs import OutputSet, check_target
-from preview.report import apparent_wind_line, floor_to, marginal_words, phase_words, required_words, wind_words
+from preview.report import (apparent_wind_line, floor_to, marginal_words, phase_words, required_words, storm_words,
+                            wind_words)
 from preview.session import OutputError
 from preview.timecode import timecode
 
@@ -46,6 +47,7 @@ CHECKLIST = [
     "The roof surface, the weather and the wind on the day were checked against the scene's values.",
 ]
 INK, SOFT, RULE = "#2b3138", "#5f656c", "#c9c6bf"
+FAIL_INK = "#d1495b"   # palette.FAILURE
 NOT_MODELLED = ("Not modelled: the air's slow-down over the roof; limbs posed sideways (the figure is one plane); "
                 "the ground beside the track (taken level at rail height); rigging; injury. See physics/README.md, "
                 "\"Not modelled\".")
@@ -337,6 +339,9 @@ def _page_one(page: Page, scene, content, sweep, sweep_summary):
         page.para("No failure in the simulated beat.", BODY + 0.5, "bold")
     wind_line = apparent_wind_line(content, system)
     page.para(wind_line[0].upper() + wind_line[1:] + ".")
+    storm = storm_words(content)
+    if storm:
+        page.para(storm, BODY, "bold", color=FAIL_INK)
     env = content["envelope"]
     if env:
         from preview.analysis import limit_words

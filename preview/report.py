@@ -86,6 +86,9 @@ def text_report(scene, summary: dict) -> str:
                  "along and across the track (min); lift = normal force / weight (min); lean = lean needed to "
                  "balance the load (max); side edge = support to the nearer side edge (min)")
     lines.append(apparent_wind_line(summary, system))
+    storm = storm_words(summary)
+    if storm:
+        lines.append(storm)
     lines.append("")
     for duck in summary.get("ducks", []):
         if duck["latest_start_s"] is None:
@@ -126,6 +129,23 @@ def apparent_wind_line(summary: dict, system: str) -> str:
     if whole > peak + 0.05:
         words += f"; over the whole beat as simulated: {display(whole, 'wind', system, '.1f')}"
     return words
+
+
+STORM_FORCE = 10   # Beaufort force from which a HOLDS gets a plain warning beside it
+
+
+def storm_words(summary: dict) -> str | None:
+    """A plain warning when the body meets storm-force apparent wind (Beaufort 10 and up), whatever
+    the verdict: the model's numbers are a calculation there, not evidence; None below it."""
+    peak = max([r["apparent_wind_max_ms"] for r in summary["actions"]]
+               + [summary.get("apparent_wind_whole_beat_ms", 0.0)])
+    force = beaufort(peak)
+    if force < STORM_FORCE:
+        return None
+    return (f"WARNING: the apparent wind reaches Beaufort {force} ({BEAUFORT_NAMES[force]}). roofbeat's air "
+            "loads and balance are checked against hand calculations and standing volunteers in far gentler "
+            "conditions, not against people in winds this strong: a verdict here is a calculation, not "
+            "evidence. Build up to it in steps (roofbeat ladder) and let the stunt coordinator decide.")
 
 
 def factor_value(value: float, unit: str, system: str, measured: bool = True) -> str:

@@ -271,6 +271,9 @@ def test_a_beat_held_against_a_side_wind_is_briefed_across_the_track(tmp_path):
     second = " ".join(reader.pages[1].extract_text().split())
     assert "END VIEW" in second
     assert "(from the left); a gust adding 14.0 m/s from 80° at 5 s for 3 s" in first
+    # It holds in storm-force apparent wind: said plainly beside the green verdict.
+    assert "WARNING: the apparent wind reaches Beaufort 11 (violent storm)" in first
+    assert "a verdict here is a calculation, not evidence" in first
 
 
 def test_check_never_rounds_a_margin_up_and_says_where_the_wind_count_stops(capsys):
@@ -307,3 +310,11 @@ def test_the_brief_ends_with_the_ladder_and_its_abort_limits(tmp_path, capsys):
     # The envelope line on page one gives the same top speed.
     first = " ".join(PdfReader(out).pages[0].extract_text().split())
     assert f"holds with the required factors up to {top * 3.6:.2f} km/h" in first
+
+
+def test_storm_warning_only_at_storm_force(capsys):
+    # Beaufort 10 (24.5 m/s) and up gets the warning; the default scene's near gale does not.
+    assert main(["check", str(REPO / "scenes" / "heritage_excursion.toml")]) == 0
+    assert "WARNING: the apparent wind" not in capsys.readouterr().out
+    assert main(["check", str(REPO / "scenes" / "crosswind_braced.toml")]) == 0
+    assert "WARNING: the apparent wind reaches Beaufort 11" in capsys.readouterr().out
