@@ -94,7 +94,7 @@ def key_numbers(scene) -> list[tuple[str, str]]:
     if p.drag_area:
         area, unit = to_display(p.drag_area, "area", system)
         performer += f", standing drag area {area:.2f} {unit}"
-    return [("consist", cars), ("speed", profile), ("wind", wind),
+    return [("scene", scene.title), ("consist", cars), ("speed", profile), ("wind", wind),
             ("air density", f"{scene.air.density:.3f} kg/m³"), ("performer", performer),
             ("required", required_words(_required(scene), system))]
 

@@ -38,6 +38,7 @@ from physics.records import Event, Mode
 from physics.units import display
 from preview import curves
 from preview.layout import Box, fit
+from preview.report import floor_to
 from preview.palette import (AERO, CAR_BODY, CAR_EDGE, CURVE, FAILURE, FAINT, FAR_LIMB, GROUND_TONE, HOLDS, INK,
                              LINE_ZONE, PANEL, PSEUDO, REACTION, SKY, SOFT_INK, STRUCTURE, TRAIL, WEIGHT, WIND)
 from preview.world import (FORCE_PER_METRE, REACTION_OFFSET, WIND_PER_METRE, canvas_measure, draw_failure_callout,
@@ -518,7 +519,8 @@ def fact_lines(tr, i: int, car, units: str) -> list[str]:
         out = []
         if math.isfinite(num("roll")):
             need = num("roll_required")
-            needs = f", needs {math.degrees(need):+.1f}°" if math.isfinite(need) else ""
+            # The lean at which the side load is held with no push from the feet (the feet carry the rest).
+            needs = f"; held with no push from the feet at {math.degrees(need):+.1f}°" if math.isfinite(need) else ""
             roll = math.degrees(num("roll"))
             roof = math.degrees(sum(curves.tilt(tr, i)))
             if abs(roof) >= math.degrees(curves.LEVEL):   # the roof's upright is not plumb
@@ -527,7 +529,13 @@ def fact_lines(tr, i: int, car, units: str) -> list[str]:
                 out.append(f"sideways lean {roll:+.1f}° (+ toward the left){needs}")
         for name, words in (("frontal_margin", "balance margin across"), ("edge_margin", "support to the side edge")):
             if math.isfinite(num(name)):
-                out.append(f"{words} {display(num(name), 'length', units, '+.2f')}")
+                out.append(f"{words} {display(floor_to(num(name)), 'length', units, '+.2f')}")   # rounded down
+        # The loads across the track in numbers: the arrows are on the side views' one scale and short
+        # at ordinary loads.
+        air, need = num("aero_y"), num("need_y")
+        if math.isfinite(air) and math.isfinite(need) and max(abs(air), abs(need)) >= 1.0:
+            out.append(f"air across {display(abs(air), 'force', units, '.0f')} toward the {side(air)}; the roof "
+                       f"holds {display(abs(need), 'force', units, '.0f')} across")
         if math.isfinite(num("slide_speed_y")) and abs(num("slide_speed_y")) > 0.01:
             out.append(f"sliding across the roof at {display(abs(num('slide_speed_y')), 'wind', units)}")
         return out

@@ -318,3 +318,14 @@ def test_storm_warning_only_at_storm_force(capsys):
     assert "WARNING: the apparent wind" not in capsys.readouterr().out
     assert main(["check", str(REPO / "scenes" / "crosswind_braced.toml")]) == 0
     assert "WARNING: the apparent wind reaches Beaufort 11" in capsys.readouterr().out
+
+
+def test_the_brief_gives_the_whole_title_once(tmp_path):
+    # The header band shortens a long title to fit beside the verdict; page one gives it whole.
+    from pypdf import PdfReader
+    from physics.scene_load import load_scene
+    path = REPO / "scenes" / "crosswind_braced.toml"
+    out = tmp_path / "b.pdf"
+    assert main(["brief", str(path), "-o", str(out)]) == 0
+    first = " ".join(PdfReader(out).pages[0].extract_text().split())
+    assert load_scene(path).title in first
