@@ -237,9 +237,12 @@ def _steps(scene, times, rows, hip, contact, gait, facing) -> np.ndarray:
     n = times.size
     steps = np.zeros(n, STEP)
     steps["time"] = times
-    steps["speed"] = consist.speed_at(scene.keyframes, times, scene.jerk)
-    steps["accel"] = consist.acceleration_at(scene.keyframes, times, scene.jerk)
-    steps["distance"] = consist.distance_travelled(scene.keyframes, times, scene.jerk)
+    if scene.speed_log is not None:
+        steps["speed"], steps["accel"], steps["distance"] = scene.speed_log.at(times)
+    else:
+        steps["speed"] = consist.speed_at(scene.keyframes, times, scene.jerk)
+        steps["accel"] = consist.acceleration_at(scene.keyframes, times, scene.jerk)
+        steps["distance"] = consist.distance_travelled(scene.keyframes, times, scene.jerk)
     steps["gust_x"], steps["gust_y"] = air.gust_profile(times, scene.air.gusts)
     steps["ride_y"], steps["ride_z"] = track.ride_profile(times, scene.ride)
     steps["row"] = rows

@@ -154,6 +154,7 @@ class Scene:
     track: tuple = ()     # physics.track.TrackSection, in order from where the lead car's front is at t = 0
     ride: object = None   # physics.track.Ride or None (no ride vibration)
     flexibility: float = 0.25  # the car bodies' roll per unit of cant deficiency (physics.track.DEFAULT_FLEXIBILITY)
+    speed_log: object = None   # physics.speed_log.SpeedLog when the speed comes from a measured log
     raw: dict = field(default_factory=dict, compare=False, repr=False)
     # Spread (SI, +/-) of values written with an uncertainty, by sweep parameter
     # name (speed, wind_speed, mass, drag_area, reaction_time) or, for a car's

@@ -19,6 +19,7 @@ from physics.scene import (Action, Air, Car, Gust, Keyframe, Line, Performer, Sa
 from physics.scene_file import key_lines, parse_toml, read_text
 from physics.scene_overrides import apply_overrides, origin_of
 from physics.scene_problems import Problem, SceneError
+from physics.speed_log import DEFAULT_MAX_GAP, DEFAULT_SMOOTHING, LogError, read_log, unit_factor
 from physics.surfaces import SURFACES
 from physics.track import DEFAULT_FLEXIBILITY, RIDE_BAND, RIDE_LEVELS, STANDARD_GAUGE, Ride, TrackSection
 from physics.units import QuantityError, parse_quantity, parse_uncertain
@@ -295,7 +296,14 @@ def _build(raw: dict, r: _Reader, source: str) -> Scene | None:
     sim = r.table(raw, "simulation", "", required=False)
     r.unknown(sim, "simulation", ("rate",))
     rate = r.quantity(sim, "rate", "simulation", "frequency", default=240.0, minimum=60.0, maximum=2000.0)
-    structures = _structures(raw, r, keyframes, jerk)
+    speed_log = None
+    motion = raw.get("motion") if isinstance(raw.get("motion"), dict) else {}
+    if "log" in motion and actions and rate:
+        speed_log = _speed_log(r.table(motion, "log", "motion"), r, source, sum(a.duration for a in actions),
+                               1.0 / rate)
+        if speed_log is not None:
+            keyframes = [Keyframe(0.0, speed_log.top_speed)]   # the top speed, for what scales the profile
+    structures = _structures(raw, r, keyframes, jerk, speed_log)
     lines = _lines(raw, r)
     sections = _track(raw, r)
     ride = _ride(r.table(raw, "ride", "", required=False), r)
@@ -307,7 +315,7 @@ def _build(raw: dict, r: _Reader, source: str) -> Scene | None:
         return None
     return Scene(title, source, units, frame_rate, tuple(cars), tuple(keyframes), air, performer, start_x,
                  start_car, tuple(actions), safety, 1.0 / rate, tuple(structures), tuple(lines), jerk, start_y,
-                 tuple(sections), ride, flexibility, raw, dict(r.uncertain))
+                 tuple(sections), ride, flexibility, speed_log, raw, dict(r.uncertain))
 
 
 MAX_ACTIONS = 200
@@ -392,12 +400,17 @@ def _roof(consist: dict, item: dict, path: str, n: int, r: _Reader) -> tuple[str
 
 
 def _motion(motion: dict, r: _Reader) -> tuple[list[Keyframe], float]:
-    """The keyframes and the jerk (m/s^3) the consist's acceleration changes with."""
-    r.unknown(motion, "motion", ("speed", "keyframes", "jerk"))
+    """The keyframes and the jerk (m/s^3) the consist's acceleration changes with (none for a log,
+    which _speed_log reads once the beat's length is known)."""
+    r.unknown(motion, "motion", ("speed", "keyframes", "jerk", "log"))
     jerk = r.quantity(motion, "jerk", "motion", "jerk", default=DEFAULT_JERK, positive=True, maximum=100.0)
     jerk = DEFAULT_JERK if jerk is None else jerk
-    if ("speed" in motion) == ("keyframes" in motion):
-        r.fail("motion", "give either speed (constant) or keyframes (a list of time and speed), not both")
+    given = [k for k in ("speed", "keyframes", "log") if k in motion]
+    if len(given) != 1:
+        r.fail("motion", "give one of speed (constant), keyframes (a list of time and speed) or log (a measured "
+                         "speed log)" + (f", not {' and '.join(given)}" if given else ""))
+        return [], jerk
+    if "log" in motion:
         return [], jerk
     if "speed" in motion:
         speed = r.quantity(motion, "speed", "motion", "speed", **_limits("speed"), uncertain_as="speed")
@@ -585,7 +598,32 @@ def _safety(data: dict, r: _Reader) -> Safety:
     )
 
 
-def _structures(raw: dict, r: _Reader, keyframes: list[Keyframe], jerk: float) -> list[Structure]:
+def _speed_log(data: dict, r: _Reader, source: str, duration: float, step: float):
+    """The measured speed log named in [motion.log], read and smoothed; None (with problems) if unusable."""
+    p = "motion.log"
+    r.unknown(data, p, ("file", "time", "time_unit", "speed", "speed_unit", "max_gap", "smoothing"))
+    file = r.text(data, "file", p)
+    columns = {k: r.text(data, k, p) for k in ("time", "time_unit", "speed", "speed_unit")}
+    max_gap = r.quantity(data, "max_gap", p, "time", default=DEFAULT_MAX_GAP, positive=True, maximum=60.0)
+    smoothing = r.quantity(data, "smoothing", p, "time", default=DEFAULT_SMOOTHING, positive=True, maximum=30.0)
+    if None in (file, max_gap, smoothing, *columns.values()):
+        return None
+    for key, dimension in (("time_unit", "time"), ("speed_unit", "speed")):
+        try:
+            unit_factor(columns[key], dimension)
+        except LogError as exc:
+            r.fail(f"{p}.{key}", str(exc))
+            return None
+    path = Path(file) if Path(file).is_absolute() else Path(source).resolve().parent / file
+    try:
+        return read_log(path, columns["time"], columns["time_unit"], columns["speed"], columns["speed_unit"],
+                        max_gap, smoothing, duration, step)
+    except LogError as exc:
+        r.fail(f"{p}.file", (f"{file} line {exc.line}: " if exc.line else f"{file}: ") + str(exc))
+        return None
+
+
+def _structures(raw: dict, r: _Reader, keyframes: list[Keyframe], jerk: float, speed_log=None) -> list[Structure]:
     out = []
     for path, item in r.items(raw, "structures", "", required=False):
         r.unknown(item, path, ("kind", "name", "at", "reached_at", "span", "soffit"))
@@ -597,7 +635,10 @@ def _structures(raw: dict, r: _Reader, keyframes: list[Keyframe], jerk: float) -
             x = r.quantity(item, "at", path, "length", minimum=0.0)
         else:
             t = r.quantity(item, "reached_at", path, "time", minimum=0.0)
-            x = None if t is None or not keyframes else _distance_at(keyframes, t, jerk)
+            if speed_log is not None and t is not None:
+                x = float(speed_log.at([min(t, speed_log.time[-1])])[2][0])
+            else:
+                x = None if t is None or not keyframes else _distance_at(keyframes, t, jerk)
             if x is not None and x <= 0.0:
                 r.fail(f"{path}.reached_at", f"the consist has not moved by {t:g} s, so it reaches nothing then; "
                                              "give at (the distance along the track) instead")

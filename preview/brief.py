@@ -75,7 +75,11 @@ def key_numbers(scene) -> list[tuple[str, str]]:
     cars = "; ".join(f"{c.name} {length(c.length)}, roof {length(c.roof_height)} high, {length(c.width)} wide"
                      f"{', crown ' + length(c.crown) if c.crown else ', flat'}, {c.surface} "
                      f"(static {c.sole_static:.2f})" for c in scene.cars)
-    if len(scene.keyframes) == 1:
+    if scene.speed_log is not None:
+        log = scene.speed_log
+        profile = (f"measured log {Path(log.file).name}: {speed(float(log.speed[0]))} at the start, top "
+                   f"{speed(log.top_speed)}, smoothed over {log.window:.1f} s")
+    elif len(scene.keyframes) == 1:
         profile = f"constant {speed(scene.keyframes[0].speed)}"
     else:
         profile = ", ".join(f"{speed(k.speed)} at {k.time:.0f} s" for k in scene.keyframes)

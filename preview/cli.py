@@ -9,6 +9,7 @@ from __future__ import annotations
 
 import argparse
 import sys
+from pathlib import Path
 
 from preview import options
 from preview.session import (DEFAULT_SCENE, EXIT_INTERNAL, EXIT_RUNTIME, EXIT_SCENE, EXIT_USAGE, OutputError,
@@ -33,6 +34,8 @@ def build_parser() -> argparse.ArgumentParser:
     check = sub.add_parser("check", help="simulate a scene and print verdicts with margins")
     _add_scene_args(check)
     check.add_argument("--json", action="store_true", help="print one JSON object instead of the table")
+    check.add_argument("--log-plot", metavar="PNG", type=options.plot_output, default=None,
+                       help="for a scene on a measured speed log: plot its raw and smoothed speed")
     play = sub.add_parser("play", help="play the beat in a preview window")
     _add_scene_args(play)
     render = sub.add_parser("render", help="export the preview headless to MP4, GIF or PNG frames")
@@ -84,8 +87,17 @@ def cmd_check(args) -> int:
     from preview.report import json_report, text_report
     from preview.session import make_playback
     scene = load(args)
+    if args.log_plot is not None:
+        from preview.outputs import check_target
+        if scene.speed_log is None:
+            raise UsageError("--log-plot: the scene's speed does not come from a log ([motion.log])")
+        check_target(args.log_plot, folder=False)
     summary = make_playback(scene).summary
     print(json_report(scene, summary) if args.json else text_report(scene, summary))
+    if args.log_plot is not None:
+        from preview.plots import speed_log_plot
+        speed_log_plot(scene, Path(args.log_plot))
+        print(f"wrote {args.log_plot}", file=sys.stderr)
     return 0
 
 

@@ -19,6 +19,7 @@ from preview.caution import CAUTION_SHORT
 VERDICT_COLORS = {0: "#3e825c", 1: "#c8962a", 2: "#d1495b"}
 VERDICT_WORDS = {0: "holds", 1: "marginal", 2: "fails"}
 INK, SOFT, PAPER, GRID = "#2b3138", "#787e85", "#fbfaf7", "#e4e2dc"
+FAINT_SHADE = "#eeece6"
 GRIP, LIFT, BALANCE, PLANNED = "#1f7a8c", "#6a4c93", "#c77d00", "#2b3138"
 
 
@@ -187,6 +188,36 @@ def map_plot(scene, summary, codes, path: Path) -> None:
                  fontsize=10, loc="left")
     ax.legend(handles=[Patch(color=VERDICT_COLORS[c], label=VERDICT_WORDS[c]) for c in (0, 1, 2)],
               loc="upper left", bbox_to_anchor=(1.01, 1.0))
+    _caution(fig)
+    fig.tight_layout(rect=(0, 0.05, 1, 1))
+    _save(fig, path)
+    plt.close(fig)
+
+
+def speed_log_plot(scene, path: Path) -> None:
+    """The measured log's raw samples against the smoothed speed the engine runs on, and the
+    smoothed acceleration, over the beat, in the scene's display units."""
+    from physics.units import to_display
+    log = scene.speed_log
+    plt = _mpl()
+    fig, (top, bottom) = plt.subplots(2, 1, figsize=(10, 5.6), sharex=True, gridspec_kw={"height_ratios": [2, 1]})
+    _, speed_unit = to_display(1.0, "speed", scene.units)
+    _, accel_unit = to_display(1.0, "acceleration", scene.units)
+    inside = log.raw_time <= log.time[-1] + 1e-9
+    top.plot(log.raw_time[inside], [to_display(v, "speed", scene.units)[0] for v in log.raw_speed[inside]], ".",
+             ms=3, color=SOFT, label="logged samples (raw)")
+    top.plot(log.time, [to_display(v, "speed", scene.units)[0] for v in log.speed], color=INK, lw=1.4,
+             label=f"smoothed (Savitzky-Golay, {log.window:.2f} s window): what the engine runs on")
+    beat = scene.duration
+    for ax in (top, bottom):
+        ax.axvspan(beat, max(log.time[-1], beat), color=FAINT_SHADE, lw=0)
+    top.set_ylabel(f"speed ({speed_unit})")
+    top.legend(loc="best", fontsize=8)
+    bottom.plot(log.time, [to_display(a, "acceleration", scene.units)[0] for a in log.accel], color=INK, lw=1.2)
+    bottom.axhline(0, color=SOFT, lw=0.6)
+    bottom.set_ylabel(f"acceleration ({accel_unit})")
+    bottom.set_xlabel("time from the log's first sample (s); shaded: after the beat")
+    top.set_title(f"{scene.title}: speed log {Path(log.file).name}", fontsize=10, loc="left")
     _caution(fig)
     fig.tight_layout(rect=(0, 0.05, 1, 1))
     _save(fig, path)
