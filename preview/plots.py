@@ -119,9 +119,10 @@ def draw_envelope(ax, scene, sweep, summary) -> None:
                                   label=f"planned: {display(sweep.name, summary['planned'], scene.units)}"))
     for code in (0, 1, 2):
         handles.append(ax.scatter([], [], color=VERDICT_COLORS[code], s=14, marker="s", label=VERDICT_WORDS[code]))
-    ax.scatter(x, np.full(len(x), -0.1), c=[VERDICT_COLORS[c] for c in codes], s=12, marker="s",
+    # The verdict squares sit in their own row below the axis numbers (not over them).
+    ax.scatter(x, np.full(len(x), -0.19), c=[VERDICT_COLORS[c] for c in codes], s=12, marker="s",
                transform=ax.get_xaxis_transform(), clip_on=False)
-    ax.set_xlabel(label + "   (squares: the verdict at each swept value)", labelpad=16)
+    ax.set_xlabel(label + "   (squares: the verdict at each swept value)", labelpad=24)
     ax.set_ylabel(f"margin ÷ required (drawn up to {CLIP:g})")
     ax.set_ylim(min(0.0, lowest - 0.05), CLIP + 0.1)
     ax.legend(handles=handles, loc="upper left", bbox_to_anchor=(1.02, 1.0), fontsize=6.5)
