@@ -10,6 +10,15 @@ from __future__ import annotations
 from dataclasses import dataclass, field
 
 
+# What a car is, for the pictures only: a consist is all rail cars or all road vehicles. A road
+# vehicle's length and roof height are the roof a performer stands on (a tractor unit's cab roof,
+# a trailer's deck or box roof, a rigid truck's box); the rest of it (a tractor's chassis and
+# coupling deck behind its cab, a rigid truck's cab ahead of its box) is drawn outside that roof.
+RAIL_KINDS = ("rail car",)
+ROAD_KINDS = ("tractor unit", "box trailer", "flatbed trailer", "rigid box truck")
+CAR_KINDS = RAIL_KINDS + ROAD_KINDS
+
+
 @dataclass(frozen=True)
 class Car:
     name: str
@@ -25,6 +34,12 @@ class Car:
     rear_x: float
     width: float = 2.8   # roof width, m (scene_load.DEFAULT_WIDTH)
     crown: float = 0.0   # rise of the roof's centreline over its side edges, m
+    kind: str = "rail car"   # CAR_KINDS: what is drawn (physics is the same for every kind)
+
+    @property
+    def road(self) -> bool:
+        """A road vehicle (a truck or trailer on a road), not a rail car."""
+        return self.kind in ROAD_KINDS
 
     def roof_z(self, y):
         """Roof height (m above rail) at y across the roof from its centreline (a parabolic crown)."""
@@ -33,7 +48,15 @@ class Car:
     @property
     def body_bottom(self) -> float:
         """Height above rail (m) of the underside of the car body as drawn: the underframe of a coach
-        or wagon is about 1.1 m up (from memory), lower on a low flat car."""
+        or wagon is about 1.1 m up (from memory), lower on a low flat car. Road vehicles (drawing values,
+        from memory): a flatbed trailer's deck is about 0.35 m deep; a box's floor about 1.2 m up; a
+        tractor unit's cab sits about 1 m up."""
+        if self.kind == "flatbed trailer":
+            return max(0.3 * self.roof_height, self.roof_height - 0.35)
+        if self.kind in ("box trailer", "rigid box truck"):
+            return min(1.2, 0.3 * self.roof_height)
+        if self.kind == "tractor unit":
+            return min(1.0, 0.35 * self.roof_height)
         return min(1.1, 0.3 * self.roof_height)
 
 
@@ -164,6 +187,11 @@ class Scene:
     @property
     def duration(self) -> float:
         return self.actions[-1].end
+
+    @property
+    def road(self) -> bool:
+        """The consist is road vehicles on a road (drawn with a road, not a track); physics is the same."""
+        return bool(self.cars) and all(car.road for car in self.cars)
 
     def car_at(self, x: float) -> int | None:
         """Index of the car whose roof spans car-frame x, or None (gap or off the ends)."""

@@ -14,8 +14,8 @@ from pathlib import Path
 from physics import G
 from physics import air as air_model
 from physics.consist import DEFAULT_JERK, distance_travelled
-from physics.scene import (Action, Air, Car, Gust, Keyframe, Line, Performer, Safety, Scene, Structure,
-                           Turbulence)
+from physics.scene import (CAR_KINDS, ROAD_KINDS, Action, Air, Car, Gust, Keyframe, Line, Performer,
+                           Safety, Scene, Structure, Turbulence)
 from physics.scene_file import key_lines, parse_toml, read_text
 from physics.scene_overrides import apply_overrides, origin_of
 from physics.scene_problems import Problem, SceneError
@@ -37,7 +37,8 @@ ROOF_STATIC = "roof_static@"  # key of a car's roof friction spread in Scene.unc
 ACTION_KINDS = ("stand", "brace", "crouch", "duck", "kneel", "prone", "crawl", "walk", "run", "jump")
 GAIT_KINDS = ("walk", "run", "crawl")
 AIR_POSTURES = ("tuck", "spread", "upright")
-STRUCTURE_KINDS = ("bridge", "footbridge", "gantry", "tunnel")
+STRUCTURE_KINDS = ("bridge", "footbridge", "gantry", "tunnel", "overbridge", "sign gantry")
+ROAD_STRUCTURES = ("overbridge", "sign gantry")   # over a road; the others over a track
 
 # Peak horizontal ground reaction / body weight in level gait at a reference
 # speed, used as the friction demand of gait: (peak at the reference, reference
@@ -346,7 +347,8 @@ def _cars(consist: dict, r: _Reader) -> list[Car]:
     crown_all = r.quantity(consist, "crown", "consist", "length", None, False, minimum=0.0, maximum=0.6)
     for n, (path, item) in enumerate(items):
         r.unknown(item, path, ("name", "length", "roof_height", "gap", "roof", "roof_static", "roof_kinetic",
-                               "body_static", "body_kinetic", "width", "crown"))
+                               "body_static", "body_kinetic", "width", "crown", "kind"))
+        kind = r.choice(item, "kind", path, CAR_KINDS, default="rail car")
         length = r.quantity(item, "length", path, "length", positive=True, maximum=100.0)
         height = r.quantity(item, "roof_height", path, "length", positive=True, maximum=8.0)
         last = n == len(items) - 1
@@ -363,9 +365,28 @@ def _cars(consist: dict, r: _Reader) -> list[Car]:
         if crown > 0.25 * width:
             r.fail(f"{path}.crown", f"a crown of {crown:g} m on a {width:g} m wide roof is steeper than roofbeat "
                                     "models (at most a quarter of the width)")
-        cars.append(Car(name, length, height, gap, surface, *friction, front, front - length, width, crown))
+        cars.append(Car(name, length, height, gap, surface, *friction, front, front - length, width, crown, kind))
         front -= length + gap
+    _one_way_of_travel(items, cars, r)
     return cars
+
+
+def _one_way_of_travel(items: list[tuple[str, dict]], cars: list[Car], r: _Reader) -> None:
+    """A consist is all rail cars or all road vehicles: the first car sets which, a car of the other
+    sort is blamed at its kind key."""
+    if not cars or any(item.get("kind", "rail car") not in CAR_KINDS for _, item in items):
+        return   # a kind roofbeat does not know is blamed on its own
+    road = cars[0].road
+    first_item = items[0][1]
+    first = (f"car 1, {cars[0].name}, is {cars[0].kind!r}" if "kind" in first_item else
+             f"car 1, {cars[0].name}, has no kind, so {cars[0].kind!r}")
+    for (path, item), car in zip(items, cars):
+        if car.road != road:
+            given = f"{car.kind!r}" if "kind" in item else f"no kind, so {car.kind!r},"
+            fix = (f"give this car one of {', '.join(repr(k) for k in ROAD_KINDS)}" if road else
+                   "give every car a road kind, or this car none")
+            r.fail(f"{path}.kind", f"{given} in a consist of {'road vehicles' if road else 'rail cars'} ({first}); "
+                                   f"a consist is all rail cars or all road vehicles, not a mix: {fix}")
 
 
 def _roof(consist: dict, item: dict, path: str, n: int, r: _Reader) -> tuple[str, tuple]:
@@ -395,7 +416,10 @@ def _roof(consist: dict, item: dict, path: str, n: int, r: _Reader) -> tuple[str
     body_k = explicit["body_kinetic"] if explicit["body_kinetic"] is not None else (
         surface.body_kinetic if surface else sole_k)
     if sole_k > sole_s or body_k > body_s:
-        r.fail(path, "kinetic friction must not exceed static friction")
+        # Blamed on the car; a --set of one of its friction numbers is named too.
+        also = next((f"{path}.{k}" for k in ("roof_static", "roof_kinetic", "body_static", "body_kinetic")
+                     if origin_of(f"{path}.{k}", r.origins)), None)
+        r.fail(path, "kinetic friction must not exceed static friction", also=also)
     return (surface.name if surface else "explicit"), (sole_s, sole_k, body_s, body_k)
 
 

@@ -72,7 +72,8 @@ def key_numbers(scene) -> list[tuple[str, str]]:
     system = scene.units
     length = lambda v: display(v, "length", system)  # noqa: E731
     speed = lambda v: display(v, "speed", system, ".0f")  # noqa: E731
-    cars = "; ".join(f"{c.name} {length(c.length)}, roof {length(c.roof_height)} high, {length(c.width)} wide"
+    cars = "; ".join(f"{c.name}{' (' + c.kind + ')' if c.road else ''} {length(c.length)}, "
+                     f"{'deck' if c.road else 'roof'} {length(c.roof_height)} high, {length(c.width)} wide"
                      f"{', crown ' + length(c.crown) if c.crown else ', flat'}, {c.surface} "
                      f"(static {c.sole_static:.2f})" for c in scene.cars)
     if scene.speed_log is not None:

@@ -116,7 +116,11 @@ def draw(canvas, playback, t: float, view, cam: EndCamera, layout, area: Box) ->
     draw_backdrop(canvas, cam)
     draw_overhead(canvas, cam, near)
     draw_car(canvas, cam.turned(cant + roll), car, faint=ahead != 0, track=cam.turned(cant))
-    draw_track(canvas, cam.turned(cant))
+    if scene.road:
+        from preview.road import draw_road_end
+        draw_road_end(canvas, cam.turned(cant))
+    else:
+        draw_track(canvas, cam.turned(cant))
     draw_zone_edges(canvas, cam, near)
     keep_clear(layout, tr, i, view, cam, car if ahead == 0 else None)
     draw_trail(canvas, tr, i, view, cam)
@@ -240,9 +244,14 @@ def draw_car(canvas, cam: EndCamera, car, faint: bool = False, track: EndCamera 
     if faint:
         canvas.polygon(body_pts, FAINT, 2)
         return
-    for side in (-1, 1):
-        canvas.polygon(_quad(track, side * GAUGE / 2 + 0.07, WHEEL, side * GAUGE / 2 - 0.07, 0.0), CAR_EDGE)
-    canvas.polygon(_quad(track, GAUGE / 2 + 0.25, 0.75, -GAUGE / 2 - 0.25, 0.45), CAR_EDGE)
+    if car.road:
+        from preview.road import draw_vehicle_end
+        draw_vehicle_end(canvas, cam, track, car)   # dual tyres, axle and chassis rails
+        canvas.tag = "consist"
+    else:
+        for side in (-1, 1):
+            canvas.polygon(_quad(track, side * GAUGE / 2 + 0.07, WHEEL, side * GAUGE / 2 - 0.07, 0.0), CAR_EDGE)
+        canvas.polygon(_quad(track, GAUGE / 2 + 0.25, 0.75, -GAUGE / 2 - 0.25, 0.45), CAR_EDGE)
     canvas.polygon(body_pts, CAR_BODY)
     canvas.polygon(body_pts, CAR_EDGE, 2)
     canvas.polyline(roof, INK, 3)

@@ -362,7 +362,7 @@ def banner_text(cam, view, units: str) -> str:
     if view.trackside is not None:
         return (f"GROUND FRAME: trackside camera at {display(view.trackside, 'length', units, '.0f')}, "
                 "consist passes; travel →")
-    return "GROUND FRAME: track and scenery at rest; travel →"
+    return "GROUND FRAME: the ground and scenery at rest; travel →"
 
 
 # ---------------------------------------------------------------------- draw

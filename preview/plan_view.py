@@ -143,7 +143,11 @@ def draw(canvas, playback, t: float, view, cam: PlanCamera, layout, area: Box) -
     i = tr.index_at(t)
     failure = playback.summary.get("first_failure")
     failed = failure is not None and t >= failure["time_s"] - 1e-9
-    draw_bed(canvas, cam)
+    if scene.road:
+        from preview.road import draw_road_plan
+        draw_road_plan(canvas, cam, float(tr.field("distance")[i]))
+    else:
+        draw_bed(canvas, cam)
     draw_cars(canvas, scene, cam)
     draw_overhead(canvas, scene, cam, float(tr.field("distance")[i]))   # over the roofs, see-through
     keep_clear(layout, tr, i, scene, cam, area)
@@ -200,8 +204,11 @@ def roof_box(car, cam: PlanCamera) -> Box:
 
 def draw_cars(canvas, scene, cam: PlanCamera) -> None:
     """Each roof: its outline, its side edges in ink and, on a crowned roof, its ridge faint."""
-    canvas.tag = "consist"
-    for car in scene.cars:
+    from preview.road import draw_vehicle_plan
+    for n, car in enumerate(scene.cars):
+        if car.road:   # what lies off its roof: a tractor's chassis across the gap, a rigid truck's cab
+            draw_vehicle_plan(canvas, cam, car, scene.cars[n + 1] if n + 1 < len(scene.cars) else None)
+        canvas.tag = "consist"
         b = roof_box(car, cam)
         if b.right < 0 or b.x > cam.width:
             continue

@@ -40,7 +40,7 @@ def draw_view(canvas, playback, t: float, view, cam: Camera, layout, area: Box) 
     failure = playback.summary.get("first_failure")
     failed = failure is not None and t >= failure["time_s"] - 1e-9
     draw_backdrop(canvas, cam)
-    draw_scenery(canvas, cam, scene.units)
+    draw_scenery(canvas, cam, scene.units, road=scene.road)
     keep_clear(layout, tr, i, cam, view)
     draw_structures(canvas, scene, cam)
     draw_consist(canvas, scene, cam)
@@ -86,18 +86,24 @@ def draw_backdrop(canvas, cam: Camera) -> None:
         canvas.rect(0, rail_y, cam.width, cam.top + cam.height - rail_y, GROUND_TONE)
 
 
-def draw_scenery(canvas, cam: Camera, units: str = "metric") -> None:
-    """Sleepers, lineside posts and distance boards, fixed to the ground."""
-    canvas.tag = "scenery"
+def draw_scenery(canvas, cam: Camera, units: str = "metric", road: bool = False) -> None:
+    """Rail, sleepers and lineside posts (tagged "scenery"), or for a road consist the road with its
+    lane markings and marker posts (tagged "road", preview.road); then distance boards, fixed to the ground."""
     left = cam.to_world(0, 0)[0] + cam.distance
     right = cam.to_world(cam.width, 0)[0] + cam.distance
-    rail = cam.ground_to_screen(0.0, 0.0)[1]
-    canvas.line((0, rail), (cam.width, rail), SOFT_INK, 2)
-    for x in np.arange(math.floor(left / 0.65) * 0.65, right + 0.65, 0.65):
-        px = cam.ground_to_screen(x, 0.0)[0]
-        canvas.line((px, rail + 2), (px, rail + 7), FAINT, 2)
-    for x in np.arange(math.floor(left / 20.0) * 20.0, right + 20.0, 20.0):
-        canvas.line(cam.ground_to_screen(x, 0.0), cam.ground_to_screen(x, 1.0), FAINT, 3)  # a low post
+    if road:
+        from preview.road import draw_road_side
+        draw_road_side(canvas, cam)
+    else:
+        canvas.tag = "scenery"
+        rail = cam.ground_to_screen(0.0, 0.0)[1]
+        canvas.line((0, rail), (cam.width, rail), SOFT_INK, 2)
+        for x in np.arange(math.floor(left / 0.65) * 0.65, right + 0.65, 0.65):
+            px = cam.ground_to_screen(x, 0.0)[0]
+            canvas.line((px, rail + 2), (px, rail + 7), FAINT, 2)
+        for x in np.arange(math.floor(left / 20.0) * 20.0, right + 20.0, 20.0):
+            canvas.line(cam.ground_to_screen(x, 0.0), cam.ground_to_screen(x, 1.0), FAINT, 3)  # a low post
+    canvas.tag = "distance"
     step = 100.0 if units == "metric" else 300 * 0.3048     # a board every 100 m or 300 ft
     bottom = cam.top + cam.height
     ts = label_size(canvas) - 1
@@ -124,10 +130,13 @@ def draw_structures(canvas, scene, cam: Camera) -> None:
     for s, (x0, top, x1, soffit) in structures_in_view(scene, cam):
         canvas.rect(x0, top, x1 - x0, soffit - top, STRUCTURE)
         canvas.line((x0, soffit), (x1, soffit), INK, 2)
-        if s.kind in ("bridge", "footbridge"):
+        if s.kind in ("bridge", "footbridge", "overbridge"):
             for xs in (s.x_start, s.x_start + s.span):
                 base = cam.ground_to_screen(xs, 0.0)
                 canvas.line(base, cam.ground_to_screen(xs, s.soffit), FAINT, 4)   # beside the track
+        elif s.kind == "sign gantry":
+            xs = s.x_start + s.span / 2                                             # its upright, beside the road
+            canvas.line(cam.ground_to_screen(xs, 0.0), cam.ground_to_screen(xs, s.soffit), FAINT, 4)
     for line in scene.lines:
         x0, wire = cam.ground_to_screen(line.x_start, line.wire_height)
         x1, zone = cam.ground_to_screen(line.x_end, line.wire_height - line.exclusion)
@@ -161,21 +170,27 @@ def canvas_measure(text: str, size: int, bold: bool = False) -> tuple[int, int]:
 
 
 def draw_consist(canvas, scene, cam: Camera) -> None:
-    canvas.tag = "consist"
-    for car in scene.cars:
+    """Each car from the side: a rail car's body on two bogies, or a road vehicle as preview.road draws it."""
+    from preview.road import ROAD_REACH, draw_vehicle_side
+    for n, car in enumerate(scene.cars):
+        canvas.tag = "consist"
         x0, roof = cam.to_screen(car.rear_x, car.roof_height)
         x1, floor = cam.to_screen(car.front_x, car.body_bottom)
-        if x1 < 0 or x0 > cam.width:
+        reach = ROAD_REACH * cam.scale if car.road else 0.0
+        if x1 + reach < 0 or x0 - reach > cam.width:
             continue
-        canvas.rect(x0, roof, x1 - x0, floor - roof, CAR_BODY)
-        canvas.rect(x0, roof, x1 - x0, floor - roof, CAR_EDGE, width=2)
-        canvas.line((x0, roof), (x1, roof), INK, 3)
-        wheel_r = 0.42 * cam.scale
-        for bogie in (car.rear_x + min(2.5, car.length * 0.2), car.front_x - min(2.5, car.length * 0.2)):
-            for dx in (-0.9, 0.9):
-                cx, cy = cam.to_screen(bogie + dx, 0.42)
-                canvas.circle((cx, cy), wheel_r, CAR_EDGE, 0)
-                canvas.circle((cx, cy), wheel_r * 0.35, PAPER, 0)
+        if car.road:
+            draw_vehicle_side(canvas, cam, car, scene.cars[n + 1] if n + 1 < len(scene.cars) else None)
+        else:
+            canvas.rect(x0, roof, x1 - x0, floor - roof, CAR_BODY)
+            canvas.rect(x0, roof, x1 - x0, floor - roof, CAR_EDGE, width=2)
+            canvas.line((x0, roof), (x1, roof), INK, 3)
+            wheel_r = 0.42 * cam.scale
+            for bogie in (car.rear_x + min(2.5, car.length * 0.2), car.front_x - min(2.5, car.length * 0.2)):
+                for dx in (-0.9, 0.9):
+                    cx, cy = cam.to_screen(bogie + dx, 0.42)
+                    canvas.circle((cx, cy), wheel_r, CAR_EDGE, 0)
+                    canvas.circle((cx, cy), wheel_r * 0.35, PAPER, 0)
         # The name at the middle of the part of the car in the picture.
         ts = label_size(canvas) + 1
         seen0, seen1 = max(x0, 4.0), min(x1, cam.width - 4.0)
