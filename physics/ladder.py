@@ -55,27 +55,19 @@ def build_ladder(scene: Scene, rungs: int = 5) -> dict:
     kinds = first_failure_kinds(result.events)
     rows = []
     for i, speed in enumerate(speeds):
-        worst = _worst_margins(result.outcomes[i])
+        worst = _worst(result.outcomes[i])
         rows.append({"rung": i + 1, "speed_ms": float(speed), "verdict": NAMES[codes[i]],
-                     "first_failure": kinds[i], "margins": worst,
-                     "below_required": shortfalls(scene.safety, _as_outcome(result.outcomes[i]))})
+                     "first_failure": kinds[i],
+                     "margins": {words: (float(worst[field]) if math.isfinite(worst[field]) else None)
+                                 for field, _, words, _ in FACTORS},
+                     "below_required": shortfalls(scene.safety, worst)})
     short = next((r["rung"] for r in rows if r["verdict"] != "holds"), None)
     return {"scene": scene.title, "units": "SI", "rungs": rows, "first_rung_short": short,
             "abort_limits": abort_limits(scene), "wind_machine": wind_machine(scene)}
 
 
-def _worst_margins(outcomes) -> dict:
-    """Each margin's worst over the beat's actions (None where never met)."""
-    out = {}
-    for field, _, words, _ in FACTORS:
-        values = outcomes[field]
-        value = float(np.min(values))
-        out[words] = value if math.isfinite(value) else None
-    return out
-
-
-def _as_outcome(outcomes):
-    """The worst of each margin over the actions, as one outcome row (for verdict.shortfalls)."""
+def _worst(outcomes):
+    """The worst of each margin over the beat's actions, as one outcome row (inf where never met)."""
     row = outcomes[0].copy()
     for field, _, _, _ in FACTORS:
         row[field] = np.min(outcomes[field])

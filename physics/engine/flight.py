@@ -200,9 +200,9 @@ def kept_out_of_cars(cars, before, after):
     """A body below a car's roof level cannot be inside that car: it meets the end wall it flew at
     and stops against it (no bounce); a body that has fallen past a roof's end goes down beside
     that end; over the roof a touchdown has already taken it."""
+    clear = side_clearance(after)
     for i in range(cars.shape[0]):
         car = cars[i]
-        clear = side_clearance(after)
         if after.z + after.low_dz >= car.roof_height or beside(car, after.y - after.side * clear):
             continue
         if after.side != 0:

@@ -134,10 +134,17 @@ def lift_off(v, inputs, env, state, ft, load, out):
     """The roof no longer bears the body: it flies from where it stands, at its own velocity, from t_k."""
     bal, slide, fr = state.balance, state.slide, state.frontal
     note_event(out.events, v.b, Event.LIFT, env.t, slide.x, env.distance, inputs.cars, -load.normal, v.weight)
-    fl = take_off(inputs.postures[ft.row], ft.row, bal.lean, slide.x, ft.roof_z,
-                  slide.u + ft.gait_v + bal.rate * load.com_z, -bal.rate * load.com_x, slide.y,
-                  slide.w + ft.gait_vy + fr.rate * load.com_z * math.cos(fr.roll), fr.roll)
+    fl = fly_from(inputs.postures[ft.row], ft, bal, fr, slide, load, ft.roof_z)
     return State(lifted(state.beat), slide, bal, fl, fr)
+
+
+@small
+def fly_from(posture, ft, bal, fr, slide, load, roof_z):
+    """The body leaving the roof as it is: its lean and roll, at its own velocity (the contact's slide
+    and gait, and the lean's and roll's rates at the centre of mass)."""
+    return take_off(posture, ft.row, bal.lean, slide.x, roof_z, slide.u + ft.gait_v + bal.rate * load.com_z,
+                    -bal.rate * load.com_x, slide.y, slide.w + ft.gait_vy + fr.rate * load.com_z * math.cos(fr.roll),
+                    fr.roll)
 
 
 @kernel
@@ -259,16 +266,11 @@ def leave_roof(v, inputs, env, state, load, ft, plan, act, out):
         note_side(out.events, v.b, Event.OFF_SIDE, env.t + v.dt, toward)
         # Off it from the highest roof under the support (its inner side on a crowned roof).
         inner = roof_z_at(inputs.cars[car], slide.y - toward * min(posture.half_width, abs(slide.y)))
-        fl = take_off(posture, ft.row, bal.lean, slide.x, inner, slide.u + ft.gait_v + bal.rate * load.com_z,
-                      -bal.rate * load.com_x, slide.y,
-                      slide.w + ft.gait_vy + fr.rate * load.com_z * math.cos(fr.roll), fr.roll)
-        fl = over_the_side(fl, toward)
+        fl = over_the_side(fly_from(posture, ft, bal, fr, slide, load, inner), toward)
         return State(with_mode(failed(beat), Mode.FLIGHT), slide, bal, fl, fr)
     if (over_an_end(inputs.cars, posture, bal, slide) if lying else car < 0):
-        fl = take_off(posture, ft.row, bal.lean, slide.x, ft.roof_z, slide.u + ft.gait_v + bal.rate * load.com_z,
-                      -bal.rate * load.com_x, slide.y,
-                      slide.w + ft.gait_vy + fr.rate * load.com_z * math.cos(fr.roll), fr.roll)
-        return State(with_mode(beat, Mode.FLIGHT), slide, bal, fl, fr)
+        return State(with_mode(beat, Mode.FLIGHT), slide, bal, fly_from(posture, ft, bal, fr, slide, load, ft.roof_z),
+                     fr)
     action = inputs.actions[act]
     if (action.code != ActionCode.JUMP or beat.jumped == act or beat.mode != Mode.PLANTED
             or not beat.assessing):
