@@ -16,6 +16,7 @@ from physics.scene_load import parse_scene
 from physics.scene_problems import SceneError
 from physics.simulation import Trajectory, build_inputs, run_kernel, simulate, variants
 from physics.verdict import summarise
+from tests.conftest import scene_text
 
 RHO = 1.225
 
@@ -210,26 +211,9 @@ def test_bad_across_track_keys_are_named(key, value, words):
     text_offset = value if key == "offset" else '"0 m"'
     car = f"crown = {value}" if key == "crown" else ""
     with pytest.raises(SceneError) as err:
-        parse_scene(f'''
-[consist]
-roof = "painted steel dry"
-[[consist.cars]]
-length = "14 m"
-roof_height = "4.0 m"
-{car}
-[motion]
-speed = "0 m/s"
-[performer]
-stature = "1.78 m"
-mass = "76 kg"
-[start]
-car = 1
-position = "6 m"
-offset = {text_offset}
-[[actions]]
-do = "stand"
-duration = "2 s"
-''', "bad.toml")
+        parse_scene(scene_text(speed="0 m/s", cars=[f'length = "14 m"\nroof_height = "4.0 m"\n{car}'],
+                               start=f'car = 1\nposition = "6 m"\noffset = {text_offset}',
+                               actions=['do = "stand"\nduration = "2 s"']), "bad.toml")
     message = str(err.value)
     assert "bad.toml" in message and (words in message or key in message)
 

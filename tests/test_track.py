@@ -14,6 +14,7 @@ from physics.scene_problems import SceneError
 from physics.simulation import simulate
 from physics.track import (RIDE_LEVELS, Ride, cfr_213_57_max_speed, equilibrium_cant, radius_of_degree_curve,
                            ride_profile)
+from tests.conftest import scene_text
 
 MPH = 0.44704
 INCH = 0.0254
@@ -215,25 +216,9 @@ def test_a_straight_smooth_track_changes_nothing():
 ])
 def test_bad_track_and_ride_keys_are_named(track, words):
     with pytest.raises(SceneError) as err:
-        parse_scene(f'''
-[consist]
-roof = "painted steel dry"
-[[consist.cars]]
-length = "14 m"
-roof_height = "4.0 m"
-[motion]
-speed = "10 m/s"
-[performer]
-stature = "1.78 m"
-mass = "76 kg"
-[start]
-car = 1
-position = "6 m"
-{track}
-[[actions]]
-do = "stand"
-duration = "2 s"
-''', "bad.toml")
+        parse_scene(scene_text(speed="10 m/s", cars=['length = "14 m"\nroof_height = "4.0 m"'],
+                               start='car = 1\nposition = "6 m"', actions=['do = "stand"\nduration = "2 s"'],
+                               extra=track), "bad.toml")
     message = str(err.value)
     assert "bad.toml" in message and words in message
 
