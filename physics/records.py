@@ -145,7 +145,20 @@ CAR = np.dtype([
     ("width", "f8"), ("crown", "f8"),                # roof width and the rise of its centre over its edges, m
     ("sole_static", "f8"), ("sole_kinetic", "f8"),   # footwear on the roof
     ("body_static", "f8"), ("body_kinetic", "f8"),   # clothing and pads (knees, prone, lying)
+    # The air over this roof (physics.roof_air): the boundary layer thickness added by the gaps and
+    # ends ahead of it (m); the speed-up over a streamlined lead front (factor) and how far back from
+    # the car's front it reaches (m); the low-speed zone behind a bluff front edge or a step up: its
+    # length back from the car's front and its height (m; 0 for none).
+    ("flow_added", "f8"), ("speedup", "f8"), ("speedup_length", "f8"), ("zone_length", "f8"),
+    ("zone_height", "f8"),
 ])
+
+# The air over the roofs, shared by every car (one row): whether the profile is on, its power law's
+# exponent 1/n, the flat-plate coefficient of delta / x = plate Re_x^(-1/7), the length of train
+# ahead of the first car (m), the share of the air's velocity kept in a low-speed zone, and the
+# air's dynamic viscosity (Pa s).
+AIRFLOW = np.dtype([("on", "u1"), ("inv_n", "f8"), ("plate", "f8"), ("ahead", "f8"), ("zone_factor", "f8"),
+                    ("viscosity", "f8")])
 
 STRUCTURE = np.dtype([("x_start", "f8"), ("span", "f8"), ("soffit", "f8")])  # ground frame; soffit above rail
 LINE = np.dtype([("x_start", "f8"), ("x_end", "f8"), ("wire_height", "f8"), ("exclusion", "f8")])
@@ -166,7 +179,7 @@ BODY = np.dtype([
     ("lying_row", "i8"),                      # posture row of the body lying on the ground after a fall
 ])
 
-Inputs = namedtuple("Inputs", "steps postures actions cars structures lines body track")
+Inputs = namedtuple("Inputs", "steps postures actions cars structures lines body track airflow")
 
 # -------------------------------------------------------------------- outputs
 EVENT = np.dtype([
@@ -199,6 +212,7 @@ OUTCOME = np.dtype([
     ("frontal_margin_min", "f8"),      # margin of stability across the track (frontal plane), m
     ("edge_margin_min", "f8"),         # distance from the support to the nearer side edge of the roof, m
     ("lateral_accel_max", "f8"),       # car-body lateral acceleration felt on the roof, m/s^2
+    ("body_wind_max", "f8"),           # apparent wind at the centre of mass's height (the air over the roof), m/s
 ])
 OUTCOME_MINIMA = ("grip_ratio_min", "balance_margin_min", "lift_ratio_min", "landing_margin_min", "clearance_min",
                   "frontal_margin_min", "edge_margin_min")
@@ -247,6 +261,11 @@ RECORD = np.dtype([
     ("curvature", "f8"),          # of the track under the performer's car, 1/m (+ turning left)
     ("cant_tilt", "f8"),          # the track's cant as a tilt, rad (+ roof low on the left)
     ("body_roll", "f8"),          # the car body's roll on its suspension, rad (+ roof low on the left)
+    ("body_wind", "f8"),          # apparent wind at the centre of mass's height, horizontal, m/s
+    ("flow_delta", "f8"),         # boundary layer thickness over the roof under the body, m (NaN: uniform air)
+    ("flow_gain", "f8"),          # speed-up over a streamlined lead front (1: none)
+    ("flow_zone", "f8"),          # height of a low-speed zone under the body, m (0: none)
+    ("flow_base", "f8"),          # height of the posture's pivot above that roof, m
 ])
 
 

@@ -90,6 +90,7 @@ class Air:
     wind_from: float
     gusts: tuple[Gust, ...] = ()
     turbulence: Turbulence | None = None
+    roof_flow: object = None   # physics.roof_air.RoofFlow when the air over the roof is on, else None (uniform)
 
 
 @dataclass(frozen=True)

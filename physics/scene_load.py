@@ -14,6 +14,7 @@ from pathlib import Path
 from physics import G
 from physics import air as air_model
 from physics.consist import DEFAULT_JERK, distance_travelled
+from physics.roof_air import LEAD_FRONTS, RoofFlow
 from physics.scene import (CAR_KINDS, ROAD_KINDS, Action, Air, Car, Gust, Keyframe, Line, Performer,
                            Safety, Scene, Structure, Turbulence)
 from physics.scene_file import key_lines, parse_toml, read_text
@@ -453,7 +454,7 @@ def _motion(motion: dict, r: _Reader) -> tuple[list[Keyframe], float]:
 
 def _air(data: dict, r: _Reader) -> Air:
     r.unknown(data, "air", ("altitude", "temperature", "density", "wind_speed", "wind_from", "gusts",
-                            "turbulence"))
+                            "turbulence", "roof_profile", "roof_flow"))
     altitude = r.quantity(data, "altitude", "air", "length", default=0.0, minimum=-400.0, maximum=5000.0)
     temperature = r.quantity(data, "temperature", "air", "temperature", required=False,
                              minimum=223.15, maximum=333.15)
@@ -481,7 +482,47 @@ def _air(data: dict, r: _Reader) -> Air:
         seed = r.number(t, "seed", "air.turbulence", default=0, integer=True, minimum=0, maximum=2**62)
         if None not in (sigma, scale):
             turbulence = Turbulence(sigma, scale, seed)
-    return Air(rho, altitude, temperature, wind_speed, wind_from, tuple(gusts), turbulence)
+    return Air(rho, altitude, temperature, wind_speed, wind_from, tuple(gusts), turbulence, _roof_flow(data, r))
+
+
+def _roof_flow(data: dict, r: _Reader):
+    """`air.roof_profile` ("off" by default: uniform wind) and the coefficients under `[air.roof_flow]`."""
+    profile = r.choice(data, "roof_profile", "air", ("off", "on"), default="off")
+    p = "air.roof_flow"
+    table = r.table(data, "roof_flow", "air", required=False)
+    if profile != "on":
+        if table:
+            r.fail(p, "coefficients of the air over the roof need air.roof_profile = \"on\"")
+        return None
+    r.unknown(table, p, ("lead_front", "train_ahead", "cars_ahead", "gap_thickness", "power", "speed_up",
+                         "speed_up_length", "separation_length", "separation_height", "step_zone_length",
+                         "step_zone_height", "low_speed_share"))
+    d = RoofFlow()
+    values = {
+        "lead_front": r.choice(table, "lead_front", p, LEAD_FRONTS, default=d.lead_front),
+        "train_ahead": r.quantity(table, "train_ahead", p, "length", default=d.train_ahead, minimum=0.0,
+                                  maximum=5000.0),
+        "cars_ahead": r.number(table, "cars_ahead", p, default=d.cars_ahead, integer=True, minimum=0, maximum=400),
+        "gap_thickness": r.quantity(table, "gap_thickness", p, "length", default=d.gap_thickness, minimum=0.0,
+                                    maximum=5.0),
+        "power": r.number(table, "power", p, default=d.power, minimum=2.0, maximum=15.0),
+        "speed_up": r.number(table, "speed_up", p, default=d.speed_up, minimum=1.0, maximum=2.0),
+        "speed_up_length": r.quantity(table, "speed_up_length", p, "length", default=d.speed_up_length,
+                                      minimum=0.0, maximum=50.0),
+        "separation_length": r.quantity(table, "separation_length", p, "length", default=d.separation_length,
+                                        minimum=0.0, maximum=50.0),
+        "separation_height": r.quantity(table, "separation_height", p, "length", default=d.separation_height,
+                                        minimum=0.0, maximum=5.0),
+        "step_zone_length": r.number(table, "step_zone_length", p, default=d.step_zone_length, minimum=0.0,
+                                     maximum=50.0),
+        "step_zone_height": r.number(table, "step_zone_height", p, default=d.step_zone_height, minimum=0.0,
+                                     maximum=5.0),
+        "low_speed_share": r.number(table, "low_speed_share", p, default=d.low_speed_share, minimum=0.0,
+                                    maximum=1.0),
+    }
+    if any(value is None for value in values.values()):
+        return None
+    return RoofFlow(**values)
 
 
 def _performer(data: dict, r: _Reader) -> Performer:

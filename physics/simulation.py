@@ -22,7 +22,7 @@ from dataclasses import dataclass, field
 
 import numpy as np
 
-from physics import G, air, body, track
+from physics import G, air, body, roof_air, track
 from physics.beat import Timeline, build_timeline
 from physics.engine import driver, jit
 from physics.records import BODY, CAR, LINE, PARAMS, RECORD, STRUCTURE, Inputs, empty_events, empty_outcomes
@@ -214,8 +214,28 @@ class Trajectory:
         if self.scene.performer.body_model == "lumped":
             return np.zeros((body.N_SEGMENTS, 2))
         half = 0.5 * p["density"] * p["drag_scale"]
-        return body.segment_air_forces(posture["axes"], float(r["lean"]), (r["app_x"], r["app_y"], r["app_z"]),
+        wx, wy = self.segment_winds(index, posture)
+        return body.segment_air_forces(posture["axes"], float(r["lean"]), (wx, wy, r["app_z"]),
                                        half * constants.crossflow_area, half * constants.axial_area)
+
+    def air_share(self, index: int, heights) -> np.ndarray:
+        """The share of the air's velocity relative to the car kept at `heights` (m above the roof under the
+        body) at one step: the engine's air over the roof (1 where it is off or uniform)."""
+        r, flow = self.record[index], self.scene.air.roof_flow
+        if flow is None or not np.isfinite(r["flow_delta"]):
+            return np.ones_like(np.asarray(heights, dtype=float))
+        return roof_air.share(heights, float(r["flow_delta"]), flow.power, float(r["flow_gain"]),
+                              float(r["flow_zone"]), flow.low_speed_share)
+
+    def segment_winds(self, index: int, posture=None) -> tuple[np.ndarray, np.ndarray]:
+        """(12,) each segment's apparent wind along and across the track (m/s) at one step: the recorded
+        apparent wind taken at each midpoint's height in the air over the roof."""
+        r = self.record[index]
+        posture = self.timeline.postures[r["row"]] if posture is None else posture
+        c, s = np.cos(r["lean"]), np.sin(r["lean"])
+        heights = r["flow_base"] - posture["axes"][:, 0] * s + posture["axes"][:, 1] * c
+        f = self.air_share(index, heights) - 1.0
+        return r["app_x"] + f * (r["wind_x"] - r["speed"]), r["app_y"] + f * r["wind_y"]
 
     @functools.cached_property
     def pseudo_force_path(self) -> np.ndarray:
@@ -277,7 +297,7 @@ def prepare(scene: Scene) -> tuple[Timeline, Inputs]:
 def build_inputs(scene: Scene) -> tuple[Timeline, Inputs]:
     """The timeline and kernel inputs of a scene, built afresh (for scenes made to be run once)."""
     timeline = build_timeline(scene)
-    cars = _table(CAR, scene.cars)
+    cars = _table(CAR, scene.cars, roof_air.car_fields(scene.air.roof_flow, scene.cars))
     structures = _table(STRUCTURE, scene.structures)
     lines = _table(LINE, scene.lines)
     constants = body.body_constants(scene.performer.stature)
@@ -290,17 +310,19 @@ def build_inputs(scene: Scene) -> tuple[Timeline, Inputs]:
     drag["lumped_drag_area"] = scene.performer.drag_area if scene.performer.body_model == "lumped" else 0.0
     drag["lying_row"] = timeline.lying_row
     inputs = Inputs(timeline.steps, timeline.postures, timeline.actions, cars, structures, lines, drag,
-                    track.pieces(scene.track))
+                    track.pieces(scene.track), roof_air.airflow_row(scene.air.roof_flow, scene.air))
     for table in inputs:
         table.flags.writeable = False
     return timeline, inputs
 
 
-def _table(dtype: np.dtype, items) -> np.ndarray:
-    """An input table from scene items: each field filled from the item's attribute of that name."""
+def _table(dtype: np.dtype, items, columns=None) -> np.ndarray:
+    """An input table from scene items: each field filled from the item's attribute of that name, or
+    from `columns` (a dict of whole columns) where it names the field."""
+    columns = columns or {}
     table = np.zeros(len(items), dtype)
     for name in dtype.names:
-        table[name] = [getattr(item, name) for item in items]
+        table[name] = columns[name] if name in columns else [getattr(item, name) for item in items]
     return table
 
 

@@ -222,6 +222,8 @@ def summarise(scene: Scene, events: np.ndarray, outcomes: np.ndarray) -> dict:
             "lift_ratio_min": _finite(m["lift_ratio_min"]),
             "lean_max_deg": math.degrees(m["lean_max"]),
             "apparent_wind_max_ms": float(m["apparent_wind_max"]),
+            # At the centre of mass's height in the air over the roof; the free stream's when it is off.
+            "body_wind_max_ms": float(m["body_wind_max"]),
             "beaufort_max": beaufort(float(m["apparent_wind_max"])),
             "drag_max_n": float(m["drag_max"]),
             "landing_margin_min_m": _finite(m["landing_margin_min"]),
@@ -236,7 +238,8 @@ def summarise(scene: Scene, events: np.ndarray, outcomes: np.ndarray) -> dict:
         actions.append(row)
     overall = NAMES[int(codes.max())] if len(codes) else "holds"
     return {"verdict": overall, "first_failure": failures[0] if failures else None, "events": evs,
-            "actions": actions, "required_factors": required_factors(scene.safety)}
+            "actions": actions, "required_factors": required_factors(scene.safety),
+            "air_over_roof": "on" if scene.air.roof_flow is not None else "off"}
 
 
 def required_factors(safety) -> dict:

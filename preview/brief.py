@@ -29,7 +29,7 @@ from physics.units import display, to_display
 from preview.caution import CAUTION
 from preview.outputs import OutputSet, check_target
 from preview.report import (apparent_wind_line, floor_to, marginal_words, phase_words, required_words, storm_words,
-                            wind_words)
+                            uniform_air_words, wind_words)
 from preview.session import OutputError
 from preview.timecode import timecode
 
@@ -91,6 +91,10 @@ def key_numbers(scene) -> list[tuple[str, str]]:
                  f"{math.degrees(g.from_direction):.0f}° at {g.start:g} s for {g.duration:g} s")
     if scene.air.turbulence:
         wind += "; turbulence"
+    flow = scene.air.roof_flow
+    if flow is not None:
+        wind += (f"; air over the roof on ({flow.lead_front} lead front, 1/{flow.power:g} power-law layer, "
+                 f"{length(flow.gap_thickness)} added at each gap)")
     p = scene.performer
     performer = f"{length(p.stature)}, {display(p.mass, 'mass', system, '.0f')}, {p.body_model} body"
     if scene.start_y:
@@ -127,7 +131,8 @@ def brief_content(scene, playback, sweep_summary) -> dict:
         "roofbeat_version": __version__, "date": dt.date.today().isoformat(), "units": scene.units,
         "verdict": s["verdict"], "key_numbers": dict(key_numbers(scene)), "actions": s["actions"],
         "required_factors": s["required_factors"], "first_failure": s["first_failure"], "events": s["events"],
-        "aftermath": s["aftermath"], "ducks": s["ducks"],
+        "aftermath": s["aftermath"], "ducks": s["ducks"], "air_over_roof": s.get("air_over_roof", "off"),
+        "uniform_air": s.get("uniform_air"),
         "apparent_wind": wind_words(peak, scene.units), "apparent_wind_max_ms": peak,
         "apparent_wind_whole_beat_ms": s.get("apparent_wind_whole_beat_ms", peak),
         "envelope": sweep_summary, "checklist": CHECKLIST, "caution": CAUTION, "sign_off": SIGN_OFF,
@@ -344,6 +349,9 @@ def _page_one(page: Page, scene, content, sweep, sweep_summary):
         page.para("No failure in the simulated beat.", BODY + 0.5, "bold")
     wind_line = apparent_wind_line(content, system)
     page.para(wind_line[0].upper() + wind_line[1:] + ".")
+    bound = uniform_air_words(content)
+    if bound:
+        page.para(bound[0].upper() + bound[1:] + ".", BODY, "bold")
     storm = storm_words(content)
     if storm:
         page.para(storm, BODY, "bold", color=FAIL_INK)

@@ -100,6 +100,9 @@ def text_report(scene, summary: dict) -> str:
             lines.append(f"duck '{duck['name']}' (action {duck['action']}): latest start that still clears "
                          f"{timecode(latest, scene.frame_rate)} ({latest:.2f} s){words}")
     lines.append(f"verdict: {summary['verdict'].upper()}")
+    bound = uniform_air_words(summary)
+    if bound:
+        lines.append(bound)
     first = summary["first_failure"]
     if first:
         x_car, unit = to_display(first["x_car_m"], "length", system)
@@ -124,10 +127,38 @@ def apparent_wind_line(summary: dict, system: str) -> str:
     first = summary["first_failure"]
     whole = summary.get("apparent_wind_whole_beat_ms", peak)
     if first is None:
-        return f"apparent wind, highest: {wind_words(max(peak, whole), system)}"
-    words = f"apparent wind, highest before the first failure ({first['time_s']:.2f} s): {wind_words(peak, system)}"
-    if whole > peak + 0.05:
-        words += f"; over the whole beat as simulated: {display(whole, 'wind', system, '.1f')}"
+        words = f"apparent wind, highest: {wind_words(max(peak, whole), system)}"
+    else:
+        words = (f"apparent wind, highest before the first failure ({first['time_s']:.2f} s): "
+                 f"{wind_words(peak, system)}")
+        if whole > peak + 0.05:
+            words += f"; over the whole beat as simulated: {display(whole, 'wind', system, '.1f')}"
+    return words + body_wind_words(summary, system)
+
+
+def body_wind_words(summary: dict, system: str) -> str:
+    """With the air over the roof on: the highest wind at the body's own height beside the free stream's;
+    off, a plain word that every height meets the free stream."""
+    if summary.get("air_over_roof") != "on":
+        return "; air over the roof off: every height meets the free stream"
+    body = max((r.get("body_wind_max_ms", 0.0) for r in summary["actions"] if r["assessed"]), default=0.0)
+    return (f"; at the body's centre of mass height, in the air over the roof: "
+            f"{display(body, 'wind', system, '.1f')}")
+
+
+def uniform_air_words(summary: dict) -> str | None:
+    """The verdict with the air over the roof off (the free stream at every height), when it is on: the
+    bound beside the profile's answer; None when the profile is off."""
+    bound = summary.get("uniform_air")
+    if not bound:
+        return None
+    words = (f"with the air over the roof off (the free stream at every height, the bound): "
+             f"{bound['verdict'].upper()}")
+    if bound["first_failure"]:
+        words += f", first failure {bound['first_failure']} at {bound['first_failure_s']:.2f} s"
+    if bound["verdict"] != summary["verdict"]:
+        words += (". The verdict above rests on the air over the roof, whose coefficients are roofbeat's own "
+                  "defaults or the scene's: check them before relying on the difference")
     return words
 
 

@@ -92,7 +92,25 @@ def make_playback(scene, variant=None) -> Playback:
     summary["arrivals"] = structure_arrivals(trajectory)
     summary["ducks"] = latest_duck_starts(scene) if variant is None else []
     summary["apparent_wind_whole_beat_ms"] = whole_beat_wind(trajectory)
+    summary["uniform_air"] = uniform_air_verdict(scene, variant)
     return Playback(trajectory, summary)
+
+
+def uniform_air_verdict(scene, variant=None) -> dict | None:
+    """With the air over the roof on: the same beat with the free stream at every height, the bound the
+    profile's coefficients (from memory, or fitted to one published band) relax; None when it is off."""
+    import dataclasses
+
+    from physics.simulation import simulate
+    from physics.verdict import summarise
+    if scene.air.roof_flow is None:
+        return None
+    uniform = dataclasses.replace(scene, air=dataclasses.replace(scene.air, roof_flow=None))
+    tr = simulate(uniform, variant)
+    s = summarise(uniform, tr.events, tr.outcomes)
+    first = s["first_failure"]
+    return {"verdict": s["verdict"], "first_failure": first["kind"] if first else None,
+            "first_failure_s": first["time_s"] if first else None}
 
 
 def whole_beat_wind(trajectory) -> float:

@@ -24,7 +24,7 @@ SCENES = sorted((REPO / "scenes").glob("*.toml"))
 
 def scene_text(speed="80 km/h", body="lumped", drag_area='"0.7 m^2"', mass="75 kg", stature="1.78 m",
                actions=None, roof="painted steel dry", wind="0 m/s", wind_from="0 deg", extra="",
-               motion=None, cars=None, start='car = 1\nposition = "10 m"', performer_extra="") -> str:
+               motion=None, cars=None, start='car = 1\nposition = "10 m"', performer_extra="", air_extra="") -> str:
     actions = actions or ['do = "stand"\nduration = "4 s"\ntransition = "0 s"']
     motion = motion or f'speed = "{speed}"'
     cars = cars or ['name = "car 1"\nlength = "20 m"\nroof_height = "4.0 m"']
@@ -42,6 +42,7 @@ roof = "{roof}"
 altitude = "0 m"
 wind_speed = "{wind}"
 wind_from = "{wind_from}"
+{air_extra}
 
 [performer]
 stature = "{stature}"

@@ -13,9 +13,12 @@ from physics import G, body
 from physics.beat import segment_axes
 from physics.engine import air_load, flight, overhead, roof, sliding, stance, turbulence
 from physics.engine.jit import plain_python
+from physics.engine.roof_air import Flow
 from physics.records import CAR, LINE, POSTURE, STRUCTURE, Contact
 
 STATURE = 1.78
+
+UNIFORM = Flow(False, 0.0, 0.0, 0.0, 0.0, 0.0, 1.0, 0.0, 1.0)   # the air over the roof off: uniform wind
 
 
 @pytest.fixture(autouse=True)
@@ -77,7 +80,7 @@ def test_air_load_matches_the_body_drag_area(name):
     posture = posture_of(name)
     drag = air_load.Drag(0.5 * rho * constants.crossflow_area, 0.5 * rho * constants.axial_area,
                          0.5 * rho * constants.side_area, False, 0.0, 0.0)
-    load = air_load.air_load(posture, 1.0, 0.0, -w, 0.0, 0.0, drag)
+    load = air_load.air_load(posture, 1.0, 0.0, -w, 0.0, 0.0, drag, UNIFORM)
     cda = body.drag_area(np.asarray(posture.ends)[None], constants)[0]
     assert load.fx == pytest.approx(-0.5 * rho * cda * w * w, rel=1e-12)
     assert load.fy == 0.0
@@ -86,7 +89,8 @@ def test_air_load_matches_the_body_drag_area(name):
 def test_lumped_air_load_is_one_drag_area_at_the_centre_of_mass():
     posture = posture_of("stand", com=(0.1, 1.0))
     q = 0.5 * 1.2 * 0.7
-    load = air_load.air_load(posture, 1.0, 0.0, -10.0, 3.0, 0.0, air_load.Drag(None, None, None, True, q, 0.6 * q))
+    load = air_load.air_load(posture, 1.0, 0.0, -10.0, 3.0, 0.0, air_load.Drag(None, None, None, True, q, 0.6 * q),
+                             UNIFORM)
     speed = math.hypot(10.0, 3.0)
     # Across the track the lumped body shows its side-on drag area (here 0.6 of the frontal).
     assert (load.fx, load.fy, load.fz) == pytest.approx((-q * speed * 10.0, 0.6 * q * speed * 3.0, 0.0))
@@ -97,8 +101,8 @@ def test_lumped_air_load_is_one_drag_area_at_the_centre_of_mass():
 
 def cars_table():
     cars = np.zeros(2, CAR).view(np.recarray)
-    cars[0] = (0.0, -20.0, 3.9, 2.8, 0.0, 0.6, 0.5, 0.4, 0.3)
-    cars[1] = (-21.0, -41.0, 4.1, 2.8, 0.0, 0.8, 0.6, 0.5, 0.4)
+    cars[0] = (0.0, -20.0, 3.9, 2.8, 0.0, 0.6, 0.5, 0.4, 0.3, 0.0, 1.0, 0.0, 0.0, 0.0)
+    cars[1] = (-21.0, -41.0, 4.1, 2.8, 0.0, 0.8, 0.6, 0.5, 0.4, 0.0, 1.0, 0.0, 0.0, 0.0)
     return cars
 
 

@@ -11,6 +11,7 @@ from physics.beat import segment_axes
 from physics.engine import flight
 from physics.engine.air_load import Drag
 from physics.engine.jit import plain_python
+from physics.engine.roof_air import Flow
 from physics.records import POSTURE, Event, Mode
 from physics.simulation import simulate
 from physics.verdict import summarise
@@ -18,6 +19,8 @@ from tests.conftest import make_scene
 
 DT = 1 / 240
 RHO = 1.225
+
+UNIFORM = Flow(False, 0.0, 0.0, 0.0, 0.0, 0.0, 1.0, 0.0, 1.0)   # the air over the roof off: uniform wind
 
 
 def posture_record(ends=None):
@@ -38,7 +41,7 @@ def fly(posture, drag, mass, vx0, vz0, seconds, dt=DT, V=0.0, wind=0.0):
         fl = flight.Flight(0.0, 0.0, vx0, vz0, 0, 0.0, 0.0, 0.0, 0.0, 0.0, False, math.nan, 0.0, 0.0, 0.0, 0)
         out[0] = fl.x, fl.z, fl.vx, fl.vz
         for k in range(n):
-            fl = flight.rk4(fl, posture, V, V, 0.0, 0.0, wind, 0.0, drag, mass, dt)
+            fl = flight.rk4(fl, posture, V, V, 0.0, 0.0, wind, 0.0, drag, mass, dt, UNIFORM)
             out[k + 1] = fl.x, fl.z, fl.vx, fl.vz
     return out
 

@@ -4,7 +4,7 @@ from __future__ import annotations
 
 import math
 
-from physics.engine.air_load import air_load, rotate
+from physics.engine.air_load import air_load, at_height, rotate
 from physics.engine.beat_state import Beat, State, failed, travel, with_mode
 from physics.engine.flight import (Flight, beside, crossing, inside_margin, kept_out_of_cars, land, on_the_ground,
                                    rk4, take_off, touchdown_car)
@@ -14,6 +14,7 @@ from physics.engine.outcome import note_air, note_event, note_landing_margin, no
 from physics.engine.overhead import anything_overhead, overhead_step
 from physics.engine.recording import record_flight
 from physics.engine.roof import car_at
+from physics.engine.roof_air import raised, roof_flow, uniform_flow
 from physics.engine.sliding import Slide
 from physics.engine.stance import Balance, after_landing
 from physics.records import Event, Mode
@@ -30,19 +31,23 @@ def flight_iteration(v, inputs, env, state, act, out):
     if anything_overhead(inputs):
         cx, cz = rotate(posture.com_x, posture.com_z, math.cos(fl.lean), math.sin(fl.lean))
         beat = overhead_step(v, inputs, env, beat, posture, fl.lean, fl.x - cx, fl.z - cz, act, out)
+    flow = flight_flow(v, inputs, env, fl, posture)
     if beat.assessing and beat.mode == Mode.FLIGHT:
         # The air met in the air counts in the action's maxima, as on the roof.
         app_x = env.wind_x - (env.speed + fl.vx)
         app_y = env.wind_y - fl.vy
-        air = air_load(posture, math.cos(fl.lean), math.sin(fl.lean), app_x, app_y, -fl.vz, v.drag)
+        c, s = math.cos(fl.lean), math.sin(fl.lean)
+        air = air_load(posture, c, s, app_x, app_y, -fl.vz, v.drag, flow)
+        unused, cz = rotate(posture.com_x, posture.com_z, c, s)
+        bx, by = at_height(flow, app_x, app_y, cz)
         note_air(out.outcomes[v.b, act], math.sqrt(app_x * app_x + app_y * app_y),
-                 math.sqrt(air.fx * air.fx + air.fy * air.fy + air.fz * air.fz))
+                 math.sqrt(air.fx * air.fx + air.fy * air.fy + air.fz * air.fz), math.sqrt(bx * bx + by * by))
     if out.recording:
-        record_flight(out.record[env.k], env, fl, posture, v.drag, beat.mode)
+        record_flight(out.record[env.k], env, fl, posture, v.drag, beat.mode, flow)
     if beat.mode == Mode.GONE or env.last:
         return State(beat, state.slide, state.balance, fl, state.frontal)
     new = rk4(fl, posture, env.speed, env.next_speed, env.accel, env.body.ground_y, env.wind_x, env.wind_y, v.drag, v.mass,
-              v.dt)
+              v.dt, flow)
     car, cross = touchdown_car(inputs.cars, fl, new, not beat.assessing)
     if car >= 0:
         return touch_down(v, inputs, env, State(beat, state.slide, state.balance, fl, state.frontal), car, cross, act,
@@ -55,6 +60,20 @@ def flight_iteration(v, inputs, env, state, act, out):
         new = on_the_ground(new, inputs.postures[lying_row], lying_row, new.x + travel(env, v.dt))
         beat = with_mode(beat, Mode.GONE)
     return State(beat, state.slide, state.balance, new, state.frontal)
+
+
+@kernel
+def flight_flow(v, inputs, env, fl, posture):
+    """The air over the roof under a body in the air, as it is at the step's start: that of the roof
+    below its centre of mass, read from the height of its posture's pivot above it; uniform beside the
+    cars, over a gap or once fallen."""
+    cars = inputs.cars
+    car = car_at(cars, fl.x)
+    if fl.fallen or car < 0:
+        return uniform_flow()
+    unused, cz = rotate(posture.com_x, posture.com_z, math.cos(fl.lean), math.sin(fl.lean))
+    flow = roof_flow(inputs.airflow[0], cars, car, fl.x, fl.y, env.wind_x - env.speed, env.wind_y, v.params.density)
+    return raised(flow, fl.z - cz - roof_z_at(cars[car], fl.y))
 
 
 @small

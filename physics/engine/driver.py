@@ -22,6 +22,7 @@ from physics.engine.frontal import level
 from physics.engine.jit import entry, kernel, small
 from physics.engine.on_roof import roof_iteration
 from physics.engine.recording import record_flight
+from physics.engine.roof_air import uniform_flow
 from physics.engine.sliding import Slide
 from physics.engine.stance import restart, upright
 from physics.engine.turbulence import advance_turbulence, start_turbulence
@@ -123,7 +124,8 @@ def run_variants(params, roof_scale, inputs, first, last, events, outcomes, reco
             beat = state.beat
             if beat.mode == Mode.GONE:
                 if out.recording:
-                    record_flight(record[k], env, state.flight, inputs.postures[state.flight.row], v.drag, beat.mode)
+                    record_flight(record[k], env, state.flight, inputs.postures[state.flight.row], v.drag, beat.mode,
+                                  uniform_flow())
                 continue
             if beat.mode != Mode.FLIGHT:
                 state = roof_iteration(v, inputs, env, state, plan, act, out)

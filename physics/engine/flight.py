@@ -50,24 +50,26 @@ Landing = namedtuple("Landing", "car pivot speed absorb hard")
 
 
 @kernel
-def flight_accel(posture, lean, vx, vy, vz, speed, accel, accel_y, wind_x, wind_y, drag, mass):
-    """Acceleration (car frame, m/s^2) of a rigid posture: drag relative to the air, gravity, pseudo-forces."""
-    air = air_load(posture, math.cos(lean), math.sin(lean), wind_x - (speed + vx), wind_y - vy, -vz, drag)
+def flight_accel(posture, lean, vx, vy, vz, speed, accel, accel_y, wind_x, wind_y, drag, mass, flow):
+    """Acceleration (car frame, m/s^2) of a rigid posture: drag relative to the air (over the roof, `flow`),
+    gravity, pseudo-forces."""
+    air = air_load(posture, math.cos(lean), math.sin(lean), wind_x - (speed + vx), wind_y - vy, -vz, drag, flow)
     return air.fx / mass - accel, air.fy / mass - accel_y, air.fz / mass - G
 
 
 @kernel
-def rk4(fl, posture, speed0, speed1, accel, accel_y, wind_x, wind_y, drag, mass, dt):
-    """One classical Runge-Kutta step of the centre of mass from consist speed speed0 to speed1."""
+def rk4(fl, posture, speed0, speed1, accel, accel_y, wind_x, wind_y, drag, mass, dt, flow):
+    """One classical Runge-Kutta step of the centre of mass from consist speed speed0 to speed1, in the air
+    over the roof as it is at the step's start (`flow`)."""
     mid = 0.5 * (speed0 + speed1)
     k1x, k1y, k1z = flight_accel(posture, fl.lean, fl.vx, fl.vy, fl.vz, speed0, accel, accel_y, wind_x, wind_y, drag,
-                                 mass)
+                                 mass, flow)
     k2x, k2y, k2z = flight_accel(posture, fl.lean, fl.vx + 0.5 * dt * k1x, fl.vy + 0.5 * dt * k1y,
-                                 fl.vz + 0.5 * dt * k1z, mid, accel, accel_y, wind_x, wind_y, drag, mass)
+                                 fl.vz + 0.5 * dt * k1z, mid, accel, accel_y, wind_x, wind_y, drag, mass, flow)
     k3x, k3y, k3z = flight_accel(posture, fl.lean, fl.vx + 0.5 * dt * k2x, fl.vy + 0.5 * dt * k2y,
-                                 fl.vz + 0.5 * dt * k2z, mid, accel, accel_y, wind_x, wind_y, drag, mass)
+                                 fl.vz + 0.5 * dt * k2z, mid, accel, accel_y, wind_x, wind_y, drag, mass, flow)
     k4x, k4y, k4z = flight_accel(posture, fl.lean, fl.vx + dt * k3x, fl.vy + dt * k3y, fl.vz + dt * k3z, speed1,
-                                 accel, accel_y, wind_x, wind_y, drag, mass)
+                                 accel, accel_y, wind_x, wind_y, drag, mass, flow)
     x = fl.x + dt * (fl.vx + dt / 6.0 * (k1x + k2x + k3x))
     y = fl.y + dt * (fl.vy + dt / 6.0 * (k1y + k2y + k3y))
     z = fl.z + dt * (fl.vz + dt / 6.0 * (k1z + k2z + k3z))

@@ -9,7 +9,7 @@ import math
 from collections import namedtuple
 
 from physics import G
-from physics.engine.air_load import rotate
+from physics.engine.air_load import at_height, rotate
 from physics.engine.beat_state import Beat, State, failed, lifted, travel, with_mode
 from physics.engine.flight import over_the_side, take_off
 from physics.engine.frontal import frontal_load, frontal_step, held, level, roof_slope, roof_z_at, slope_cos_sin
@@ -18,6 +18,7 @@ from physics.engine.outcome import note_event, note_side, note_stance, note_take
 from physics.engine.overhead import anything_overhead, overhead_step
 from physics.engine.recording import record_roof
 from physics.engine.roof import car_at, roof_friction
+from physics.engine.roof_air import roof_flow
 from physics.engine.sliding import Slide, gait_force, grip_demand, slide_direction, slide_step
 from physics.engine.stance import (LIE_ANGLE, balance_step, carry_on, delayed_cop, equilibrium_cop, judge_support,
                                    laid, lie_down, restart, settle, stepped, with_lean)
@@ -36,7 +37,7 @@ Footing = namedtuple("Footing", "row contact car roof_z gait_v lo hi mu_static m
 
 # What the step found at t_k, for the record.
 Seen = namedtuple("Seen", "mode row x roof_z lean rate u wx air normal grip mu_static xcom lo hi margin "
-                          "lean_required y w across ft")
+                          "lean_required y w across ft wy flow com_z")
 
 
 @small
@@ -78,6 +79,8 @@ def roof_iteration(v, inputs, env, state, plan, act, out):
     wx = env.wind_x - (env.speed + slide.u + ft.gait_v)
     wy = env.wind_y - (slide.w + ft.gait_vy)
     bal = state.balance
+    flow = roof_flow(inputs.airflow[0], inputs.cars, ft.car, slide.x, slide.y, env.wind_x - env.speed, env.wind_y,
+                     v.params.density)
     # During a deliberate change of posture the performer knows where their own
     # body is: the braced load follows the posture, so the balance resumes from
     # the posture reached and not from one the anticipation is still catching up with.
@@ -86,7 +89,8 @@ def roof_iteration(v, inputs, env, state, plan, act, out):
     restart_now = bal.restart
     g = G + env.body.felt_z
     bal, load, target = settle(bal, posture, wx, wy, v.mass, env.accel + slide.udot, v.drag,
-                               v.params.max_lean, v.dt, ft.contact != Contact.BODY and beat.mode != Mode.DOWN, g)
+                               v.params.max_lean, v.dt, ft.contact != Contact.BODY and beat.mode != Mode.DOWN, g,
+                               flow)
     if restart_now:
         v.buf_err[:] = 0.0
         v.buf_rate[:] = 0.0
@@ -113,15 +117,17 @@ def roof_iteration(v, inputs, env, state, plan, act, out):
     lean_required = 0.0 if plan.settling else target.required
     air = load.air
     if was_assessing and beat.mode != Mode.DOWN and not bal.lying:
+        bx, by = at_height(flow, wx, wy, load.com_z)
         note_stance(out.outcomes[v.b, act], ft.mu_static, grip.demand, margin, across.margin, ft.edge,
                     grip.static_normal / v.weight, lean_required, across.required_tan, math.sqrt(wx * wx + wy * wy),
-                    math.sqrt(air.fx * air.fx + air.fy * air.fy + air.fz * air.fz), abs(env.body.felt_y), ft.contact)
+                    math.sqrt(air.fx * air.fx + air.fy * air.fy + air.fz * air.fz), abs(env.body.felt_y), ft.contact,
+                    math.sqrt(bx * bx + by * by))
     if anything_overhead(inputs):
         beat = overhead_step(v, inputs, env, beat, posture, lean_k, slide.x, ft.roof_z, act, out)
     if out.recording:
         record_roof(out.record[env.k], env, Seen(beat.mode, row, slide.x, ft.roof_z, lean_k, rate_k, slide.u, wx, air,
                                                  load.normal, grip, ft.mu_static, xcom, ft.lo, ft.hi, margin,
-                                                 lean_required, slide.y, slide.w, across, ft))
+                                                 lean_required, slide.y, slide.w, across, ft, wy, flow, load.com_z))
     if beat.mode == Mode.GONE:
         # Struck: the pose at the strike stays where it was.
         return State(beat, moved, bal, take_off(posture, row, lean_k, slide.x, ft.roof_z, 0.0, 0.0, slide.y, 0.0,

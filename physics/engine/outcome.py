@@ -39,7 +39,7 @@ def note_side(events, b, kind, t, side):
 
 @small
 def note_stance(out, mu_static, demand, margin, margin_y, edge, lift_ratio, lean_required, roll_tan, wind, drag,
-                accel_y, contact):
+                accel_y, contact, body_wind):
     """Margins of a step on the roof into the action's outcome record `out`. The balance margin is the
     smaller of the margins along and across the track; the one across is kept on its own too. The lean
     needed is the tilt from the vertical of the leans along (rad) and across (its tangent) together."""
@@ -64,14 +64,15 @@ def note_stance(out, mu_static, demand, margin, margin_y, edge, lift_ratio, lean
                 tilt = math.atan(math.sqrt(math.tan(lean_required) ** 2 + roll_tan * roll_tan))
             out.lean_max = max(out.lean_max, tilt)
     out.lift_ratio_min = min(out.lift_ratio_min, lift_ratio)
-    out.apparent_wind_max = max(out.apparent_wind_max, wind)
-    out.drag_max = max(out.drag_max, drag)
+    note_air(out, wind, drag, body_wind)
 
 
 @small
-def note_air(out, wind, drag):
-    """The apparent wind (m/s, horizontal) and the air load (N) met in the air into the action's outcome."""
+def note_air(out, wind, drag, body_wind):
+    """The apparent wind (m/s, horizontal: the free stream's and at the centre of mass's height) and the
+    air load (N) met into the action's outcome."""
     out.apparent_wind_max = max(out.apparent_wind_max, wind)
+    out.body_wind_max = max(out.body_wind_max, body_wind)
     out.drag_max = max(out.drag_max, drag)
 
 

@@ -4,7 +4,7 @@ from __future__ import annotations
 
 import math
 
-from physics.engine.air_load import air_load
+from physics.engine.air_load import air_load, at_height, rotate
 from physics.engine.jit import kernel, small
 from physics.records import Mode
 
@@ -23,6 +23,17 @@ def record_common(r, env, mode, row, lean):
     r.curvature = env.body.curvature
     r.cant_tilt = env.body.tilt
     r.body_roll = env.body.roll
+
+
+@small
+def record_flow(r, flow, wx, wy, com_z):
+    """The air over the roof under the body and the apparent wind at its centre of mass's height."""
+    bx, by = at_height(flow, wx, wy, com_z)
+    r.body_wind = math.sqrt(bx * bx + by * by)
+    r.flow_delta = flow.delta if flow.on else math.nan
+    r.flow_gain = flow.gain
+    r.flow_zone = flow.zone_height
+    r.flow_base = flow.base
 
 
 @small
@@ -54,7 +65,7 @@ def record_no_contact(r):
 
 
 @kernel
-def record_flight(r, env, fl, posture, drag, mode):
+def record_flight(r, env, fl, posture, drag, mode, flow):
     """The body in the air (or out of the run, mode GONE) at t_k; in the air with its air load.
 
     A body lying on the ground stays at its ground-frame place: the consist moves on past it.
@@ -74,8 +85,12 @@ def record_flight(r, env, fl, posture, drag, mode):
         app_x = env.wind_x - (env.speed + fl.vx)
         app_y = env.wind_y - fl.vy
         app_z = -fl.vz
-        air = air_load(posture, math.cos(fl.lean), math.sin(fl.lean), app_x, app_y, app_z, drag)
+        air = air_load(posture, math.cos(fl.lean), math.sin(fl.lean), app_x, app_y, app_z, drag, flow)
         fx, fy, fz = air.fx, air.fy, air.fz
+        unused, cz = rotate(posture.com_x, posture.com_z, math.cos(fl.lean), math.sin(fl.lean))
+        record_flow(r, flow, app_x, app_y, cz)
+    else:
+        record_flow(r, flow, nan, nan, 0.0)
     r.app_x = app_x
     r.app_y = app_y
     r.app_z = app_z
@@ -111,6 +126,7 @@ def record_roof(r, env, seen):
     r.roof_slope = math.atan(seen.ft.slope)
     r.app_x = seen.wx
     r.app_y = env.wind_y - seen.w
+    record_flow(r, seen.flow, seen.wx, seen.wy, seen.com_z)
     r.app_z = 0.0
     r.aero_x = seen.air.fx
     r.aero_y = seen.air.fy

@@ -114,8 +114,9 @@ def solve_lean(alpha, beta, target):
 
 
 @kernel
-def planted_load(posture, bal, wx, wy, mass, frame_accel, drag, g):
-    """Loads on `posture` leaned by bal.lean in the apparent wind (wx, wy) (m/s).
+def planted_load(posture, bal, wx, wy, mass, frame_accel, drag, g, flow):
+    """Loads on `posture` leaned by bal.lean in the apparent wind (wx, wy) (m/s) of the air over the roof
+    `flow`.
 
     frame_accel: the acceleration of the contact's frame along the track (the
     consist's plus the slide's), m/s^2, which gives the pseudo-force; g: gravity
@@ -123,7 +124,7 @@ def planted_load(posture, bal, wx, wy, mass, frame_accel, drag, g):
     """
     c = math.cos(bal.lean)
     s = math.sin(bal.lean)
-    air = air_load(posture, c, s, wx, wy, 0.0, drag)
+    air = air_load(posture, c, s, wx, wy, 0.0, drag, flow)
     cx, cz = rotate(posture.com_x, posture.com_z, c, s)
     weight = mass * g
     pseudo = -mass * frame_accel
@@ -200,7 +201,7 @@ def carry_on(bal):
 
 
 @kernel
-def settle(bal, posture, wx, wy, mass, frame_accel, drag, max_lean, dt, leans, g):
+def settle(bal, posture, wx, wy, mass, frame_accel, drag, max_lean, dt, leans, g, flow):
     """Brace and aim for this step: (balance, load, target).
 
     On a restart a performer who `leans` takes the braced lean at once; the load
@@ -208,13 +209,13 @@ def settle(bal, posture, wx, wy, mass, frame_accel, drag, max_lean, dt, leans, g
     step's forces are those of the body as it stands, not of an upright one.
     """
     weight = mass * g
-    load = planted_load(posture, bal, wx, wy, mass, frame_accel, drag, g)
+    load = planted_load(posture, bal, wx, wy, mass, frame_accel, drag, g, flow)
     bal = brace(bal, load, dt)
     target = lean_target(bal, posture, weight, max_lean)
     if bal.restart and leans:
         for _ in range(SETTLE_PASSES):
             bal = with_lean(bal, target.lean, bal.rate, bal.accel)
-            load = planted_load(posture, bal, wx, wy, mass, frame_accel, drag, g)
+            load = planted_load(posture, bal, wx, wy, mass, frame_accel, drag, g, flow)
             bal = brace(bal, load, dt)
             target = lean_target(bal, posture, weight, max_lean)
     return bal, load, target

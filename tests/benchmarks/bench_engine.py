@@ -130,6 +130,23 @@ def bench_batch(n=20_000):
     return t / n
 
 
+def bench_batch_roof_air(n=20_000):
+    """The same batch with the air over the roof on, side by side with it off (this run): the profile's
+    cost per step (a power per segment)."""
+    rates = {}
+    for name, extra in (("off", ""), ("on", 'roof_profile = "on"')):
+        s = parse_scene(scene_text(speed="60 km/h", body="segmented", actions=TWENTY_SECONDS, wind="4 m/s",
+                                   air_extra=extra, cars=['name = "wagon"\nlength = "20 m"\nroof_height = "4 m"\ngap = "1 m"'] * 3,
+                                   start='car = 3\nposition = "10 m"'), "<bench>")
+        v = variants(s, n)
+        v.params["speed_scale"] = np.linspace(0.5, 1.5, n)
+        simulate_batch(s, v.row(0))
+        t = best_of(lambda: simulate_batch(s, v), repeats=2)
+        rates[name] = n * (int(round(s.duration / s.step)) + 1) / t / _threads()
+    print(f"batch with the air over the roof on: {rates['on'] / 1e6:.2f} M performer-steps/s per core, "
+          f"off {rates['off'] / 1e6:.2f}: on/off = {rates['on'] / rates['off']:.2f}")
+
+
 def lean_rhs(mass, height, inertia, drag, lo, hi, kp, kd, theta_ref):
     weight = mass * G
 
@@ -163,4 +180,5 @@ if __name__ == "__main__":
     bench_warm_check()
     bench_single()
     per_variant = bench_batch()
+    bench_batch_roof_air()
     bench_peer(per_variant)
