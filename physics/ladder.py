@@ -17,6 +17,7 @@ import math
 import numpy as np
 
 from physics.air import wind_vector
+from physics.roof_air import without_roof_air
 from physics.scene import Scene
 from physics.scene_load import LIMITS
 from physics.sweep import SweepError, _run, base_value, limits, sweep_1d
@@ -87,6 +88,11 @@ def abort_limits(scene: Scene) -> dict:
                                  "all_below": lim.all_below, "failure_beyond": lim.failure_beyond}
                                 for lim in (factored, at_all)]}
     out["wind_from_deg"] = math.degrees(scene.air.wind_from)
+    if scene.air.roof_flow is not None:
+        # The air over the roof's coefficients are soft: the same limits with the free stream at every
+        # height (the bound) stand beside them.
+        bound = abort_limits(without_roof_air(scene))
+        out["uniform_air"] = {name: bound[name]["holds_with_factors"] for name in ("speed", "wind_speed")}
     return out
 
 

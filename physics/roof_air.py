@@ -142,6 +142,13 @@ def airflow_row(flow: RoofFlow | None, air) -> np.ndarray:
     return row
 
 
+def without_roof_air(scene):
+    """The same scene with the air over the roof off: the free stream at every height, the bound the
+    profile's soft coefficients relax."""
+    import dataclasses
+    return dataclasses.replace(scene, air=dataclasses.replace(scene.air, roof_flow=None))
+
+
 def _car_index(cars, x):
     for i, car in enumerate(cars):
         if car.rear_x <= x <= car.front_x:

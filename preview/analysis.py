@@ -135,6 +135,9 @@ def envelope_text(scene, summary: dict) -> str:
                      f": {t['below']} below, {t['above']} above; first failure beyond: {t['failure_beyond'] or '-'}")
     for limit in summary["limits"]:
         lines.append(limit_words(name, limit, summary["range"], system, summary["limits"]))
+    bound = uniform_air_limit(summary, name, system)
+    if bound:
+        lines.append(bound)
     lines += ["", "CAUTION: " + CAUTION]
     return "\n".join(lines)
 
@@ -156,6 +159,12 @@ def cmd_envelope(args) -> int:
     except SweepError as exc:
         raise UsageError(f"--vary {exc}") from None
     summary = envelope_summary(scene, sweep)
+    if scene.air.roof_flow is not None:
+        # The air over the roof's coefficients are soft: the limit with the free stream at every height beside it.
+        from physics.roof_air import without_roof_air
+        from physics.sweep import limits
+        bound = limits(sweep_1d(without_roof_air(scene), *varies[0], points=args.points))[0]
+        summary["uniform_air"] = {summary["parameter"]: bound.value}
     print(json.dumps(summary, indent=2) if args.json else envelope_text(scene, summary))
     if args.plot:
         from preview.plots import envelope_plot
@@ -294,12 +303,25 @@ def ladder_text(scene, ladder: dict) -> str:
         lines.append(f"  {head.upper()} (swept {span}, {lim['points']} points):")
         for limit in lim["limits"]:
             lines.append("    " + limit_words(name, limit, lim["range"], system, lim["limits"]))
+        bound = uniform_air_limit(ladder["abort_limits"], name, system)
+        if bound:
+            lines.append("    " + bound)
     machine = ladder["wind_machine"]
     lines += ["", f"wind machine for a rehearsal on a stationary vehicle: "
                   f"{show(machine['air_speed_ms'], 'wind', system, '.1f')} from {machine['from_deg']:.0f}° "
                   f"(0 = from ahead, + from the left) gives the planned speed's apparent wind; "
                   f"{machine['note']}", "", "CAUTION: " + CAUTION]
     return "\n".join(lines)
+
+
+def uniform_air_limit(limits: dict, name: str, system: str) -> str | None:
+    """With the air over the roof on: the limit with the free stream at every height (the bound)."""
+    bound = limits.get("uniform_air")
+    if bound is None:
+        return None
+    value = bound[name]
+    held = "none holds" if value is None else f"holds up to {display(name, value, system)}"
+    return f"with the air over the roof off (the free stream at every height, the bound): {held} with the required factors"
 
 
 def cmd_ladder(args) -> int:

@@ -48,9 +48,9 @@ CHECKLIST = [
 ]
 INK, SOFT, RULE = "#2b3138", "#5f656c", "#c9c6bf"
 FAIL_INK = "#d1495b"   # palette.FAILURE
-NOT_MODELLED = ("Not modelled: the air's slow-down over the roof; limbs posed sideways (the figure is one plane); "
-                "the ground beside the track (taken level at rail height); rigging; injury. See physics/README.md, "
-                "\"Not modelled\".")
+NOT_MODELLED = ("Not modelled: limbs posed sideways (the figure is one plane); the ground beside the track (taken "
+                "level at rail height); rigging; injury. See physics/README.md, \"Not modelled\".")
+KEY_LINES = 3     # lines a key number may take on page one
 BODY = 8.0        # pt, the pages' body text
 ROW = 0.17        # in, a table row
 
@@ -72,10 +72,18 @@ def key_numbers(scene) -> list[tuple[str, str]]:
     system = scene.units
     length = lambda v: display(v, "length", system)  # noqa: E731
     speed = lambda v: display(v, "speed", system, ".0f")  # noqa: E731
-    cars = "; ".join(f"{c.name}{' (' + c.kind + ')' if c.road else ''} {length(c.length)}, "
+    runs = []   # consecutive cars alike in all but their names, told once
+    for c in scene.cars:
+        alike = (c.kind, c.length, c.roof_height, c.width, c.crown, c.surface, c.sole_static)
+        if runs and runs[-1][0] == alike:
+            runs[-1][1].append(c)
+        else:
+            runs.append((alike, [c]))
+    cars = "; ".join(f"{run[0].name}{' to ' + run[-1].name + f' ({len(run)} alike)' if len(run) > 1 else ''}"
+                     f"{' (' + c.kind + ')' if c.road else ''} {length(c.length)}, "
                      f"{'deck' if c.road else 'roof'} {length(c.roof_height)} high, {length(c.width)} wide"
                      f"{', crown ' + length(c.crown) if c.crown else ', flat'}, {c.surface} "
-                     f"(static {c.sole_static:.2f})" for c in scene.cars)
+                     f"(static {c.sole_static:.2f})" for _, run in runs for c in run[:1])
     if scene.speed_log is not None:
         log = scene.speed_log
         profile = (f"measured log {Path(log.file).name}: {speed(float(log.speed[0]))} at the start, top "
@@ -330,8 +338,13 @@ def _page_one(page: Page, scene, content, sweep, sweep_summary):
     for name, value in key_numbers(scene):
         page.text(MARGIN_IN, name, BODY, "bold")
         lines = fitted_lines(value, BODY, page.w - 2 * MARGIN_IN - 1.0)
-        page.text(MARGIN_IN + 1.0, "\n".join(lines[:2]), BODY, linespacing=1.25)
-        page.y -= ROW * len(lines[:2]) + 0.01
+        if len(lines) > KEY_LINES:
+            lines = lines[:KEY_LINES - 1] + fitted_lines(" ".join(lines[KEY_LINES - 1:]) + " (the whole in the "
+                                                         "brief's JSON and the scene file)", BODY,
+                                                         page.w - 2 * MARGIN_IN - 1.0)[:1]
+            lines[-1] = lines[-1].rstrip(" ,;") + " ..."
+        page.text(MARGIN_IN + 1.0, "\n".join(lines), BODY, linespacing=1.25)
+        page.y -= ROW * len(lines) + 0.01
     page.rule()
     _actions_table(page, scene, content)
     page.rule()
@@ -357,10 +370,14 @@ def _page_one(page: Page, scene, content, sweep, sweep_summary):
         page.para(storm, BODY, "bold", color=FAIL_INK)
     env = content["envelope"]
     if env:
-        from preview.analysis import limit_words
+        from preview.analysis import limit_words, uniform_air_limit
         for limit in env["limits"]:
             page.para("Top speed: " + limit_words("speed", limit, env["range"], system, env["limits"]) + ".",
                       BODY + 0.5, "bold" if limit is env["limits"][0] else "normal")
+        ladder = content.get("ladder")
+        bound = ladder and uniform_air_limit(ladder["abort_limits"], "speed", system)
+        if bound:
+            page.para("Top speed " + bound + ".", BODY + 0.5, "bold")
         if any(a.kind in ("duck", "prone") for a in scene.actions) and scene.structures:
             page.para("A duck timed on the clock meets a structure later at a lower speed: the speeds above "
                       "assume the duck is cued by time; cue it by the structure's approach on the day.")
@@ -379,7 +396,9 @@ def _page_one(page: Page, scene, content, sweep, sweep_summary):
         page.para("Facts of the beat: " + "; ".join(f"{e['kind']} at {e['time_s']:.2f} s"
                                                    + (f" ({e['detail']})" if e["kind"] == "recovery step" else "")
                                                    for e in facts) + ".")
-    page.para(NOT_MODELLED, color=SOFT)
+    off = "" if scene.air.roof_flow is not None else ("the air over the roof (off in this scene: the free stream "
+                                                      "at every height, the bound); ")
+    page.para(NOT_MODELLED.replace("Not modelled: ", "Not modelled: " + off), color=SOFT)
     if scene_has_spreads(scene):
         page.para("This scene states uncertainties (+/-): the verdict above is the central run; "
                   "`roofbeat risk` gives the share of runs that fail.", color=SOFT)
@@ -502,7 +521,7 @@ def _page_ladder(page: Page, scene, content, ladder) -> None:
     from physics.units import display as show
     from physics.verdict import FACTORS
     from preview.analysis import display as value_words
-    from preview.analysis import limit_words
+    from preview.analysis import limit_words, uniform_air_limit
     from preview.report import factor_value
     system = scene.units
     _header(page, scene, content, "rehearsal ladder and abort limits")
@@ -521,6 +540,9 @@ def _page_ladder(page: Page, scene, content, ladder) -> None:
             if factored["bound"]:
                 big += " or more (the end of the sweep)"
         page.para(big, 13, "bold")
+        bound = uniform_air_limit(limits, name, system)
+        if bound:
+            page.para(bound[0].upper() + bound[1:] + ".", 11, "bold")
         for limit in limits[name]["limits"]:
             page.para(limit_words(name, limit, limits[name]["range"], system, limits[name]["limits"]) + ".",
                       BODY, color=SOFT)

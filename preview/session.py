@@ -99,13 +99,12 @@ def make_playback(scene, variant=None) -> Playback:
 def uniform_air_verdict(scene, variant=None) -> dict | None:
     """With the air over the roof on: the same beat with the free stream at every height, the bound the
     profile's coefficients (from memory, or fitted to one published band) relax; None when it is off."""
-    import dataclasses
-
+    from physics.roof_air import without_roof_air
     from physics.simulation import simulate
     from physics.verdict import summarise
     if scene.air.roof_flow is None:
         return None
-    uniform = dataclasses.replace(scene, air=dataclasses.replace(scene.air, roof_flow=None))
+    uniform = without_roof_air(scene)
     tr = simulate(uniform, variant)
     s = summarise(uniform, tr.events, tr.outcomes)
     first = s["first_failure"]

@@ -3,6 +3,8 @@ zones at the lead front and at steps up, and the engine's use of them per segmen
 
 from __future__ import annotations
 
+import json
+
 import fluids
 import numpy as np
 import pytest
@@ -180,3 +182,43 @@ def test_bad_roof_air_keys_are_named(air_extra, flow, key, words):
         flow_scene(air_extra=air_extra, flow=flow)
     text = str(err.value)
     assert key in text and words in text, text
+
+
+BUNDLED = "scenes/rear_car_prone.toml"
+
+
+def test_every_headline_gives_the_free_stream_bound_beside_the_profile(capsys):
+    # The bundled rear-car scene holds with the air over the roof and is only marginal with the free
+    # stream at every height: check, the ladder and the envelope say both.
+    from preview.cli import main
+    from preview.session import make_playback
+    from physics.scene_load import load_scene
+
+    assert main(["check", BUNDLED, "--json"]) == 0
+    report = json.loads(capsys.readouterr().out)
+    assert report["air_over_roof"] == "on" and report["verdict"] == "holds"
+    assert report["uniform_air"]["verdict"] == "marginal"
+    bound = make_playback(load_scene(BUNDLED, []), None).summary["uniform_air"]
+    assert bound == report["uniform_air"]
+    row = report["actions"][-1]
+    assert row["body_wind_max_ms"] < 0.85 * row["apparent_wind_max_ms"]
+    main(["check", BUNDLED])
+    text = capsys.readouterr().out
+    assert "with the air over the roof off (the free stream at every height, the bound): MARGINAL" in text
+    assert "at the body's centre of mass height, in the air over the roof" in text
+
+    assert main(["ladder", BUNDLED, "--json"]) == 0
+    limits = json.loads(capsys.readouterr().out)["abort_limits"]
+    profiled, uniform = limits["speed"]["holds_with_factors"], limits["uniform_air"]["speed"]
+    assert uniform < 25.0 < profiled    # the planned 90 km/h lies between them
+    assert main(["envelope", BUNDLED, "--vary", "speed=5..225 km/h", "--points", "41", "--json"]) == 0
+    envelope = json.loads(capsys.readouterr().out)
+    assert envelope["uniform_air"]["speed"] == pytest.approx(uniform, rel=1e-9)
+
+
+def test_with_the_profile_off_the_outputs_say_every_height_meets_the_free_stream(capsys):
+    from preview.cli import main
+    main(["check", "scenes/heritage_excursion.toml"])
+    text = capsys.readouterr().out
+    assert "air over the roof off: every height meets the free stream" in text
+    assert "the bound):" not in text
