@@ -364,12 +364,13 @@ def run_kernel(v: Variants, inputs: Inputs, events, outcomes, record, chunks: in
             driver.run_variants(*args)
         return
     if chunks <= 1 or count < 2:
-        driver.run_variants(params, roof_scale, inputs, 0, count, events, outcomes, record, scratch())
+        jit.even_unsaved(driver.run_variants, params, roof_scale, inputs, 0, count, events, outcomes, record,
+                         scratch())
         return
     bounds = np.linspace(0, count, min(chunks, count) + 1).astype(int)
     with ThreadPoolExecutor(max_workers=_threads()) as pool:
-        jobs = [pool.submit(driver.run_variants, params, roof_scale, inputs, int(a), int(b), events, outcomes, record,
-                            scratch()) for a, b in zip(bounds[:-1], bounds[1:]) if b > a]
+        jobs = [pool.submit(jit.even_unsaved, driver.run_variants, params, roof_scale, inputs, int(a), int(b), events,
+                            outcomes, record, scratch()) for a, b in zip(bounds[:-1], bounds[1:]) if b > a]
         for job in jobs:
             job.result()
 

@@ -135,3 +135,20 @@ def test_a_streamed_gif_plays_every_frame_at_its_rate(tmp_path):
     for k in range(gif.n_frames):
         gif.seek(k)
         assert gif.info["duration"] == 100
+
+
+def test_a_full_disk_on_a_first_run_is_still_an_output_error(tmp_path):
+    # A fresh compile whose cache cannot be saved (the same file-size limit) runs from memory; the
+    # export then fails as an output error, not an internal one.
+    cache = tmp_path / "cache"
+    out = tmp_path / "out"
+    out.mkdir()
+    env = dict(os.environ, SDL_VIDEODRIVER="dummy", ROOFBEAT_CACHE_DIR=str(cache))
+
+    def limit():
+        resource.setrlimit(resource.RLIMIT_FSIZE, (8_000, 8_000))
+    result = subprocess.run([sys.executable, "-m", "preview.cli", "render", SCENE, "-o", str(out / "clip.gif"),
+                             *SHORT], capture_output=True, text=True, cwd=REPO, env=env, preexec_fn=limit, timeout=600)
+    assert result.returncode == 4, result.stderr
+    assert "could not save the compiled engine" in result.stderr and "internal error" not in result.stderr
+    assert sorted(p.name for p in out.iterdir()) == []

@@ -159,6 +159,22 @@ def _jit(fn, inline: str, forceinline: bool = True):
                        **_OPTIONS)(fn)
 
 
+def even_unsaved(dispatcher, *args):
+    """Call the compiled entry point; when its fresh compile cannot be saved in the cache folder (a full
+    disk, a file-size limit), run it from memory instead of failing. numba adds the compiled kernel
+    before it saves it, so the second call runs it."""
+    try:
+        return dispatcher(*args)
+    except OSError as exc:
+        if _numba is None or getattr(dispatcher, "_cache", None) is None or not dispatcher.overloads:
+            raise
+        from numba.core.caching import NullCache
+        dispatcher._cache = NullCache()
+        notice(f"could not save the compiled engine in {CACHE_FOLDER} ({exc.strerror or exc}); "
+               "it runs from memory this time")
+        return dispatcher(*args)
+
+
 def notice(text: str) -> None:
     """One line on stderr, once per process."""
     if text not in _notices:
