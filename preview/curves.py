@@ -19,6 +19,7 @@ import numpy as np
 
 from physics import track as track_model
 from physics.units import display
+from preview.road import way
 
 LEVEL = math.radians(0.05)   # rad: a tilt smaller than this is called level
 
@@ -145,14 +146,14 @@ def place_words(tr, i: int) -> str:
         ahead = [k for k in curves(scene) if s < k.start <= s + reach]
         if ahead:
             k = ahead[0]
-            return (f"straight track, a curve to the {side(k.turn)} "
+            return (f"straight {way(scene)}, a curve to the {side(k.turn)} "
                     f"{display(k.start - s, 'length', scene.units, '.0f')} ahead{rides}")
-        return "straight track" + rides
+        return f"straight {way(scene)}" + rides
     radius = display(c.radius, "length", scene.units, ".0f")
     into = s - c.start
     if c.transition > 0 and (into < c.transition or c.end - s < c.transition):
-        way = "into" if into < c.transition else "out of"
-        return f"transition {way} a curve to the {side(c.turn)}, radius {radius}{rides}"
+        going = "into" if into < c.transition else "out of"
+        return f"transition {going} a curve to the {side(c.turn)}, radius {radius}{rides}"
     return f"curve to the {side(c.turn)}, radius {radius}{rides}"
 
 
@@ -188,7 +189,7 @@ def curve_words(tr, i: int) -> list[str]:
     c = here or (ahead[0] if ahead else all_curves[-1])
     length = lambda v: display(v, "length", units, ".0f")  # noqa: E731
     what = f"curve to the {side(c.turn)}, radius {length(c.radius)}, cant {cant_length(c.cant, units)}"
-    where = (f"from {length(c.start)} to {length(c.end)} along the track"
+    where = (f"from {length(c.start)} to {length(c.end)} along the {way(scene)}"
              + (f" ({length(c.transition)} transitions)" if c.transition > 0 else ""))
     if c is here:
         now = f"the performer's mark is {length(s - c.start)} into it"

@@ -36,13 +36,14 @@ import numpy as np
 from physics import G, body
 from physics.records import Event, Mode
 from physics.units import display
-from preview import curves
+from preview import air_layer, curves
 from preview.layout import Box, fit
 from preview.report import floor_to
 from preview.palette import (AERO, CAR_BODY, CAR_EDGE, CURVE, FAILURE, FAINT, FAR_LIMB, GROUND_TONE, HOLDS, INK,
-                             LINE_ZONE, PANEL, PSEUDO, REACTION, SKY, SOFT_INK, STRUCTURE, TRAIL, WEIGHT, WIND)
-from preview.world import (FORCE_PER_METRE, REACTION_OFFSET, WIND_PER_METRE, canvas_measure, draw_failure_callout,
-                           force_arrow, label_size)
+                             LINE_ZONE, PANEL, PSEUDO, REACTION, ROOF_AIR, ROOF_AIR_ZONE, SKY, SOFT_INK, STRUCTURE,
+                             TRAIL, WEIGHT, WIND)
+from preview.world import (FORCE_PER_METRE, REACTION_OFFSET, WIND_ABOVE, WIND_PER_METRE, _label_size, canvas_measure,
+                           draw_failure_callout, draw_free_label, force_arrow, label_size)
 
 DEFAULT_ZOOM = 1.5     # ViewSettings' default zoom: the fitted picture
 GAUGE = 1.435          # m between the rails (standard gauge), drawing value
@@ -123,6 +124,7 @@ def draw(canvas, playback, t: float, view, cam: EndCamera, layout, area: Box) ->
         draw_track(canvas, cam.turned(cant))
     draw_zone_edges(canvas, cam, near)
     keep_clear(layout, tr, i, view, cam, car if ahead == 0 else None)
+    draw_roof_air(canvas, tr, i, view, cam, car if ahead == 0 else None, layout, area)
     draw_trail(canvas, tr, i, view, cam)
     if failed:
         draw_failure(canvas, playback, failure, cam, layout, area)
@@ -279,7 +281,7 @@ def keep_clear(layout, tr, i: int, view, cam: EndCamera, car) -> None:
         _reserve_around(layout, [pose.to_screen(y, z) for _, y, z in pts], pad)
         r, com = tr.record[i], tr.com_path3[i]
         if "wind" in view.vectors and math.isfinite(r["app_y"]) and np.isfinite(com).all():
-            head = (float(com[1]), float(com[2]) + 1.3)
+            head = (float(com[1]), float(com[2]) + WIND_ABOVE)
             tail = (head[0] - float(r["app_y"]) / WIND_PER_METRE, head[1] - _or0(r["app_z"]) / WIND_PER_METRE)
             _reserve_around(layout, [pose.to_screen(*head), pose.to_screen(*tail)], 8)
     if car is not None:
@@ -295,6 +297,59 @@ def _reserve_around(layout, points, pad: float) -> None:
     xy = np.array(points)
     (x0, y0), (x1, y1) = xy.min(axis=0) - pad, xy.max(axis=0) + pad
     layout.reserve(Box(x0, y0, x1 - x0, y1 - y0))
+
+
+def draw_roof_air(canvas, tr, i: int, view, cam: EndCamera, car, layout, area: Box) -> None:
+    """The air over the roof under the body (scene air.roof_profile = "on", shown with the apparent wind),
+    in the roof's axes: at a few heights above the roof, a bar as long as the air's speed ALONG the track
+    relative to the car (on the apparent wind's scale), from a faint upright beside the figure out to its
+    left; a shaded band for a low-speed zone; a dashed line at the layer's top, labelled where it fits.
+
+    Along, not across: the layer slows the air along the track, which at speed is nearly all of it (the
+    across part, the same share of the side wind, is a few pixels here, and the apparent wind arrow above
+    the head draws it already); a bar with no head says how much without pointing across the picture."""
+    if car is None or "wind" not in view.vectors or not air_layer.shown(tr.scene):
+        return
+    r = tr.record[i]
+    pts = tr.ends3(i).reshape(-1, 3)
+    com = tr.com_path3[i]
+    if not (np.isfinite(pts).all() and np.isfinite(com).all()):
+        return
+    y = float(r["pivot_y"]) if math.isfinite(float(r["pivot_y"])) else float(com[1])   # in the air: under the body
+    roof = car.roof_z(y)
+    profile = air_layer.profile_at(tr, i, skip=float(com[2]) + WIND_ABOVE - roof)
+    if profile is None:
+        return
+    canvas.tag = "roof-air"
+    axes = pose_camera(tr, i, cam)                       # the roof's axes: the profile stands on the roof
+    start = float(pts[:, 1].max()) + 0.25                # just left of the figure (+ y is left of travel)
+    ends = start + np.abs(profile.along) / WIND_PER_METRE
+    y_hi = float(ends.max()) + 0.2
+    if profile.zone > 0.0:
+        band = [axes.to_screen(start, roof), axes.to_screen(y_hi, roof), axes.to_screen(y_hi, roof + profile.zone),
+                axes.to_screen(start, roof + profile.zone)]
+        canvas.polygon(band, ROOF_AIR_ZONE)
+    canvas.line(axes.to_screen(start, roof), axes.to_screen(start, roof + float(profile.heights[-1])), ROOF_AIR, 1)
+    for z, end in zip(profile.heights, ends):
+        a, b = axes.to_screen(start, roof + z), axes.to_screen(float(end), roof + z)
+        canvas.line(a, b, ROOF_AIR, 3)
+        canvas.line((b[0], b[1] - 4), (b[0], b[1] + 4), ROOF_AIR, 2)
+    _reserve_around(layout, [axes.to_screen(start, roof + float(profile.heights[0])),
+                             axes.to_screen(y_hi, roof + float(profile.heights[-1]))], 4)   # kept clear of labels
+    ts = label_size(canvas) - 1
+    words = air_layer.layer_words(profile.delta, tr.scene.units)
+    y_lo = float(pts[:, 1].min()) - 0.25
+    a, b = axes.to_screen(y_hi, roof + profile.delta), axes.to_screen(y_lo, roof + profile.delta)
+    top = axes.to_screen(float(ends[-1]), roof + float(profile.heights[-1]))
+    if min(a[1], b[1]) >= area.y + 4:
+        air_layer.dashed(canvas, a, b, ROOF_AIR)
+        w, h = _label_size(words, ts)
+        spots = [(a[0] - w - 6, a[1] - h / 2), (b[0] + 6, b[1] - h / 2), (a[0], a[1] - h - 3)]
+    else:
+        words += ", its top above the picture"
+        w, h = _label_size(words, ts)
+        spots = [(top[0] - w - 6, top[1] - h / 2), (top[0], top[1] - h - 8)]
+    draw_free_label(canvas, words, SOFT_INK, ts, w, h, spots, layout, area)
 
 
 # ---------------------------------------------------------------- figure
@@ -390,7 +445,7 @@ def draw_vectors(canvas, tr, i: int, view, cam: EndCamera) -> None:
         force_arrow(canvas, level, at_level, pseudo, PSEUDO, "pseudo")
     if "wind" in view.vectors and math.isfinite(r["app_y"]):
         canvas.tag = "wind"
-        head = (at[0], at[1] + 1.3)
+        head = (at[0], at[1] + WIND_ABOVE)
         w = (float(r["app_y"]), _or0(r["app_z"]))
         tail = cam.to_screen(head[0] - w[0] / WIND_PER_METRE, head[1] - w[1] / WIND_PER_METRE)
         canvas.arrow(tail, cam.to_screen(*head), WIND, 2)
@@ -522,6 +577,7 @@ def fact_lines(tr, i: int, car, units: str) -> list[str]:
     (`car`: the car cut by the section, None over a gap or off the consist)."""
     r = tr.record[i]
     mode = int(r["mode"])
+    road = bool(getattr(tr.scene, "road", False))
     num = lambda name: float(r[name])  # noqa: E731
     side = lambda y: "left" if y > 0 else "right"  # noqa: E731
     if mode in (Mode.PLANTED, Mode.SLIDING):
@@ -560,9 +616,10 @@ def fact_lines(tr, i: int, car, units: str) -> list[str]:
             where = f"{display(abs(y) - car.width / 2, 'length', units)} beyond the {side(y)} side edge"
         else:
             where = f"over {car.name}'s roof"
-        return [f"in the air: {where}, {display(z, 'length', units)} above rail"]
+        return [f"in the air: {where}, {display(z, 'length', units)} {'above the road' if road else 'above rail'}"]
     if mode == Mode.GONE:
-        return [f"on the ground, {display(abs(y), 'length', units)} {side(y)} of the track's centreline"]
+        centre = "the lane's centre" if road else "the track's centreline"
+        return [f"on the ground, {display(abs(y), 'length', units)} {side(y)} of {centre}"]
     return []
 
 
@@ -640,5 +697,7 @@ def legend_rows(view, units: str, px_per_m: float | None, scene=None) -> list[tu
     rows.append(bar_row(WIND_PER_METRE, "wind", WIND, "(apparent wind)", units, px_per_m))
     rows.append(bar_row(1.0, "length", SOFT_INK, "(lengths)", units, px_per_m))
     rows.append(("zone", (LINE_ZONE, "overhead line exclusion zone")))
-    rows.append(("zone", (STRUCTURE, "structure deck over the track")))
+    road = scene is not None and bool(getattr(scene, "road", False))
+    rows.append(("zone", (STRUCTURE, "structure over the road" if road else "structure deck over the track")))
+    rows += air_layer.legend_row(view, scene, end=True)
     return rows + timeline_legend_rows(scene)

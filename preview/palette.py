@@ -31,3 +31,5 @@ LINE_ZONE = (230, 180, 180)
 LANDING_ZONE = (170, 205, 180)
 FACT = (110, 118, 126)
 CURVE = (52, 96, 150)
+ROOF_AIR = (128, 170, 204)       # the air over the roof by height: a softer WIND, drawn behind the figure
+ROOF_AIR_ZONE = (203, 215, 226)  # a low-speed zone of that air, a faint band

@@ -23,11 +23,12 @@ from preview.canvas import measure
 from preview.caution import CAUTION_SHORT
 from preview.layout import Box, Layout, fit, wrap
 from preview.report import floor_to
-from preview import curves
+from preview import air_layer, curves
 from preview.palette import (AERO, CURVE, FACT, FAILURE, FAINT, HOLDS, INK, LANDING_ZONE, MARGINAL, PANEL, PSEUDO,
                              REACTION,
                              SEGMENT_AERO, SOFT_INK, STRUCTURE, TRAIL, WEIGHT, WIND)
 from preview.report import marginal_words, phase_words
+from preview.road import beside, way
 from preview.timecode import timecode
 
 MARGIN = 10
@@ -120,6 +121,7 @@ class Panels:
     message: Box | None = None
     message_lines: list = field(default_factory=list)
     help: Box | None = None
+    help_rows: tuple = HELP
 
 
 # ------------------------------------------------------------------- readout
@@ -142,6 +144,9 @@ def readout_rows(playback, t: float, view) -> tuple[list, tuple, list]:
     app = math.hypot(f("app_x"), f("app_y"))
     if math.isfinite(app):
         rows.append(("apparent wind", f"{display(app, 'wind', units, '.1f')}, Beaufort {beaufort(app)}", INK))
+    body = air_layer.body_wind_words(tr, i, units)
+    if body is not None:   # the air over the roof on: the wind the body meets at its centre of mass's height
+        rows.append(("wind at body height", body, INK))
     if curves.shows_track(scene):   # the car body's lateral acceleration in the roof's plane: + left pushes right
         rows.append(("lateral on roof", curves.lateral_words(f("accel_y"), units), INK))
     if after is not None:
@@ -163,7 +168,8 @@ def readout_rows(playback, t: float, view) -> tuple[list, tuple, list]:
             rows.append(("balance margin", display(floor_to(mos, 2), "length", units, "+.2f") + which
                          if math.isfinite(mos) else "n/a", INK))
             lean = f("lean")
-            rows.append(("lean along track", f"{math.degrees(lean):+.1f}°" if math.isfinite(lean) else "n/a", INK))
+            rows.append((f"lean along {way(scene)}", f"{math.degrees(lean):+.1f}°" if math.isfinite(lean) else "n/a",
+                         INK))
         gap, over = tr.overhead_gap(i)
         if over is not None:
             colour = FAILURE if gap < 0 else (MARGINAL if gap < scene.safety.clearance else INK)
@@ -182,6 +188,11 @@ def readout_rows(playback, t: float, view) -> tuple[list, tuple, list]:
         # A still must not look safer than the beat: say how the whole beat ends.
         ends = f" ({first['kind']} at {first['time_s']:.2f} s)" if first else ""
         why.insert(0, f"whole beat: {whole.upper()}{ends}")
+    bound = playback.summary.get("uniform_air")
+    if bound and bound["verdict"] != whole:
+        # With the air over the roof on, the verdict rests on its soft coefficients: say the bound beside it.
+        why.insert(1 if why and why[0].startswith("whole beat") else 0,
+                   f"free-stream bound: {bound['verdict'].upper()} (air over the roof off)")
     if view.what_if:
         why.append(f"what-if: {view.what_if}")
     return rows, (f"verdict so far: {name.upper()}", colour), why
@@ -240,6 +251,7 @@ def legend_rows(view, units: str, px_per_m: float | None, scene=None) -> list[tu
                             px_per_m))
     rows.append(bar_row(WIND_PER_METRE, "wind", WIND, "(apparent wind)", units, px_per_m))
     rows.append(("zone", (LANDING_ZONE, "landing zone (a jump's landing roof)")))
+    rows += air_layer.legend_row(view, scene)
     return rows + timeline_legend_rows(scene)
 
 
@@ -312,7 +324,7 @@ def plan(layout: Layout, size, playback, t: float, view, cams) -> Panels:
     # A banner at the top-right of each view, beside the readout.
     banners = []
     for cam in cams:
-        text = banner_text(cam, view, units)
+        text = banner_text(cam, view, units, playback.scene)
         left = readout.right + MARGIN if cam is cams[0] else MARGIN
         text = fit(text, ts + 1, width - MARGIN - left - 16, bold=True)
         w, h = measure(text, ts + 1, True)
@@ -339,6 +351,7 @@ def plan(layout: Layout, size, playback, t: float, view, cams) -> Panels:
         hw = min(width - 2 * MARGIN, kw + max(measure(w, ts + 1)[0] for _, w in HELP) + 32)
         hh = min(height - 2 * MARGIN, 44 + line_height(ts + 1) * len(HELP))
         panels.help = Box((width - hw) / 2, max(MARGIN, (height - hh) / 2), hw, hh)
+        panels.help_rows = help_rows(playback.scene)
     return panels
 
 
@@ -352,7 +365,7 @@ def banner_height(size, view) -> int:
     return measure("FRAME", text_size(size, _boost(view)) + 1, True)[1] + 8 + MARGIN
 
 
-def banner_text(cam, view, units: str) -> str:
+def banner_text(cam, view, units: str, scene=None) -> str:
     if cam.frame == "end":
         return "END VIEW looking forward (travel into the picture): left of travel on the left"
     if cam.frame == "plan":
@@ -360,7 +373,7 @@ def banner_text(cam, view, units: str) -> str:
     if cam.frame != GROUND:
         return "CAR FRAME: consist at rest, scenery streams past; travel →"
     if view.trackside is not None:
-        return (f"GROUND FRAME: trackside camera at {display(view.trackside, 'length', units, '.0f')}, "
+        return (f"GROUND FRAME: {beside(scene)} camera at {display(view.trackside, 'length', units, '.0f')}, "
                 "consist passes; travel →")
     return "GROUND FRAME: the ground and scenery at rest; travel →"
 
@@ -387,7 +400,7 @@ def draw(canvas, panels: Panels, playback, t: float, view) -> None:
         for k, line in enumerate(panels.message_lines):
             canvas.text((b.x + 8, b.y + 5 + line_height(ts) * k), line, FAILURE, ts)
     if panels.help is not None:
-        draw_help(canvas, panels.help, ts + 1)
+        draw_help(canvas, panels.help, ts + 1, panels.help_rows)
 
 
 def draw_readout(canvas, panels: Panels, ts: int) -> None:
@@ -411,8 +424,8 @@ def draw_readout(canvas, panels: Panels, ts: int) -> None:
         tone = colour
         if line.startswith("what-if"):
             tone = PSEUDO
-        elif line.startswith("whole beat"):
-            tone = FAILURE if "FAILS" in line else MARGINAL
+        elif line.startswith("whole beat") or line.startswith("free-stream bound"):
+            tone = FAILURE if "FAILS" in line else (HOLDS if "HOLDS" in line else MARGINAL)
         canvas.text((b.x + 10, y), line, tone, ts, bold=line.startswith("whole beat"))
         y += lh
 
@@ -455,6 +468,11 @@ def draw_legend(canvas, panels: Panels, ts: int) -> None:
                 canvas.circle((x + 2 + 6 * k, mid), 2, payload[0])
         elif kind == "ring":
             canvas.circle((x + 11, mid), 6, payload[0], 2)
+        elif kind == "layer":       # the air over the roof: its top dashed over two arrows of its speeds
+            for k in range(3):
+                canvas.line((x + 8 * k, mid - 6), (x + 8 * k + 5, mid - 6), payload[0], 1)
+            canvas.arrow((x + 14, mid - 1), (x, mid - 1), payload[0], 2, head=5)
+            canvas.arrow((x + 22, mid + 5), (x, mid + 5), payload[0], 2, head=5)
         elif kind == "span":
             canvas.line((x + 2, mid), (x + 20, mid), payload[0], 3)
             for end in (x + 2, x + 20):
@@ -528,13 +546,20 @@ def draw_caution(canvas, size, boost: int = 0) -> None:
         canvas.text((MARGIN, height - ch + 4 + (14 + boost) * k), line, PANEL, CAUTION_SIZE + boost)
 
 
-def draw_help(canvas, b: Box, ts: int) -> None:
+def help_rows(scene=None) -> tuple:
+    """The help's keys and words, in the scene's words (a road consist's camera stands at the roadside)."""
+    if scene is None or way(scene) == "track":
+        return HELP
+    return tuple((key, words.replace("trackside", beside(scene))) for key, words in HELP)
+
+
+def draw_help(canvas, b: Box, ts: int, rows: tuple = HELP) -> None:
     canvas.tag = "help"
     canvas.rect(b.x, b.y, b.w, b.h, PANEL)
     canvas.rect(b.x, b.y, b.w, b.h, INK, width=2)
     canvas.text((b.x + 16, b.y + 10), "Controls", INK, ts + 1, bold=True)
-    kw = max(measure(k, ts, mono=True)[0] for k, _ in HELP) + 24
-    for k, (key, what) in enumerate(HELP):
+    kw = max(measure(k, ts, mono=True)[0] for k, _ in rows) + 24
+    for k, (key, what) in enumerate(rows):
         y = b.y + 38 + line_height(ts) * k
         if y + line_height(ts) > b.bottom:
             break

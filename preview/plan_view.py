@@ -31,6 +31,7 @@ from physics.units import display
 from preview import curves
 from preview.end_view import FAR, struck_out
 from preview.layout import Box, Layout, fit, wrap
+from preview.road import way
 from preview.palette import (CAR_BODY, CAR_EDGE, CURVE, FAILURE, FAINT, FAR_LIMB, GROUND_TONE, HOLDS, INK, LANDING_ZONE,
                              LINE_ZONE, PANEL, SOFT_INK, STRUCTURE, TRAIL)
 from preview.world import (canvas_measure, draw_failure_callout, draw_landing_mark, draw_takeoff_mark, label_size)
@@ -412,7 +413,7 @@ def draw_track_inset(canvas, tr, i: int, cam: PlanCamera, layout, area: Box) -> 
     map_w, map_h = INSET_MAP if area.h >= 480 else (150, 72)
     words_w = INSET_WORDS + 20 * getattr(canvas, "text_boost", 0)
     words = [line for part in curves.curve_words(tr, i) for line in wrap(part, ts, words_w)]
-    title = fit("the track over the beat, from above", ts, words_w)
+    title = fit(f"the {way(scene)} over the beat, from above", ts, words_w)
     w = 12 + map_w + 14 + words_w + 10
     h = 8 + max(map_h, lh * (len(words) + 1)) + 8
     probe = Layout(list(layout.taken) + [_path_box(tr, cam)])   # clear of the body's whole path too
@@ -561,6 +562,6 @@ def legend_rows(view, units: str, px_per_m: float | None, scene=None) -> list[tu
             ("zone", (LANDING_ZONE, "landing zone (a jump's landing roof)")),
             ("ring", (FAILURE, "failure, over a side edge")),
             bar_row(1.0, "length", SOFT_INK, "(lengths)", units, px_per_m),
-            ("zone", (STRUCTURE, "structure over the track")),
+            ("zone", (STRUCTURE, f"structure over the {way(scene)}")),
             ("zone", (LINE_ZONE, "overhead line exclusion zone"))]
     return rows + timeline_legend_rows(scene)

@@ -37,6 +37,16 @@ ROAD_REACH = 4.0      # m: how far a road vehicle is drawn beyond its roof (a ri
 SEMI_TRAILERS = ("box trailer", "flatbed trailer")
 
 
+def way(scene) -> str:
+    """What the consist runs on, in the words a view shows: "road" for road vehicles, else "track"."""
+    return "road" if getattr(scene, "road", False) else "track"
+
+
+def beside(scene) -> str:
+    """The camera beside the way: "roadside" or "trackside"."""
+    return f"{way(scene)}side"
+
+
 # ---------------------------------------------------------------- side view
 
 def draw_road_side(canvas, cam) -> None:

@@ -17,6 +17,7 @@ from pathlib import Path
 
 from preview.frame import ViewSettings, draw_frame
 from preview.panels import timeline_rect
+from preview.road import beside
 from preview.session import Playback, make_playback
 
 RATES = (0.1, 0.25, 0.5, 1.0, 1.5, 2.0)
@@ -139,7 +140,7 @@ def trackside_toggled(state: PlayerState) -> ViewSettings:
     i = tr.index_at(state.t)
     x = float(tr.com_path[i, 0] + tr.field("distance")[i])
     if x != x:  # no body position (NaN): nothing to stand beside
-        return replace(v, message="trackside camera: no performer position at this time")
+        return replace(v, message=f"{beside(tr.scene)} camera: no performer position at this time")
     return replace(v, trackside=x, frame=v.frame if v.frame in ("ground", "split") else "ground")
 
 

@@ -17,16 +17,18 @@ import numpy as np
 from physics import body
 from physics.records import Event, Mode
 from physics.units import display
+from preview import air_layer
 from preview.camera import CAR, GROUND, Camera
 from preview.canvas import measure
 from preview.layout import Box, fit
 from preview.palette import (AERO, CAR_BODY, CAR_EDGE, FAILURE, FAINT, FAR_LIMB, GROUND_TONE, HOLDS, INK,
-                             LANDING_ZONE, LINE_ZONE, PANEL, PAPER, PSEUDO, REACTION, SEGMENT_AERO, SKY, SOFT_INK,
-                             STRUCTURE, TRAIL, WEIGHT, WIND)
+                             LANDING_ZONE, LINE_ZONE, PANEL, PAPER, PSEUDO, REACTION, ROOF_AIR, ROOF_AIR_ZONE,
+                             SEGMENT_AERO, SKY, SOFT_INK, STRUCTURE, TRAIL, WEIGHT, WIND)
 
 FORCE_PER_METRE = 800.0         # N drawn as 1 m, every whole-body force: a standing body's weight reaches its roof
 SEGMENT_FORCE_PER_METRE = 80.0  # the per-segment air loads, drawn ten times larger, with a bar of their own
 WIND_PER_METRE = 10.0           # m/s of apparent wind drawn as 1 m
+WIND_ABOVE = 1.3                # m: the apparent wind arrow is drawn this far above the centre of mass
 REACTION_OFFSET = 12            # px the roof's reaction is drawn beside the weight's line
 # Failures at a place fixed in the ground (a structure, a line): in the ground frame their marker and
 # ghost stay there; every other failure happened on a car and is drawn on the car as it moves on.
@@ -45,6 +47,7 @@ def draw_view(canvas, playback, t: float, view, cam: Camera, layout, area: Box) 
     draw_structures(canvas, scene, cam)
     draw_consist(canvas, scene, cam)
     draw_jumps(canvas, playback, t, cam, layout, area)
+    draw_roof_air(canvas, tr, i, view, cam, layout, area)
     draw_trail(canvas, tr, i, view, cam)
     if failed:
         # Under the figure: the body as it is now stays in sight over the marker of where it failed.
@@ -68,7 +71,8 @@ def keep_clear(layout, tr, i: int, cam: Camera, view) -> None:
     com = tr.com_path[i]
     app_x = float(tr.record["app_x"][i])
     if "wind" in view.vectors and math.isfinite(app_x):
-        pts += [cam.to_screen(com[0], com[1] + 1.3), cam.to_screen(com[0] - app_x / WIND_PER_METRE, com[1] + 1.3)]
+        pts += [cam.to_screen(com[0], com[1] + WIND_ABOVE),
+                cam.to_screen(com[0] - app_x / WIND_PER_METRE, com[1] + WIND_ABOVE)]
     for unused, (x0, top, x1, soffit) in structures_in_view(tr.scene, cam):
         layout.reserve(Box(x0, top, x1 - x0, soffit - top))   # the deck and its soffit stay in sight
     pts = np.array(pts)
@@ -356,11 +360,75 @@ def draw_vectors(canvas, tr, i: int, view, cam: Camera) -> None:
         force_arrow(canvas, cam, com, (pseudo, 0.0), PSEUDO, "pseudo")
     if "wind" in view.vectors:
         canvas.tag = "wind"
-        head = (com[0], com[1] + 1.3)
+        head = (com[0], com[1] + WIND_ABOVE)
         w = (f("app_x"), f("app_z") if math.isfinite(f("app_z")) else 0.0)
         if all(map(math.isfinite, w)):
             p0 = cam.to_screen(head[0] - w[0] / WIND_PER_METRE, head[1] - w[1] / WIND_PER_METRE)
             canvas.arrow(p0, cam.to_screen(*head), WIND, 2)
+
+
+def draw_roof_air(canvas, tr, i: int, view, cam: Camera, layout, area: Box) -> None:
+    """The air over the roof under the body (scene air.roof_profile = "on", shown with the apparent wind):
+    at a few heights above the roof, an arrow as long as the air's speed along the track relative to the
+    car on the apparent wind's scale, standing just upstream of the figure and pointing at it; a shaded
+    band for a low-speed zone; a dashed line at the layer's top, labelled with its thickness where a
+    label fits beside it (none rather than one away from it). Drawn behind the figure, in a softer blue
+    than the wind's, and kept clear of labels."""
+    if "wind" not in view.vectors or not air_layer.shown(tr.scene):
+        return
+    ends = tr.ends(i)
+    com = tr.com_path[i]
+    if not (np.isfinite(ends).all() and np.isfinite(com).all()):
+        return
+    r = tr.record[i]
+    px_, py_ = float(r["pivot_x"]), float(r["pivot_y"])
+    k = tr.scene.car_at(px_ if math.isfinite(px_) else float(com[0]))
+    if k is None:
+        return
+    roof = tr.scene.cars[k].roof_z(py_ if math.isfinite(py_) else 0.0)
+    profile = air_layer.profile_at(tr, i, skip=float(com[1]) + WIND_ABOVE - roof)
+    if profile is None:
+        return
+    canvas.tag = "roof-air"
+    xs = ends[..., 0]
+    downstream = profile.along[-1] >= 0.0                   # air moving ahead: the stack stands behind the body
+    head = float(xs.min()) - 0.3 if downstream else float(xs.max()) + 0.3
+    tails = head - profile.along / WIND_PER_METRE
+    x_lo, x_hi = min(head, float(tails.min())) - 0.2, max(head, float(tails.max())) + 0.2
+    if profile.zone > 0.0:
+        (a, top), (b, bottom) = cam.to_screen(x_lo, roof + profile.zone), cam.to_screen(x_hi, roof)
+        canvas.rect(a, top, b - a, bottom - top, ROOF_AIR_ZONE, alpha=170)
+    for z, tail in zip(profile.heights, tails):
+        canvas.arrow(cam.to_screen(float(tail), roof + z), cam.to_screen(head, roof + z), ROOF_AIR, 2, head=7)
+    p0, p1 = cam.to_screen(x_lo, roof + float(profile.heights[-1])), cam.to_screen(x_hi, roof)
+    layout.reserve(Box(p0[0], p0[1] - 5, p1[0] - p0[0], p1[1] - p0[1] + 5))   # the arrows kept clear of labels
+    ts = label_size(canvas) - 1
+    words = air_layer.layer_words(profile.delta, tr.scene.units)
+    (a, line_y), (b, _) = cam.to_screen(x_lo, roof + profile.delta), cam.to_screen(x_hi, roof + profile.delta)
+    top_arrow = cam.to_screen(float(tails[-1]), roof + float(profile.heights[-1]))
+    if line_y >= max(area.y, cam.top) + 4:
+        air_layer.dashed(canvas, (a, line_y), (b, line_y), ROOF_AIR)
+        w, h = _label_size(words, ts)
+        spots = [(b + 6, line_y - h / 2), (a - w - 6, line_y - h / 2), ((a + b - w) / 2, line_y - h - 3)]
+    else:
+        words += ", its top above the picture"
+        w, h = _label_size(words, ts)
+        side = top_arrow[0] + 6 if not downstream else top_arrow[0] - w - 6
+        spots = [(side, top_arrow[1] - h / 2), (min(a, b), top_arrow[1] - h - 8)]
+    draw_free_label(canvas, words, SOFT_INK, ts, w, h, spots, layout, area)
+
+
+def draw_free_label(canvas, words: str, colour, ts: int, w: float, h: float, spots, layout, area: Box) -> bool:
+    """A small boxed label at the first of its spots that is free and inside the area, else none (a label
+    whose words are said elsewhere too: better missing than away from what it names)."""
+    for x, y in spots:
+        box = Box(x, y, w, h)
+        if box.inside(area) and layout.free(box):
+            layout.reserve(box)
+            canvas.rect(box.x, box.y, box.w, box.h, PANEL)
+            canvas.text((box.x + 3, box.y + 2), words, colour, ts)
+            return True
+    return False
 
 
 def draw_balance(canvas, f, com, cam: Camera) -> None:
