@@ -11,6 +11,8 @@ from __future__ import annotations
 
 from dataclasses import dataclass, field
 
+import numpy as np
+
 from preview.canvas import measure
 
 
@@ -69,17 +71,27 @@ class Layout:
                 best, best_cover = box, cover
         # None of the wished-for places is free: the free place nearest the first one, if any.
         x0, y0 = candidates[0] if candidates else (area.x, area.y)
-        free = [b for b in self._grid(w, h, area) if self.free(b)]
-        if free:
-            return self.reserve(min(free, key=lambda b: (b.x - x0) ** 2 + (b.y - y0) ** 2))
+        nearest = self._nearest_free(w, h, area, x0, y0)
+        if nearest is not None:
+            return self.reserve(nearest)
         return self.reserve(best if best is not None else Box(area.x, area.y, w, h))
 
-    @staticmethod
-    def _grid(w: float, h: float, area: Box, step: float = 12.0):
+    def _nearest_free(self, w: float, h: float, area: Box, x0: float, y0: float, step: float = 12.0):
+        """The free w x h box nearest (x0, y0) on a grid of `step` px over `area`, or None: every grid
+        place tested against every taken box at once (numpy), as a frame has thousands of places."""
         ny, nx = int(max(0.0, area.h - h) // step) + 1, int(max(0.0, area.w - w) // step) + 1
-        for j in range(ny):
-            for i in range(nx):
-                yield Box(area.x + i * step, area.y + j * step, w, h)
+        ys, xs = np.meshgrid(area.y + step * np.arange(ny), area.x + step * np.arange(nx), indexing="ij")
+        xs, ys = xs.ravel(), ys.ravel()
+        free = np.ones(xs.shape, bool)
+        for t in self.taken:
+            across = np.minimum(xs + w, t.right) - np.maximum(xs, t.x)
+            down = np.minimum(ys + h, t.bottom) - np.maximum(ys, t.y)
+            free &= ~((across > 0) & (down > 0))
+        if not free.any():
+            return None
+        k = np.flatnonzero(free)
+        best = k[np.argmin((xs[k] - x0) ** 2 + (ys[k] - y0) ** 2)]
+        return Box(float(xs[best]), float(ys[best]), w, h)
 
     def free(self, box: Box) -> bool:
         return all(box.overlap(t) == 0 for t in self.taken)
