@@ -92,6 +92,9 @@ def make_playback(scene, variant=None) -> Playback:
     summary["arrivals"] = structure_arrivals(trajectory)
     summary["ducks"] = latest_duck_starts(scene) if variant is None else []
     summary["apparent_wind_whole_beat_ms"] = whole_beat_wind(trajectory)
+    if scene.rigging:
+        from physics.rigging import rigging_summary
+        summary["rigging"] = rigging_summary(trajectory)
     return Playback(trajectory, summary)
 
 
