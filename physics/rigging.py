@@ -78,6 +78,8 @@ def where_hanging(scene, trajectory, point) -> str:
         return (f"hanging against the {side} side of {car.name}, harness {max(car.roof_height - z, 0.0):.2f} m "
                 "below the roof edge")
     edge = 0.5 * car.width - abs(y)
+    if abs(y) < 0.05:
+        return f"on the roof of {car.name}, harness on its centreline"
     return f"on the roof of {car.name}, harness {edge:.2f} m inside the {'left' if y > 0 else 'right'} side edge"
 
 

@@ -159,12 +159,12 @@ def describe(scene: Scene, kind: Event, row) -> str:
     if kind == Event.TAKEOFF:
         return f"take-off at {display(demand, 'wind', u)} relative to the roof"
     if kind == Event.ARRESTED:
-        return (f"a tether stopped the body: peak tether force so far {display(demand, 'force', u, '.0f')} "
+        return (f"a tether stopped the body: peak tether force {display(demand, 'force', u, '.0f')} "
                 f"(limit on the body {display(available, 'force', u, '.0f')})")
     if kind == Event.ANCHOR_OVERLOAD:
-        return f"anchor load {display(demand, 'force', u, '.0f')}, limit {display(available, 'force', u, '.0f')}"
+        return f"peak anchor load {display(demand, 'force', u, '.0f')}, limit {display(available, 'force', u, '.0f')}"
     if kind == Event.BODY_FORCE:
-        return (f"the tethers pull the body with {display(demand, 'force', u, '.0f')}, limit "
+        return (f"the tethers pull the body with up to {display(demand, 'force', u, '.0f')}, limit "
                 f"{display(available, 'force', u, '.0f')}")
     if kind == Event.TOUCHDOWN:
         return (f"touchdown at {display(demand, 'wind', u)} along and {display(available, 'wind', u)} down, "

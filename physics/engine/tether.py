@@ -116,10 +116,16 @@ def watch_tethers(v, inputs, env, free, x, y, z, vx, vy, vz, out):
         if p.anchor > t.anchor_limit:
             note_event(out.events, v.b, Event.ANCHOR_OVERLOAD, env.t, x, env.distance, inputs.cars, p.anchor,
                        t.anchor_limit)
+            # Its number is the highest anchor load over the run.
+            out.events[v.b, Event.ANCHOR_OVERLOAD].demand = max(out.events[v.b, Event.ANCHOR_OVERLOAD].demand,
+                                                                p.anchor)
         if free and p.stretch > 0.0 and o.rate > 0.0 and p.rate <= 0.0:
             note_event(out.events, v.b, Event.ARRESTED, env.t, x, env.distance, inputs.cars, o.peak_force,
                        t.body_limit)
             note_side(out.events, v.b, Event.ARRESTED, env.t, 1 if y > 0.0 else -1)
+        if p.stretch > 0.0 and not math.isnan(out.events[v.b, Event.ARRESTED].time):
+            # The arrest's number is the tether's peak force over the run, bounces after it included.
+            out.events[v.b, Event.ARRESTED].demand = max(out.events[v.b, Event.ARRESTED].demand, o.peak_force)
         o.rate = p.rate if p.stretch > 0.0 else 0.0
         if out.recording:
             out.record[env.k].tether_force[i] = p.force
@@ -131,4 +137,5 @@ def watch_tethers(v, inputs, env, free, x, y, z, vx, vy, vz, out):
     if tethers.shape[0] > 0 and total > tethers[0].body_limit:
         note_event(out.events, v.b, Event.BODY_FORCE, env.t, x, env.distance, inputs.cars, total,
                    tethers[0].body_limit)
+        out.events[v.b, Event.BODY_FORCE].demand = max(out.events[v.b, Event.BODY_FORCE].demand, total)
     return fx, fy, fz
