@@ -21,7 +21,8 @@ from preview.camera import CAR, GROUND, Camera
 from preview.canvas import measure
 from preview.layout import Box, fit
 from preview.palette import (AERO, CAR_BODY, CAR_EDGE, FAILURE, FAINT, FAR_LIMB, GROUND_TONE, HOLDS, INK,
-                             LANDING_ZONE, LINE_ZONE, PANEL, PAPER, PSEUDO, REACTION, SEGMENT_AERO, SKY, SOFT_INK,
+                             LANDING_ZONE, LINE_ZONE, MARGINAL, PANEL, PAPER, PSEUDO, REACTION, SEGMENT_AERO, SKY,
+                             SOFT_INK,
                              STRUCTURE, TRAIL, WEIGHT, WIND)
 
 FORCE_PER_METRE = 800.0         # N drawn as 1 m, every whole-body force: a standing body's weight reaches its roof
@@ -46,6 +47,8 @@ def draw_view(canvas, playback, t: float, view, cam: Camera, layout, area: Box) 
     draw_consist(canvas, scene, cam)
     draw_jumps(canvas, playback, t, cam, layout, area)
     draw_trail(canvas, tr, i, view, cam)
+    if scene.rigging:
+        draw_rigging(canvas, playback, t, cam, layout, area)
     if failed:
         # Under the figure: the body as it is now stays in sight over the marker of where it failed.
         draw_failure_marker(canvas, playback, failure, cam, layout, area)
@@ -375,6 +378,66 @@ def draw_balance(canvas, f, com, cam: Camera) -> None:
         px, py = cam.to_screen(xcom, roof - 0.03)
         color = HOLDS if lo <= xcom <= hi else FAILURE
         canvas.polygon([(px, py - 2), (px - 6, py + 10), (px + 6, py + 10)], color)
+
+
+def tether_colour(force: float, limit: float):
+    """A tether's colour by its tension against the body's arrest-force limit: slack, well within
+    (under half), near it, or over it."""
+    if force <= 0.0:
+        return FAINT
+    if force < 0.5 * limit:
+        return HOLDS
+    return MARGINAL if force <= limit else FAILURE
+
+
+def draw_rigging(canvas, playback, t: float, cam: Camera, layout, area: Box) -> None:
+    """Each tether from its anchor (a running line drawn with its end anchors, the ring where the tether
+    leaves it) to the harness, coloured by its tension against the limit, with the tension written
+    beside it; once a tether has arrested the body, a marker where it did with the peak force."""
+    from physics.rigging import harness_path
+    from physics.units import display
+    canvas.tag = "rigging"
+    tr = playback.trajectory
+    scene = playback.scene
+    i = tr.index_at(t)
+    harness = harness_path(tr)[i]
+    limit = scene.safety.arrest_force
+    ts = max(label_size(canvas) - 1, 10)
+    for n, tether in enumerate(scene.rigging):
+        z = tether.anchor_z
+        if tether.running:
+            a, b = cam.to_screen(tether.line_x0, z), cam.to_screen(tether.line_x1, z)
+            canvas.line(a, b, CAR_EDGE, 2)
+            for end in (a, b):
+                canvas.rect(end[0] - 4, end[1] - 4, 8, 8, CAR_EDGE)
+        anchor = cam.to_screen(min(max(harness[0], tether.line_x0), tether.line_x1) if np.isfinite(harness[0])
+                               else tether.anchor_x, z)
+        canvas.circle(anchor, 5, CAR_EDGE, 2)
+        if not np.isfinite(harness).all():
+            continue
+        force = float(tr.record["tether_force"][i, n])
+        colour = tether_colour(force, limit)
+        end = cam.to_screen(harness[0], harness[2])
+        canvas.line(anchor, end, colour, 3 if force > 0 else 1)
+        if force > 0.0:
+            mid = (0.5 * (anchor[0] + end[0]) + 8, 0.5 * (anchor[1] + end[1]))
+            canvas.text(mid, display(force, "force", scene.units, ".0f"), colour, ts, bold=True)
+    arrest = next((e for e in playback.summary["events"] if e["kind"] == "arrested"), None)
+    if arrest is not None and t >= arrest["time_s"] - 1e-9:
+        j = tr.index_at(arrest["time_s"])
+        px, py = cam.to_screen(harness_path(tr)[j][0], harness_path(tr)[j][2])
+        if area.x <= px <= area.right and area.y <= py <= area.bottom:
+            peak = float(arrest["demand"])
+            colour = HOLDS if peak <= limit else FAILURE
+            canvas.circle((px, py), 11, colour, 3)
+            label = (f"ARRESTED  {arrest['time_s']:.2f} s  peak {display(peak, 'force', scene.units, '.0f')}"
+                     f" (limit {display(limit, 'force', scene.units, '.0f')})")
+            w, h = canvas_measure(label, ts, True)
+            box = layout.place(w + 12, h + 8, [(px + 20, py + 20), (px - 32 - w, py + 20), (px + 20, py - 30 - h),
+                                               (px - 32 - w, py - 30 - h)], area)
+            canvas.rect(box.x, box.y, box.w, box.h, PANEL)
+            canvas.rect(box.x, box.y, box.w, box.h, colour, width=2)
+            canvas.text((box.x + 6, box.y + 4), fit(label, ts, box.w - 12, bold=True), colour, ts, bold=True)
 
 
 def draw_failure_marker(canvas, playback, failure, cam: Camera, layout, area: Box) -> None:
