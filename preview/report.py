@@ -155,13 +155,16 @@ def factor_value(value: float, unit: str, system: str, measured: bool = True) ->
     if unit == "m":
         number, name = to_display(value, "length", system)
         return f"{floor_to(number) if measured else number:.2f} {name}"
+    if unit == "N":   # a force (an arrest's peak beside the limit on the body): what it was, not a margin
+        return display(value, "force", system, ".0f")
     return f"{floor_to(value) if measured else value:.2f}"
 
 
 def marginal_words(shortfalls: list[dict], system: str) -> str:
     """'balance margin 0.02 m, required 0.03 m; ...': which factor made an action marginal."""
-    return "; ".join(f"{s['margin']} {factor_value(s['value'], s['unit'], system)}, required "
-                     f"{factor_value(s['required'], s['unit'], system, False)}" for s in shortfalls)
+    return "; ".join(f"{s['margin']} {factor_value(s['value'], s['unit'], system)}, "
+                     + ("limit on the body " if s["unit"] == "N" else "required ")
+                     + factor_value(s["required"], s["unit"], system, False) for s in shortfalls)
 
 
 def required_words(factors: dict, system: str) -> str:

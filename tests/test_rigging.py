@@ -232,6 +232,19 @@ def test_an_arrest_in_the_air_matches_an_independent_integration():
     assert math.isnan(trajectory.events[Event.FALL]["time"])      # the arrest replaces the fall
 
 
+def test_an_arrest_with_no_failure_leaves_the_action_marginal_not_holding():
+    """Running off the end with nothing failing before it, the tether holds the body: the arrest is not a
+    failure, but the beat held only by its rigging, so the action is marginal and says why."""
+    scene = end_fall_scene()
+    trajectory = simulate(scene)
+    summary = summarise(scene, trajectory.events, trajectory.outcomes)
+    assert summary["first_failure"] is None
+    assert summary["verdict"] == "marginal"
+    because = summary["actions"][0]["marginal_because"]
+    assert because and because[-1]["margin"].startswith("arrested by its rigging")
+    assert because[-1]["value"] == pytest.approx(float(trajectory.tethers[0]["peak_force"]))
+
+
 # ------------------------------------------------------------- the table
 
 def test_running_line_anchor_load_from_statics():

@@ -6,7 +6,7 @@ import math
 
 from physics.engine.air_load import air_load, rotate
 from physics.engine.beat_state import Beat, State, failed, travel, with_mode
-from physics.engine.flight import (Flight, beside, crossing, inside_margin, kept_out_of_cars, land, on_the_ground,
+from physics.engine.flight import (ACROSS_REACH, Flight, beside, crossing, inside_margin, kept_out_of_cars, land, on_the_ground,
                                    rk4, rk4_tethered, take_off, touchdown_car)
 from physics.engine.frontal import held, level, roof_z_at
 from physics.engine.jit import apart, kernel, small
@@ -56,7 +56,9 @@ def flight_iteration(v, inputs, env, state, act, out):
         return touch_down(v, inputs, env, State(beat, state.slide, state.balance, fl, state.frontal), car, cross, act,
                           out)
     beat, new = check_fall(v, inputs, env, beat, fl, new, act, out)
-    new, unused = kept_out_of_cars(inputs.cars, fl, new)
+    # A tether pulls a body hanging beside a car against its side, shoulders and arms too: its centre
+    # of mass stays their reach out from the side, not half a body's depth.
+    new, unused = kept_out_of_cars(inputs.cars, fl, new, ACROSS_REACH if inputs.tethers.shape[0] > 0 else 0.0)
     if new.z + new.low_dz <= 0.0:
         # On the ground beside or between the cars: it stays where it came down, in the ground frame.
         if inputs.tethers.shape[0] > 0:

@@ -245,11 +245,12 @@ def inside_margin(cars, car, x):
 
 
 @kernel
-def kept_out_of_cars(cars, before, after):
+def kept_out_of_cars(cars, before, after, least_clear):
     """A body below a car's roof level cannot be inside that car: it meets the end wall it flew at
     and stops against it (no bounce); a body that has fallen past a roof's end goes down beside
-    that end; over the roof a touchdown has already taken it."""
-    clear = side_clearance(after)
+    that end; over the roof a touchdown has already taken it. least_clear: the least distance (m) its
+    centre of mass keeps from a car's side (0: side_clearance alone)."""
+    clear = max(side_clearance(after), least_clear)
     for i in range(cars.shape[0]):
         car = cars[i]
         if after.z + after.low_dz >= car.roof_height or beside(car, after.y - after.side * clear):
