@@ -126,6 +126,8 @@ def draw(canvas, playback, t: float, view, cam: EndCamera, layout, area: Box) ->
     draw_trail(canvas, tr, i, view, cam)
     if failed:
         draw_failure(canvas, playback, failure, cam, layout, area)
+    if scene.rigging and ahead == 0:
+        draw_tethers(canvas, playback, i, cam.turned(cant + roll), pose_camera(tr, i, cam), car, layout, area)
     draw_figure(canvas, tr, i, cam)
     draw_vectors(canvas, tr, i, view, cam)
     draw_side_words(canvas, cam, car, layout, area)
@@ -313,6 +315,38 @@ def screen_ends(tr, i: int, cam: EndCamera) -> np.ndarray:
     ends = tr.ends3(i)
     cam = pose_camera(tr, i, cam)
     return np.array([[cam.to_screen(p[1], p[2]) for p in seg] for seg in ends])
+
+
+def draw_tethers(canvas, playback, i: int, car_cam: EndCamera, pose: EndCamera, car, layout, area: Box) -> None:
+    """The tethers anchored on the car in the section, seen along the track: from the anchor (a running
+    line seen end-on, a ring) to the harness, coloured by tension against the limit on the body, the
+    tension beside it."""
+    from physics.rigging import harness_path
+    from physics.units import display
+    from preview.world import tether_colour
+    canvas.tag = "rigging"
+    tr, scene = playback.trajectory, playback.scene
+    harness = harness_path(tr)[i]
+    ts = max(label_size(canvas) - 1, 10)
+    for n, tether in enumerate(scene.rigging):
+        if scene.cars[tether.car] is not car:
+            continue
+        anchor = car_cam.to_screen(tether.anchor_y, tether.anchor_z)
+        canvas.circle(anchor, 5, CAR_EDGE, 2)
+        if not np.isfinite(harness).all():
+            continue
+        force = float(tr.record["tether_force"][i, n])
+        colour = tether_colour(force, scene.safety.arrest_force)
+        end = pose.to_screen(float(harness[1]), float(harness[2]))
+        canvas.line(anchor, end, colour, 3 if force > 0 else 1)
+        if force > 0.0:
+            label = display(force, "force", scene.units, ".0f")
+            w, h = canvas_measure(label, ts, True)
+            mx, my = 0.5 * (anchor[0] + end[0]), 0.5 * (anchor[1] + end[1])
+            box = layout.place(w + 8, h + 4, [(mx + 8, my - h / 2), (mx - 16 - w, my - h / 2),
+                                              (mx - w / 2, my - 14 - h), (mx - w / 2, my + 10)], area)
+            canvas.rect(box.x, box.y, box.w, box.h, PANEL)
+            canvas.text((box.x + 4, box.y + 2), label, colour, ts, bold=True)
 
 
 def draw_figure(canvas, tr, i: int, cam: EndCamera, ghost: bool = False) -> None:

@@ -420,8 +420,13 @@ def draw_rigging(canvas, playback, t: float, cam: Camera, layout, area: Box) -> 
         end = cam.to_screen(harness[0], harness[2])
         canvas.line(anchor, end, colour, 3 if force > 0 else 1)
         if force > 0.0:
-            mid = (0.5 * (anchor[0] + end[0]) + 8, 0.5 * (anchor[1] + end[1]))
-            canvas.text(mid, display(force, "force", scene.units, ".0f"), colour, ts, bold=True)
+            label = display(force, "force", scene.units, ".0f")
+            w, h = canvas_measure(label, ts, True)
+            mx, my = 0.5 * (anchor[0] + end[0]), 0.5 * (anchor[1] + end[1])
+            box = layout.place(w + 8, h + 4, [(mx + 8, my - h / 2), (mx - 16 - w, my - h / 2), (mx - w / 2, my - 14 - h),
+                                              (mx - w / 2, my + 10)], area)
+            canvas.rect(box.x, box.y, box.w, box.h, PANEL)
+            canvas.text((box.x + 4, box.y + 2), label, colour, ts, bold=True)
     arrest = next((e for e in playback.summary["events"] if e["kind"] == "arrested"), None)
     if arrest is not None and t >= arrest["time_s"] - 1e-9:
         j = tr.index_at(arrest["time_s"])
