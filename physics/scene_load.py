@@ -773,8 +773,8 @@ def _rigging(raw: dict, r: _Reader, cars: list[Car]) -> list[Tether]:
     out = []
     for n, (path, item) in enumerate(r.items(raw, "rigging", "", required=False), start=1):
         r.unknown(item, path, RIGGING_KEYS)
-        if len(out) + 1 > MAX_TETHERS:
-            r.fail(path, f"more than {MAX_TETHERS} tethers; roofbeat models at most {MAX_TETHERS}")
+        if n > MAX_TETHERS:
+            r.fail(path, f"a tether more than the {MAX_TETHERS} roofbeat models; give at most {MAX_TETHERS}")
             break
         name = r.text(item, "name", path, default=f"tether {n}")
         car = r.number(item, "car", path, integer=True, minimum=1, maximum=max(1, len(cars)))
