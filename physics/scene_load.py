@@ -311,6 +311,8 @@ def _build(raw: dict, r: _Reader, source: str) -> Scene | None:
     sections = _track(raw, r)
     ride = _ride(r.table(raw, "ride", "", required=False), r)
     rigging = _rigging(raw, r, cars)
+    if rigging and performer and rate:
+        _rigging_fits(r, rigging, performer.mass, start_x, start_y, rate)
     consist = raw.get("consist") if isinstance(raw.get("consist"), dict) else {}
     flexibility = r.number(consist, "flexibility", "consist", default=DEFAULT_FLEXIBILITY, minimum=0.0, maximum=1.0)
     if actions and rate:
@@ -760,6 +762,32 @@ def _lines(raw: dict, r: _Reader) -> list[Line]:
             out.append(Line(start, end, height, exclusion))
     return out
 
+
+
+# The most a tether's natural frequency times the engine step may be: a stiffer tether is resolved too
+# coarsely by the fixed step (its peak force off by more than about a per cent), so it is refused.
+TETHER_STEP_LIMIT = 0.25
+
+
+def _rigging_fits(r: _Reader, rigging: list[Tether], mass: float, start_x: float, start_y: float,
+                  rate: float) -> None:
+    """Each tether must reach the performer where they start (not stretched before the beat begins), and be
+    soft enough for the engine step to follow its stretch."""
+    for n, t in enumerate(rigging, start=1):
+        path = f"rigging[{n}]"
+        ring = min(max(start_x, t.line_x0), t.line_x1)
+        flat = math.hypot(start_x - ring, start_y - t.anchor_y)
+        if flat > t.length + t.max_extension:
+            r.fail(f"{path}.length", f"{t.length:g} m does not reach the performer's start, {flat:.2f} m from its "
+                                     "anchor along the roof: the tether would be stretched before the beat begins",
+                   also="start.position")
+        omega_dt = math.sqrt(t.stiffness / mass) / rate
+        if omega_dt > TETHER_STEP_LIMIT:
+            need = math.sqrt(t.stiffness / mass) / TETHER_STEP_LIMIT
+            r.fail(f"{path}.stiffness" if not t.material else f"{path}.length",
+                   f"a tether of {t.stiffness / 1000:g} kN/m on a {mass:g} kg performer is too stiff for the engine "
+                   f"step at {rate:g} Hz; give [simulation] rate = \"{math.ceil(need / 10) * 10:g} Hz\" or more "
+                   f"(at most 2000 Hz), or a softer tether")
 
 
 RIGGING_KEYS = ("name", "car", "from", "position", "line", "offset", "height", "length", "stiffness", "material",

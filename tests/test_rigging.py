@@ -258,11 +258,17 @@ def test_running_line_anchor_load_from_statics():
 
 
 def test_restraint_or_arrest_is_geometry():
-    scene = slide_scene(length="0.6 m")
-    restraint = reach(scene, scene.rigging[0], 1.0)
+    def scene(length):
+        rig = f'[[rigging]]\ncar = 1\nposition = "10.3 m"\nlength = "{length}"\nstiffness = "20 kN/m"\n'
+        return parse_scene(scene_text(cars=[FLAT], extra=rig), "<test>")
+    short = scene("0.6 m")
+    restraint = reach(short, short.rigging[0], 1.0)
     assert restraint["role"] == "restraint" and not restraint["reachable"]
-    long = reach(slide_scene(length="3 m"), slide_scene(length="3 m").rigging[0], 1.0)
-    assert long["role"] == "arrest" and set(long["reachable"]) == {"left side edge", "right side edge"}
+    full = 0.6 + 75 * G / 20_000        # length and stretch under the weight; the anchor 0.15 m below a lying harness
+    assert restraint["margins_m"]["left side edge"] == pytest.approx(1.4 - math.sqrt(full ** 2 - 0.15 ** 2))
+    longer = scene("3 m")
+    arrest = reach(longer, longer.rigging[0], 1.0)
+    assert arrest["role"] == "arrest" and set(arrest["reachable"]) == {"left side edge", "right side edge"}
 
 
 def test_summary_numbers_are_the_runs():
@@ -321,6 +327,19 @@ def test_bad_rigging_is_named_by_its_key(rig, path, words):
         parse_scene(scene_text(extra="[[rigging]]\n" + rig), "<test>")
     rendered = info.value.render()
     assert f": {path}: " in rendered and words in rendered
+
+
+def test_a_tether_stretched_at_the_start_or_too_stiff_for_the_step_is_refused():
+    far = scene_text(extra='[[rigging]]\ncar = 1\nposition = "16 m"\nlength = "2 m"\nstiffness = "20 kN/m"\n')
+    with pytest.raises(SceneError) as info:
+        parse_scene(far, "<test>")
+    assert "rigging[1].length: 2 m does not reach the performer's start, 6.00 m" in info.value.render()
+    stiff = scene_text(extra='[[rigging]]\ncar = 1\nposition = "11 m"\nlength = "2 m"\nstiffness = "5000 kN/m"\n')
+    with pytest.raises(SceneError) as info:
+        parse_scene(stiff, "<test>")
+    assert "rigging[1].stiffness" in info.value.render() and "rate" in info.value.render()
+    # The same tether at a step fine enough is accepted.
+    parse_scene(stiff + '[simulation]\nrate = "2000 Hz"\n', "<test>")
 
 
 def test_bad_rigging_exits_with_a_message_not_a_traceback(tmp_path, capsys):
