@@ -49,8 +49,8 @@ CHECKLIST = [
 INK, SOFT, RULE = "#2b3138", "#5f656c", "#c9c6bf"
 FAIL_INK = "#d1495b"   # palette.FAILURE
 NOT_MODELLED = ("Not modelled: the air's slow-down over the roof; limbs posed sideways (the figure is one plane); "
-                "the ground beside the track (taken level at rail height); rigging; injury. See physics/README.md, "
-                "\"Not modelled\".")
+                "the ground beside the track (taken level at rail height); a tether's pull on the balance, and a "
+                "tether running over a roof edge; injury. See physics/README.md, \"Not modelled\" and \"Rigging\".")
 BODY = 8.0        # pt, the pages' body text
 ROW = 0.17        # in, a table row
 
