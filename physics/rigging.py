@@ -22,6 +22,16 @@ LYING_HARNESS = 0.15   # m above the roof: a harness at the centre of mass of a 
 EDGE_WORDS = ("left side edge", "right side edge", "front end", "rear end")
 
 
+def anchor_load(tether, x: float, force: float) -> float:
+    """The most loaded anchor's load (N) for tension `force` with the harness at car-frame x: the kernel's
+    rule (engine.tether.anchor_load) for the pictures, which have only the recorded tension."""
+    if not tether.running:
+        return force
+    span = tether.line_x1 - tether.line_x0
+    a = min(max(x, tether.line_x0), tether.line_x1) - tether.line_x0
+    return math.hypot(force * span / (4.0 * tether.sag), force * max(a, span - a) / span)
+
+
 def harness_path(trajectory) -> np.ndarray:
     """(T, 3) the harness as the kernel measures the tethers to it, car frame (m)."""
     rec, postures = trajectory.record, trajectory.timeline.postures
@@ -150,4 +160,4 @@ def _limits(safety, row) -> list[dict]:
     return out
 
 
-__all__ = ["LIMIT_SOURCES", "harness_path", "reach", "rigging_summary", "where_hanging"]
+__all__ = ["LIMIT_SOURCES", "anchor_load", "harness_path", "reach", "rigging_summary", "where_hanging"]

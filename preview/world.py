@@ -394,7 +394,7 @@ def draw_rigging(canvas, playback, t: float, cam: Camera, layout, area: Box) -> 
     """Each tether from its anchor (a running line drawn with its end anchors, the ring where the tether
     leaves it) to the harness, coloured by its tension against the limit, with the tension written
     beside it; once a tether has arrested the body, a marker where it did with the peak force."""
-    from physics.rigging import harness_path
+    from physics.rigging import anchor_load, harness_path
     from physics.units import display
     canvas.tag = "rigging"
     tr = playback.trajectory
@@ -406,10 +406,21 @@ def draw_rigging(canvas, playback, t: float, cam: Camera, layout, area: Box) -> 
     for n, tether in enumerate(scene.rigging):
         z = tether.anchor_z
         if tether.running:
+            # The line and its end anchors coloured by the end anchors' load against their limit.
+            load = anchor_load(tether, float(harness[0]), float(tr.record["tether_force"][i, n])) \
+                if np.isfinite(harness[0]) else 0.0
+            ink = CAR_EDGE if load <= 0.0 else tether_colour(load, scene.safety.anchor_load)
             a, b = cam.to_screen(tether.line_x0, z), cam.to_screen(tether.line_x1, z)
-            canvas.line(a, b, CAR_EDGE, 2)
+            canvas.line(a, b, ink, 2 if load <= 0.0 else 3)
             for end in (a, b):
-                canvas.rect(end[0] - 4, end[1] - 4, 8, 8, CAR_EDGE)
+                canvas.rect(end[0] - 4, end[1] - 4, 8, 8, ink)
+            if load > 0.0:
+                words = f"end anchor {display(load, 'force', scene.units, '.0f')}"
+                w, h = canvas_measure(words, ts, True)
+                box = layout.place(w + 8, h + 4, [(b[0] - w / 2, b[1] - 16 - h), (a[0] - w / 2, a[1] - 16 - h),
+                                                  (b[0] + 10, b[1] - h / 2)], area)
+                canvas.rect(box.x, box.y, box.w, box.h, PANEL)
+                canvas.text((box.x + 4, box.y + 2), words, ink, ts, bold=True)
         anchor = cam.to_screen(min(max(harness[0], tether.line_x0), tether.line_x1) if np.isfinite(harness[0])
                                else tether.anchor_x, z)
         canvas.circle(anchor, 5, CAR_EDGE, 2)

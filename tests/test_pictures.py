@@ -386,3 +386,16 @@ def test_tethers_are_drawn_with_their_tension_and_an_arrest_with_its_peak(playba
     i = pb.trajectory.index_at(arrest["time_s"] + 0.05)
     force = float(pb.trajectory.record["tether_force"][i, 0])
     assert force > 0 and f"{force:.0f} N" in words
+
+
+def test_a_running_line_over_its_anchor_limit_is_drawn_in_the_failure_colour(playbacks):
+    from preview.palette import FAILURE
+    pb = playbacks["tethered_edge_fall_overload"]
+    overload = next(e for e in pb.summary["events"] if e["kind"] == "anchor overload")
+    tr = pb.trajectory
+    i = int(np.argmax(tr.record["tether_force"][:, 0]))         # the arrest's peak: the anchors far over
+    canvas = drawn(pb, float(tr.times[i]), ViewSettings(frame="car"), (1280, 720))
+    colours = [colour for kind, _, colour, tag in canvas.calls if kind == "line" and tag == "rigging"]
+    assert overload["demand"] > pb.scene.safety.anchor_load and FAILURE in colours
+    calm = drawn(pb, 0.3, ViewSettings(frame="car"), (1280, 720))
+    assert FAILURE not in [colour for kind, _, colour, tag in calm.calls if kind == "line" and tag == "rigging"]

@@ -255,6 +255,12 @@ def test_running_line_anchor_load_from_statics():
     with plain_python():
         assert tether.anchor_load(t, -5.0, 1000.0) == pytest.approx(math.hypot(1000 * 10 / 2.0, 500.0))
         assert tether.anchor_load(t, -2.0, 1000.0) == pytest.approx(math.hypot(5000.0, 800.0))
+        kernel = [tether.anchor_load(t, x, 1000.0) for x in (-12.0, -10.0, -7.5, -5.0, -1.0, 0.0, 3.0)]
+    # The pictures' copy of the rule gives the kernel's numbers.
+    from physics.rigging import anchor_load
+    from physics.scene import Tether
+    line = Tether("line", 0, -10.0, 0.0, 1.0, 0.0, True, -10.0, 0.0, 1.0, 1.0, "", 0.0, math.inf, 0.0, 0.5)
+    assert [anchor_load(line, x, 1000.0) for x in (-12.0, -10.0, -7.5, -5.0, -1.0, 0.0, 3.0)] == pytest.approx(kernel)
 
 
 def test_restraint_or_arrest_is_geometry():
