@@ -323,7 +323,7 @@ def draw_tethers(canvas, playback, i: int, car_cam: EndCamera, pose: EndCamera, 
     tension beside it."""
     from physics.rigging import harness_path
     from physics.units import display
-    from preview.world import tether_colour
+    from preview.world import small_label, tether_colour
     canvas.tag = "rigging"
     tr, scene = playback.trajectory, playback.scene
     harness = harness_path(tr)[i]
@@ -340,13 +340,11 @@ def draw_tethers(canvas, playback, i: int, car_cam: EndCamera, pose: EndCamera, 
         end = pose.to_screen(float(harness[1]), float(harness[2]))
         canvas.line(anchor, end, colour, 3 if force > 0 else 1)
         if force > 0.0:
-            label = display(force, "force", scene.units, ".0f")
-            w, h = canvas_measure(label, ts, True)
-            mx, my = 0.5 * (anchor[0] + end[0]), 0.5 * (anchor[1] + end[1])
-            box = layout.place(w + 8, h + 4, [(mx + 8, my - h / 2), (mx - 16 - w, my - h / 2),
-                                              (mx - w / 2, my - 14 - h), (mx - w / 2, my + 10)], area)
-            canvas.rect(box.x, box.y, box.w, box.h, PANEL)
-            canvas.text((box.x + 4, box.y + 2), label, colour, ts, bold=True)
+            # Beside the tether, from its middle toward its anchor: the first free place.
+            along = [(anchor[0] + f * (end[0] - anchor[0]), anchor[1] + f * (end[1] - anchor[1]))
+                     for f in (0.5, 0.35, 0.2, 0.0)]
+            small_label(canvas, layout, area, display(force, "force", scene.units, ".0f"), colour, ts,
+                        [(x + dx, y + dy) for x, y in along for dx, dy in ((8, 0), (-8, 0), (0, -12), (0, 12))])
 
 
 def draw_figure(canvas, tr, i: int, cam: EndCamera, ghost: bool = False) -> None:

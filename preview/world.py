@@ -47,13 +47,13 @@ def draw_view(canvas, playback, t: float, view, cam: Camera, layout, area: Box) 
     draw_consist(canvas, scene, cam)
     draw_jumps(canvas, playback, t, cam, layout, area)
     draw_trail(canvas, tr, i, view, cam)
-    if scene.rigging:
-        draw_rigging(canvas, playback, t, cam, layout, area)
     if failed:
         # Under the figure: the body as it is now stays in sight over the marker of where it failed.
         draw_failure_marker(canvas, playback, failure, cam, layout, area)
         draw_figure(canvas, tr, tr.index_at(failure["time_s"]), cam, ghost=True,
                     pinned=failure["kind"] in GROUND_FIXED)
+    if scene.rigging:   # after the failure's callout, which keeps its place; under the figure
+        draw_rigging(canvas, playback, t, cam, layout, area)
     draw_figure(canvas, tr, i, cam)
     draw_vectors(canvas, tr, i, view, cam)
     draw_structure_labels(canvas, scene, cam, layout, area)
@@ -390,6 +390,22 @@ def tether_colour(force: float, limit: float):
     return MARGINAL if force <= limit else FAILURE
 
 
+def small_label(canvas, layout, area: Box, words: str, colour, size: int, near) -> None:
+    """A short label on a panel at the first free place near one of the points `near` (beside, above or
+    below it); left out when none is free: the colour of what it labels still says it."""
+    w, h = canvas_measure(words, size, True)
+    w, h = w + 8, h + 4
+    for px, py in near:
+        for x, y in ((px, py - h / 2), (px - w, py - h / 2), (px - w / 2, py - h), (px - w / 2, py)):
+            box = Box(x, y, w, h)
+            if area.x <= box.x and box.right <= area.right and area.y <= box.y and box.bottom <= area.bottom \
+                    and layout.free(box):
+                layout.reserve(box)
+                canvas.rect(box.x, box.y, box.w, box.h, PANEL)
+                canvas.text((box.x + 4, box.y + 2), words, colour, size, bold=True)
+                return
+
+
 def draw_rigging(canvas, playback, t: float, cam: Camera, layout, area: Box) -> None:
     """Each tether from its anchor (a running line drawn with its end anchors, the ring where the tether
     leaves it) to the harness, coloured by its tension against the limit, with the tension written
@@ -415,12 +431,8 @@ def draw_rigging(canvas, playback, t: float, cam: Camera, layout, area: Box) -> 
             for end in (a, b):
                 canvas.rect(end[0] - 4, end[1] - 4, 8, 8, ink)
             if load > 0.0:
-                words = f"end anchor {display(load, 'force', scene.units, '.0f')}"
-                w, h = canvas_measure(words, ts, True)
-                box = layout.place(w + 8, h + 4, [(b[0] - w / 2, b[1] - 16 - h), (a[0] - w / 2, a[1] - 16 - h),
-                                                  (b[0] + 10, b[1] - h / 2)], area)
-                canvas.rect(box.x, box.y, box.w, box.h, PANEL)
-                canvas.text((box.x + 4, box.y + 2), words, ink, ts, bold=True)
+                small_label(canvas, layout, area, f"end anchor {display(load, 'force', scene.units, '.0f')}", ink,
+                            ts, [(b[0], b[1] - 16), (a[0], a[1] - 16), (b[0] + 10, b[1])])
         anchor = cam.to_screen(min(max(harness[0], tether.line_x0), tether.line_x1) if np.isfinite(harness[0])
                                else tether.anchor_x, z)
         canvas.circle(anchor, 5, CAR_EDGE, 2)
@@ -431,13 +443,11 @@ def draw_rigging(canvas, playback, t: float, cam: Camera, layout, area: Box) -> 
         end = cam.to_screen(harness[0], harness[2])
         canvas.line(anchor, end, colour, 3 if force > 0 else 1)
         if force > 0.0:
-            label = display(force, "force", scene.units, ".0f")
-            w, h = canvas_measure(label, ts, True)
-            mx, my = 0.5 * (anchor[0] + end[0]), 0.5 * (anchor[1] + end[1])
-            box = layout.place(w + 8, h + 4, [(mx + 8, my - h / 2), (mx - 16 - w, my - h / 2), (mx - w / 2, my - 14 - h),
-                                              (mx - w / 2, my + 10)], area)
-            canvas.rect(box.x, box.y, box.w, box.h, PANEL)
-            canvas.text((box.x + 4, box.y + 2), label, colour, ts, bold=True)
+            # Beside the tether, from its middle toward its anchor: the first free place.
+            along = [(anchor[0] + f * (end[0] - anchor[0]), anchor[1] + f * (end[1] - anchor[1]))
+                     for f in (0.5, 0.35, 0.2, 0.0)]
+            small_label(canvas, layout, area, display(force, "force", scene.units, ".0f"), colour, ts,
+                        [(x + dx, y + dy) for x, y in along for dx, dy in ((8, 0), (-8, 0), (0, -12), (0, 12))])
     arrest = next((e for e in playback.summary["events"] if e["kind"] == "arrested"), None)
     if arrest is not None and t >= arrest["time_s"] - 1e-9:
         j = tr.index_at(arrest["time_s"])
