@@ -52,13 +52,15 @@ def draw_view(canvas, playback, t: float, view, cam: Camera, layout, area: Box) 
         draw_failure_marker(canvas, playback, failure, cam, layout, area)
         draw_figure(canvas, tr, tr.index_at(failure["time_s"]), cam, ghost=True,
                     pinned=failure["kind"] in GROUND_FIXED)
-    if scene.rigging:   # after the failure's callout, which keeps its place; under the figure
-        draw_rigging(canvas, playback, t, cam, layout, area)
+    if scene.rigging:   # under the figure; their labels last, in the places the others leave free
+        draw_rigging(canvas, playback, t, cam, layout, area, labels=False)
     draw_figure(canvas, tr, i, cam)
     draw_vectors(canvas, tr, i, view, cam)
     draw_structure_labels(canvas, scene, cam, layout, area)
     if cam.frame == GROUND:
         draw_drift(canvas, tr, i, cam, layout, area)
+    if scene.rigging:
+        draw_rigging(canvas, playback, t, cam, layout, area, labels=True)
 
 
 def keep_clear(layout, tr, i: int, cam: Camera, view) -> None:
@@ -406,10 +408,11 @@ def small_label(canvas, layout, area: Box, words: str, colour, size: int, near) 
                 return
 
 
-def draw_rigging(canvas, playback, t: float, cam: Camera, layout, area: Box) -> None:
+def draw_rigging(canvas, playback, t: float, cam: Camera, layout, area: Box, labels: bool) -> None:
     """Each tether from its anchor (a running line drawn with its end anchors, the ring where the tether
-    leaves it) to the harness, coloured by its tension against the limit, with the tension written
-    beside it; once a tether has arrested the body, a marker where it did with the peak force."""
+    leaves it) to the harness, coloured by its tension against the limit; once a tether has arrested the
+    body, a ring where it did. With `labels` only the words: the tension and a running line's end-anchor
+    load beside them, and the arrest with its peak force, each where a free place is (else left out)."""
     from physics.rigging import anchor_load, harness_path
     from physics.units import display
     canvas.tag = "rigging"
@@ -427,22 +430,25 @@ def draw_rigging(canvas, playback, t: float, cam: Camera, layout, area: Box) -> 
                 if np.isfinite(harness[0]) else 0.0
             ink = CAR_EDGE if load <= 0.0 else tether_colour(load, scene.safety.anchor_load)
             a, b = cam.to_screen(tether.line_x0, z), cam.to_screen(tether.line_x1, z)
-            canvas.line(a, b, ink, 2 if load <= 0.0 else 3)
-            for end in (a, b):
-                canvas.rect(end[0] - 4, end[1] - 4, 8, 8, ink)
-            if load > 0.0:
+            if not labels:
+                canvas.line(a, b, ink, 2 if load <= 0.0 else 3)
+                for end in (a, b):
+                    canvas.rect(end[0] - 4, end[1] - 4, 8, 8, ink)
+            elif load > 0.0:
                 small_label(canvas, layout, area, f"end anchor {display(load, 'force', scene.units, '.0f')}", ink,
                             ts, [(b[0], b[1] - 16), (a[0], a[1] - 16), (b[0] + 10, b[1])])
         anchor = cam.to_screen(min(max(harness[0], tether.line_x0), tether.line_x1) if np.isfinite(harness[0])
                                else tether.anchor_x, z)
-        canvas.circle(anchor, 5, CAR_EDGE, 2)
+        if not labels:
+            canvas.circle(anchor, 5, CAR_EDGE, 2)
         if not np.isfinite(harness).all():
             continue
         force = float(tr.record["tether_force"][i, n])
         colour = tether_colour(force, limit)
         end = cam.to_screen(harness[0], harness[2])
-        canvas.line(anchor, end, colour, 3 if force > 0 else 1)
-        if force > 0.0:
+        if not labels:
+            canvas.line(anchor, end, colour, 3 if force > 0 else 1)
+        elif force > 0.0:
             # Beside the tether, from its middle toward its anchor: the first free place.
             along = [(anchor[0] + f * (end[0] - anchor[0]), anchor[1] + f * (end[1] - anchor[1]))
                      for f in (0.5, 0.35, 0.2, 0.0)]
@@ -455,12 +461,20 @@ def draw_rigging(canvas, playback, t: float, cam: Camera, layout, area: Box) -> 
         if area.x <= px <= area.right and area.y <= py <= area.bottom:
             peak = float(arrest["demand"])
             colour = HOLDS if peak <= limit else FAILURE
-            canvas.circle((px, py), 11, colour, 3)
+            if not labels:
+                canvas.circle((px, py), 11, colour, 3)
+                return
             label = (f"ARRESTED  {arrest['time_s']:.2f} s  peak {display(peak, 'force', scene.units, '.0f')}"
                      f" (limit {display(limit, 'force', scene.units, '.0f')})")
             w, h = canvas_measure(label, ts, True)
-            box = layout.place(w + 12, h + 8, [(px + 20, py + 20), (px - 32 - w, py + 20), (px + 20, py - 30 - h),
-                                               (px - 32 - w, py - 30 - h)], area)
+            spots = [(px + 20, py + 20), (px - 32 - w, py + 20), (px + 20, py - 30 - h), (px - 32 - w, py - 30 - h)]
+            free = [b for b in (Box(x, y, w + 12, h + 8).clamped(area) for x, y in spots) if layout.free(b)]
+            if not free:   # nowhere free nearby (a crowded small view): the nearest free place, else no label
+                free = sorted((b for b in layout._grid(w + 12, h + 8, area) if layout.free(b)),
+                              key=lambda b: (b.x - px) ** 2 + (b.y - py) ** 2)[:1]
+            if not free:
+                return
+            box = layout.reserve(free[0])
             canvas.rect(box.x, box.y, box.w, box.h, PANEL)
             canvas.rect(box.x, box.y, box.w, box.h, colour, width=2)
             canvas.text((box.x + 6, box.y + 4), fit(label, ts, box.w - 12, bold=True), colour, ts, bold=True)
