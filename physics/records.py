@@ -57,6 +57,9 @@ class Event(IntEnum):
     TAKEOFF = 9
     TOUCHDOWN = 10
     OFF_SIDE = 11
+    ARRESTED = 12          # a tether stopped a body going away from its anchor (not a failure)
+    ANCHOR_OVERLOAD = 13   # an anchor's load passed its limit
+    BODY_FORCE = 14        # the tethers' pull on the body passed the arrest-force limit
 
 
 # Plain words shown to people, and which kinds are failures. A failure ends the
@@ -66,10 +69,11 @@ EVENT_WORDS = {
     Event.STRIKE: "strike", Event.LINE: "line", Event.HARD_LANDING: "hard landing",
     Event.MISSED_LANDING: "missed landing", Event.RECOVERY_STEP: "recovery step",
     Event.TAKEOFF: "take-off", Event.TOUCHDOWN: "touchdown",
-    Event.OFF_SIDE: "off the side",
+    Event.OFF_SIDE: "off the side", Event.ARRESTED: "arrested", Event.ANCHOR_OVERLOAD: "anchor overload",
+    Event.BODY_FORCE: "body arrest force over limit",
 }
 FAILURES = (Event.SLIP, Event.TOPPLE, Event.LIFT, Event.FALL, Event.STRIKE, Event.LINE, Event.HARD_LANDING,
-            Event.MISSED_LANDING, Event.OFF_SIDE)
+            Event.MISSED_LANDING, Event.OFF_SIDE, Event.ANCHOR_OVERLOAD, Event.BODY_FORCE)
 N_EVENTS = len(Event)
 
 # ---------------------------------------------------------------- per variant
@@ -179,7 +183,25 @@ BODY = np.dtype([
     ("lying_row", "i8"),                      # posture row of the body lying on the ground after a fall
 ])
 
-Inputs = namedtuple("Inputs", "steps postures actions cars structures lines body track airflow")
+# A tether from an anchor (or a running line's ring) to the harness, taken at the body's centre of
+# mass. A point anchor has line_x0 == line_x1 == anchor_x; a running line runs from line_x0 to line_x1
+# (line_x0 < line_x1) at (anchor_y, anchor_z) and its ring slides freely along it. Car frame, SI.
+MAX_TETHERS = 4
+TETHER = np.dtype([
+    ("anchor_x", "f8"), ("anchor_y", "f8"), ("anchor_z", "f8"),   # anchor (or the line's) position, m
+    ("line_x0", "f8"), ("line_x1", "f8"),  # a running line's ends along the track, m (equal: a point anchor)
+    ("running", "u1"),                     # 1: a running line
+    ("length", "f8"),                      # unstretched tether length, m
+    ("stiffness", "f8"),                   # N/m
+    ("damping_ratio", "f8"),               # of the tether with the body's mass on it
+    ("deploy_force", "f8"),                # energy absorber deploys above this force, N (inf: none)
+    ("max_extension", "f8"),               # absorber pays out at most this, m (0: none)
+    ("sag", "f8"),                         # a running line's sag at mid-span under the load, m
+    ("body_limit", "f8"),                  # arrest force on the body the scene allows, N
+    ("anchor_limit", "f8"),                # load an anchor may take, N
+])
+
+Inputs = namedtuple("Inputs", "steps postures actions cars structures lines body track airflow tethers")
 
 # -------------------------------------------------------------------- outputs
 EVENT = np.dtype([
@@ -191,6 +213,16 @@ EVENT = np.dtype([
     ("available", "f8"),
     ("target_car", "i8"),         # a missed landing: the car declared for it; else -1
     ("side", "i8"),               # toward which side: +1 left, -1 right, 0 along the track
+])
+
+# Per variant and tether: the absorber's state and the run's peaks, written as the run goes.
+TETHER_OUT = np.dtype([
+    ("paid", "f8"),               # absorber pay-out so far, m
+    ("rate", "f8"),               # stretch rate at the last step, m/s (to find an arrest)
+    ("peak_force", "f8"),         # highest tether force, N
+    ("peak_anchor", "f8"),        # highest anchor load, N (a running line: its end anchor's)
+    ("peak_time", "f8"),          # when the tether force peaked, s (NaN: never taut)
+    ("taut_time", "f8"),          # first time the tether went taut, s (NaN: never)
 ])
 
 # Per action: extremes of the margins while the beat is assessed, and the
@@ -266,6 +298,8 @@ RECORD = np.dtype([
     ("flow_gain", "f8"),          # speed-up over a streamlined lead front (1: none)
     ("flow_zone", "f8"),          # height of a low-speed zone under the body, m (0: none)
     ("flow_base", "f8"),          # height of the posture's pivot above that roof, m
+    ("tether_force", "f8", (MAX_TETHERS,)),   # each tether's tension, N (0 slack)
+    ("tether_paid", "f8", (MAX_TETHERS,)),    # each absorber's pay-out so far, m
 ])
 
 
@@ -276,6 +310,13 @@ def empty_outcomes(batch: int, actions: int) -> np.ndarray:
     for name in OUTCOME_TIMES:
         out[name] = np.nan
     out["touchdown_car"] = -1
+    return out
+
+
+def empty_tether_out(batch: int, tethers: int) -> np.ndarray:
+    out = np.zeros((batch, tethers), TETHER_OUT)
+    out["peak_time"] = np.nan
+    out["taut_time"] = np.nan
     return out
 
 

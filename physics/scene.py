@@ -154,6 +154,38 @@ class Safety:
     landing_margin: float
     clearance: float
     edge_margin: float = 0.5   # m from the support to the nearer side edge (roofbeat's default, not a standard)
+    # Rigging limits (physics.rigging.LIMIT_SOURCES names the source of each default):
+    arrest_force: float = 8000.0           # N on the body
+    anchor_load: float = 22240.0           # N per anchor, per person
+    free_fall: float = 1.8                 # m
+    deceleration_distance: float = 1.07    # m
+
+
+@dataclass(frozen=True)
+class Tether:
+    """A tether from a point anchor or a running line's ring to the harness (the body's centre of mass);
+    car frame, SI. A point anchor has line_x0 == line_x1 == anchor_x."""
+
+    name: str
+    car: int                 # 0-based
+    anchor_x: float
+    anchor_y: float          # + left
+    anchor_z: float          # above rail
+    height: float            # the anchor (or line) above the roof there, m
+    running: bool
+    line_x0: float
+    line_x1: float
+    length: float
+    stiffness: float         # N/m
+    material: str            # "" when the stiffness is given
+    damping_ratio: float
+    deploy_force: float      # N (inf: no absorber)
+    max_extension: float     # m (0: no absorber)
+    sag: float               # a running line's sag at mid-span under load, m (0 for a point anchor)
+
+    @property
+    def absorber(self) -> bool:
+        return self.max_extension > 0.0
 
 
 @dataclass(frozen=True)
@@ -179,6 +211,7 @@ class Scene:
     ride: object = None   # physics.track.Ride or None (no ride vibration)
     flexibility: float = 0.25  # the car bodies' roll per unit of cant deficiency (physics.track.DEFAULT_FLEXIBILITY)
     speed_log: object = None   # physics.speed_log.SpeedLog when the speed comes from a measured log
+    rigging: tuple = ()        # Tether, in the scene's order
     raw: dict = field(default_factory=dict, compare=False, repr=False)
     # Spread (SI, +/-) of values written with an uncertainty, by sweep parameter
     # name (speed, wind_speed, mass, drag_area, reaction_time) or, for a car's

@@ -15,14 +15,16 @@ from physics import G
 from physics import air as air_model
 from physics.consist import DEFAULT_JERK, distance_travelled
 from physics.roof_air import LEAD_FRONTS, RoofFlow
+from physics.rigging_table import DEFAULT_DAMPING, DEFAULT_SAG_FRACTION, LIMIT_DEFAULTS, MATERIALS
 from physics.scene import (CAR_KINDS, ROAD_KINDS, Action, Air, Car, Gust, Keyframe, Line, Performer,
-                           Safety, Scene, Structure, Turbulence)
+                           Safety, Scene, Structure, Tether, Turbulence)
 from physics.scene_file import key_lines, parse_toml, read_text
 from physics.scene_overrides import apply_overrides, origin_of
 from physics.scene_problems import Problem, SceneError
 from physics.speed_log import DEFAULT_MAX_GAP, DEFAULT_SMOOTHING, LogError, read_log, unit_factor
 from physics.surfaces import SURFACES
 from physics.track import DEFAULT_FLEXIBILITY, RIDE_BAND, RIDE_LEVELS, STANDARD_GAUGE, Ride, TrackSection
+from physics.records import MAX_TETHERS
 from physics.units import QuantityError, parse_quantity, parse_uncertain
 
 # Roof across the car when the scene does not say (from memory): a rail car body is about 2.8 m
@@ -284,7 +286,7 @@ def parse_scene(text: str, source: str, overrides: list[str] | None = None) -> S
 
 def _build(raw: dict, r: _Reader, source: str) -> Scene | None:
     r.unknown(raw, "", ("title", "units", "frame_rate", "consist", "motion", "air", "performer", "start",
-                        "actions", "safety", "simulation", "structures", "lines", "track", "ride"))
+                        "actions", "safety", "simulation", "structures", "lines", "track", "ride", "rigging"))
     title = r.text(raw, "title", "")
     units = r.choice(raw, "units", "", ("metric", "imperial"), default="metric")
     frame_rate = r.number(raw, "frame_rate", "", default=24, integer=True, minimum=1, maximum=120)
@@ -309,6 +311,9 @@ def _build(raw: dict, r: _Reader, source: str) -> Scene | None:
     lines = _lines(raw, r)
     sections = _track(raw, r)
     ride = _ride(r.table(raw, "ride", "", required=False), r)
+    rigging = _rigging(raw, r, cars)
+    if rigging and performer and rate:
+        _rigging_fits(r, rigging, performer.mass, start_x, start_y, rate)
     consist = raw.get("consist") if isinstance(raw.get("consist"), dict) else {}
     flexibility = r.number(consist, "flexibility", "consist", default=DEFAULT_FLEXIBILITY, minimum=0.0, maximum=1.0)
     if actions and rate:
@@ -317,7 +322,7 @@ def _build(raw: dict, r: _Reader, source: str) -> Scene | None:
         return None
     return Scene(title, source, units, frame_rate, tuple(cars), tuple(keyframes), air, performer, start_x,
                  start_car, tuple(actions), safety, 1.0 / rate, tuple(structures), tuple(lines), jerk, start_y,
-                 tuple(sections), ride, flexibility, speed_log, raw, dict(r.uncertain))
+                 tuple(sections), ride, flexibility, speed_log, tuple(rigging), raw, dict(r.uncertain))
 
 
 MAX_ACTIONS = 200
@@ -652,7 +657,8 @@ def _jump(item: dict, path: str, r: _Reader, cars: list[Car], performer: Perform
 
 def _safety(data: dict, r: _Reader) -> Safety:
     p = "safety"
-    r.unknown(data, p, ("grip_ratio", "balance_margin", "lift_ratio", "landing_margin", "clearance", "edge_margin"))
+    r.unknown(data, p, ("grip_ratio", "balance_margin", "lift_ratio", "landing_margin", "clearance", "edge_margin",
+                        "arrest_force", "anchor_load", "free_fall", "deceleration_distance"))
     return Safety(
         r.number(data, "grip_ratio", p, default=1.3, minimum=1.0, maximum=5.0),
         r.quantity(data, "balance_margin", p, "length", default=0.03, minimum=0.0, maximum=0.5),
@@ -660,6 +666,13 @@ def _safety(data: dict, r: _Reader) -> Safety:
         r.quantity(data, "landing_margin", p, "length", default=0.5, minimum=0.0, maximum=5.0),
         r.quantity(data, "clearance", p, "length", default=0.5, minimum=0.0, maximum=5.0),
         r.quantity(data, "edge_margin", p, "length", default=0.5, minimum=0.0, maximum=2.0),
+        r.quantity(data, "arrest_force", p, "force", default=LIMIT_DEFAULTS["arrest_force"], positive=True,
+                   maximum=50_000.0),
+        r.quantity(data, "anchor_load", p, "force", default=LIMIT_DEFAULTS["anchor_load"], positive=True,
+                   maximum=200_000.0),
+        r.quantity(data, "free_fall", p, "length", default=LIMIT_DEFAULTS["free_fall"], minimum=0.0, maximum=10.0),
+        r.quantity(data, "deceleration_distance", p, "length", default=LIMIT_DEFAULTS["deceleration_distance"],
+                   minimum=0.0, maximum=10.0),
     )
 
 
@@ -790,3 +803,113 @@ def _lines(raw: dict, r: _Reader) -> list[Line]:
             out.append(Line(start, end, height, exclusion))
     return out
 
+
+
+# The most a tether's natural frequency times the engine step may be: a stiffer tether is resolved too
+# coarsely by the fixed step (its peak force off by more than about a per cent), so it is refused.
+TETHER_STEP_LIMIT = 0.25
+
+
+def _rigging_fits(r: _Reader, rigging: list[Tether], mass: float, start_x: float, start_y: float,
+                  rate: float) -> None:
+    """Each tether must reach the performer where they start (not stretched before the beat begins), and be
+    soft enough for the engine step to follow its stretch."""
+    for n, t in enumerate(rigging, start=1):
+        path = f"rigging[{n}]"
+        ring = min(max(start_x, t.line_x0), t.line_x1)
+        flat = math.hypot(start_x - ring, start_y - t.anchor_y)
+        if flat > t.length + t.max_extension:
+            r.fail(f"{path}.length", f"{t.length:g} m does not reach the performer's start, {flat:.2f} m from its "
+                                     "anchor along the roof: the tether would be stretched before the beat begins",
+                   also="start.position")
+        omega_dt = math.sqrt(t.stiffness / mass) / rate
+        if omega_dt > TETHER_STEP_LIMIT:
+            need = math.sqrt(t.stiffness / mass) / TETHER_STEP_LIMIT
+            r.fail(f"{path}.stiffness" if not t.material else f"{path}.length",
+                   f"a tether of {t.stiffness / 1000:g} kN/m on a {mass:g} kg performer is too stiff for the engine "
+                   f"step at {rate:g} Hz; give [simulation] rate = \"{math.ceil(need / 10) * 10:g} Hz\" or more "
+                   f"(at most 2000 Hz), or a softer tether")
+
+
+RIGGING_KEYS = ("name", "car", "from", "position", "line", "offset", "height", "length", "stiffness", "material",
+                "damping", "absorber", "sag")
+
+
+def _rigging(raw: dict, r: _Reader, cars: list[Car]) -> list[Tether]:
+    """[[rigging]]: tethers from a point anchor (car, position from an end, offset, height) or a running
+    line (line = { from, to } along the same roof) to the harness, with their length and stiffness (or a
+    material from physics.rigging_table.MATERIALS), damping and an optional energy absorber."""
+    out = []
+    for n, (path, item) in enumerate(r.items(raw, "rigging", "", required=False), start=1):
+        r.unknown(item, path, RIGGING_KEYS)
+        if n > MAX_TETHERS:
+            r.fail(path, f"a tether more than the {MAX_TETHERS} roofbeat models; give at most {MAX_TETHERS}")
+            break
+        name = r.text(item, "name", path, default=f"tether {n}")
+        car = r.number(item, "car", path, integer=True, minimum=1, maximum=max(1, len(cars)))
+        end = r.choice(item, "from", path, ("front", "rear"), default="front")
+        running = "line" in item
+        if running == ("position" in item):
+            r.fail(path, "give either position (a point anchor) or line = { from = ..., to = ... } (a running "
+                         "line)" + (", not both" if running else ""))
+            continue
+        if running:
+            line = r.table(item, "line", path)
+            r.unknown(line, f"{path}.line", ("from", "to"))
+            a = r.quantity(line, "from", f"{path}.line", "length", minimum=0.0)
+            b = r.quantity(line, "to", f"{path}.line", "length", minimum=0.0)
+            if a is not None and b is not None and b <= a:
+                r.fail(f"{path}.line.to", f"{b:g} m is not beyond line.from ({a:g} m); a running line runs "
+                                          "from one place along the roof to a farther one", also=f"{path}.line.from")
+                a = b = None
+            positions = (a, b)
+        else:
+            pos = r.quantity(item, "position", path, "length", minimum=0.0)
+            positions = (pos, pos)
+        offset = r.quantity(item, "offset", path, "length", default=0.0)
+        height = r.quantity(item, "height", path, "length", default=0.0, minimum=0.0, maximum=3.0)
+        length = r.quantity(item, "length", path, "length", positive=True, maximum=30.0)
+        given_k = "stiffness" in item
+        if given_k == ("material" in item):
+            r.fail(path, "give either stiffness (force per length, e.g. \"20 kN/m\") or material (one of "
+                         f"{', '.join(repr(m) for m in MATERIALS)}), " + ("not both" if given_k else "one of them"))
+            continue
+        stiffness = r.quantity(item, "stiffness", path, "stiffness", positive=True, maximum=1e7) if given_k else None
+        material = r.choice(item, "material", path, tuple(MATERIALS)) if not given_k else ""
+        damping = r.number(item, "damping", path, default=DEFAULT_DAMPING, minimum=0.0, maximum=2.0)
+        deploy, extension = math.inf, 0.0
+        if "absorber" in item:
+            ab = r.table(item, "absorber", path)
+            r.unknown(ab, f"{path}.absorber", ("deploy_force", "max_extension"))
+            deploy = r.quantity(ab, "deploy_force", f"{path}.absorber", "force", positive=True, maximum=50_000.0)
+            extension = r.quantity(ab, "max_extension", f"{path}.absorber", "length", positive=True, maximum=5.0)
+        sag = None
+        if "sag" in item and not running:
+            r.fail(f"{path}.sag", "only a running line has a sag; a point anchor takes none")
+        if None in (car, *positions, offset, height, length, damping, deploy, extension) or (
+                material is None) or (given_k and stiffness is None) or not cars:
+            continue
+        c = cars[car - 1]
+        bad = False
+        for key, pos in (((f"{path}.line.from", positions[0]), (f"{path}.line.to", positions[1])) if running
+                         else ((f"{path}.position", positions[0]),)):
+            if pos > c.length:
+                r.fail(key, f"{pos:g} m is past the end of {c.name} ({c.length:g} m long)")
+                bad = True
+        if abs(offset) > 0.5 * c.width:
+            r.fail(f"{path}.offset", f"{offset:g} m is past the side edge of {c.name}'s roof ({c.width:g} m wide: "
+                                     f"offsets within +/-{0.5 * c.width:g} m)")
+            bad = True
+        if running:
+            span = positions[1] - positions[0]
+            sag = r.quantity(item, "sag", path, "length", default=DEFAULT_SAG_FRACTION * span, positive=True,
+                             maximum=0.5 * span)
+            if sag is None:
+                continue
+        if bad:
+            continue
+        xs = sorted((c.front_x - p) if end == "front" else (c.rear_x + p) for p in positions)
+        k = stiffness if given_k else MATERIALS[material] / length
+        out.append(Tether(name, car - 1, xs[0], offset, c.roof_z(offset) + height, height, running, xs[0], xs[1],
+                          length, k, material, damping, deploy, extension, sag or 0.0))
+    return out

@@ -25,7 +25,8 @@ import numpy as np
 from physics import G, air, body, roof_air, track
 from physics.beat import Timeline, build_timeline
 from physics.engine import driver, jit
-from physics.records import BODY, CAR, LINE, PARAMS, RECORD, STRUCTURE, Inputs, empty_events, empty_outcomes
+from physics.records import (BODY, CAR, LINE, PARAMS, RECORD, STRUCTURE, TETHER, Inputs, empty_events, empty_outcomes,
+                             empty_tether_out)
 from physics.scene import Scene
 
 
@@ -49,6 +50,7 @@ class BatchResult:
     outcomes: np.ndarray  # (B, actions) records.OUTCOME
     variants: Variants
     steps: int
+    tethers: np.ndarray = None   # (B, tethers) records.TETHER_OUT
 
 
 @dataclass(frozen=True)
@@ -61,6 +63,7 @@ class Trajectory:
     events: np.ndarray    # (events,) records.EVENT: the first of each kind
     outcomes: np.ndarray  # (actions,) records.OUTCOME
     variant: Variants     # the one variant that ran
+    tethers: np.ndarray = None   # (tethers,) records.TETHER_OUT: each tether's peaks and absorber pay-out
     _ends: dict = field(default_factory=dict, compare=False, repr=False)   # ends3 of single steps, by index
 
     def field(self, name: str) -> np.ndarray:
@@ -310,10 +313,23 @@ def build_inputs(scene: Scene) -> tuple[Timeline, Inputs]:
     drag["lumped_drag_area"] = scene.performer.drag_area if scene.performer.body_model == "lumped" else 0.0
     drag["lying_row"] = timeline.lying_row
     inputs = Inputs(timeline.steps, timeline.postures, timeline.actions, cars, structures, lines, drag,
-                    track.pieces(scene.track), roof_air.airflow_row(scene.air.roof_flow, scene.air))
+                    track.pieces(scene.track), roof_air.airflow_row(scene.air.roof_flow, scene.air),
+                    tether_table(scene))
     for table in inputs:
         table.flags.writeable = False
     return timeline, inputs
+
+
+def tether_table(scene: Scene) -> np.ndarray:
+    """The rigging as the kernel reads it (records.TETHER), with the scene's limits on each tether."""
+    table = np.zeros(len(scene.rigging), TETHER)
+    for i, t in enumerate(scene.rigging):
+        for name in ("anchor_x", "anchor_y", "anchor_z", "line_x0", "line_x1", "running", "length", "stiffness",
+                     "damping_ratio", "deploy_force", "max_extension", "sag"):
+            table[i][name] = getattr(t, name)
+        table[i]["body_limit"] = scene.safety.arrest_force
+        table[i]["anchor_limit"] = scene.safety.anchor_load
+    return table
 
 
 def _table(dtype: np.dtype, items, columns=None) -> np.ndarray:
@@ -344,7 +360,7 @@ def _python_views(args):
     return [view(a) for a in args]
 
 
-def run_kernel(v: Variants, inputs: Inputs, events, outcomes, record, chunks: int = 1) -> None:
+def run_kernel(v: Variants, inputs: Inputs, events, outcomes, record, tethers, chunks: int = 1) -> None:
     """Call the one compiled kernel over all variants, in `chunks` on a thread pool."""
     if jit.will_compile(driver.run_variants):
         jit.notice("preparing the engine (first run only, about ten seconds)")
@@ -360,17 +376,17 @@ def run_kernel(v: Variants, inputs: Inputs, events, outcomes, record, chunks: in
         return np.zeros((9, width))
     if not jit.compiled():
         with np.errstate(over="ignore"):
-            args = _python_views([params, roof_scale, inputs, 0, count, events, outcomes, record, scratch()])
+            args = _python_views([params, roof_scale, inputs, 0, count, events, outcomes, record, scratch(), tethers])
             driver.run_variants(*args)
         return
     if chunks <= 1 or count < 2:
         jit.even_unsaved(driver.run_variants, params, roof_scale, inputs, 0, count, events, outcomes, record,
-                         scratch())
+                         scratch(), tethers)
         return
     bounds = np.linspace(0, count, min(chunks, count) + 1).astype(int)
     with ThreadPoolExecutor(max_workers=_threads()) as pool:
         jobs = [pool.submit(jit.even_unsaved, driver.run_variants, params, roof_scale, inputs, int(a), int(b), events,
-                            outcomes, record, scratch()) for a, b in zip(bounds[:-1], bounds[1:]) if b > a]
+                            outcomes, record, scratch(), tethers) for a, b in zip(bounds[:-1], bounds[1:]) if b > a]
         for job in jobs:
             job.result()
 
@@ -381,8 +397,9 @@ def simulate(scene: Scene, variant: Variants | None = None) -> Trajectory:
     v = variants(scene) if variant is None else variant.row(0)
     events, outcomes = empty_events(1), empty_outcomes(1, len(scene.actions))
     record = np.zeros(timeline.size, RECORD)
-    run_kernel(v, inputs, events, outcomes, record)
-    return Trajectory(scene, timeline, record, events[0], outcomes[0], v)
+    tethers = empty_tether_out(1, len(scene.rigging))
+    run_kernel(v, inputs, events, outcomes, record, tethers)
+    return Trajectory(scene, timeline, record, events[0], outcomes[0], v, tethers=tethers[0])
 
 
 def simulate_batch(scene: Scene, v: Variants, once: bool = False) -> BatchResult:
@@ -390,5 +407,6 @@ def simulate_batch(scene: Scene, v: Variants, once: bool = False) -> BatchResult
     once (a trial of a search), whose inputs are not kept for later runs."""
     timeline, inputs = build_inputs(scene) if once else prepare(scene)
     events, outcomes = empty_events(len(v)), empty_outcomes(len(v), len(scene.actions))
-    run_kernel(v, inputs, events, outcomes, np.zeros(0, RECORD), chunks=4 * _threads())
-    return BatchResult(events, outcomes, v, timeline.size)
+    tethers = empty_tether_out(len(v), len(scene.rigging))
+    run_kernel(v, inputs, events, outcomes, np.zeros(0, RECORD), tethers, chunks=4 * _threads())
+    return BatchResult(events, outcomes, v, timeline.size, tethers)

@@ -55,6 +55,8 @@ DIMENSIONS = {
     "angle": ("", "radian"),
     "frequency": ("1 / [time]", "Hz"),
     "temperature": ("[temperature]", "kelvin"),
+    "force": ("[mass] * [length] / [time] ** 2", "N"),
+    "stiffness": ("[mass] / [time] ** 2", "N/m"),
     "dimensionless": ("", ""),
 }
 
@@ -70,6 +72,8 @@ EXAMPLES = {
     "angle": '"30 deg"',
     "frequency": '"2 Hz"',
     "temperature": '"12 C", "54 F" or "285 K"',
+    "force": '"4 kN" or "900 lbf"',
+    "stiffness": '"20 kN/m" or "1400 lbf/ft"',
     "dimensionless": "a plain number such as 0.55",
 }
 
@@ -202,7 +206,7 @@ DISPLAY_UNITS = {
                  "acceleration": "ft/s**2", "area": "ft**2", "temperature": "degF", "time": "s"},
 }
 # Display-only dimensions: a wind speed shows in its own unit; forces are never parsed.
-_DISPLAY_DIMENSIONS = {**DIMENSIONS, "wind": DIMENSIONS["speed"], "force": ("[force]", "N")}
+_DISPLAY_DIMENSIONS = {**DIMENSIONS, "wind": DIMENSIONS["speed"]}
 DISPLAY_SYMBOLS = {"m": "m", "km/h": "km/h", "m/s": "m/s", "N": "N", "kg": "kg", "m/s**2": "m/s²",
                    "m**2": "m²", "degC": "°C", "s": "s", "ft": "ft", "mph": "mph", "lbf": "lbf",
                    "lb": "lb", "ft/s**2": "ft/s²", "ft**2": "ft²", "degF": "°F"}

@@ -73,6 +73,10 @@ def action_codes(scene: Scene, events: np.ndarray, outcomes: np.ndarray, until: 
     ends[-1] = np.inf  # a failure after the last action's planned end still belongs to it
     starts = np.array([a.start for a in scene.actions])
     codes = np.where(below_factors(scene.safety, outcomes), MARGINAL, HOLDS)
+    # An action in which a tether arrested the body held only by its rigging: at least marginal.
+    arrested = events["time"][..., int(Event.ARRESTED)]
+    arrested = np.where(np.isnan(arrested) | (arrested > until), np.inf, arrested)[..., None]
+    codes = np.where((arrested >= starts) & (arrested < ends), np.maximum(codes, MARGINAL), codes)
     codes = np.where(starts > until, HOLDS, codes)
     return np.where(first < ends, FAILS, codes)
 
@@ -86,6 +90,22 @@ def first_failure_kinds(events: np.ndarray) -> list[str | None]:
     """The earliest failure kind per variant of a batch, or None."""
     times = events["time"][:, _FAILURE_INDEX]
     return [None if np.all(np.isnan(row)) else EVENT_WORDS[FAILURES[int(np.nanargmin(row))]] for row in times]
+
+
+ARRESTED_WORDS = "arrested by its rigging, peak tether force"
+
+
+def arrest_shortfall(scene: Scene, events: np.ndarray, action: int) -> list[dict]:
+    """Why an action the rigging arrested the body in is marginal: the arrest, with the tether's peak
+    force beside the limit on the body ([] when no arrest happened in it)."""
+    row = events[Event.ARRESTED]
+    t = float(row["time"])
+    last = action == len(scene.actions) - 1
+    a = scene.actions[action]
+    if math.isnan(t) or not (a.start <= t and (t < a.end or last)):
+        return []
+    return [{"margin": ARRESTED_WORDS, "value": float(row["demand"]), "required": float(row["available"]),
+             "unit": "N"}]
 
 
 def shortfalls(safety, outcome) -> list[dict]:
@@ -158,6 +178,14 @@ def describe(scene: Scene, kind: Event, row) -> str:
         return _missed_landing(scene, row)
     if kind == Event.TAKEOFF:
         return f"take-off at {display(demand, 'wind', u)} relative to the roof"
+    if kind == Event.ARRESTED:
+        return (f"a tether stopped the body: peak tether force {display(demand, 'force', u, '.0f')} "
+                f"(limit on the body {display(available, 'force', u, '.0f')})")
+    if kind == Event.ANCHOR_OVERLOAD:
+        return f"peak anchor load {display(demand, 'force', u, '.0f')}, limit {display(available, 'force', u, '.0f')}"
+    if kind == Event.BODY_FORCE:
+        return (f"the tethers pull the body with up to {display(demand, 'force', u, '.0f')}, limit "
+                f"{display(available, 'force', u, '.0f')}")
     if kind == Event.TOUCHDOWN:
         return (f"touchdown at {display(demand, 'wind', u)} along and {display(available, 'wind', u)} down, "
                 "relative to the roof")
@@ -213,7 +241,8 @@ def summarise(scene: Scene, events: np.ndarray, outcomes: np.ndarray) -> dict:
             "verdict": NAMES[codes[a]],
             "failures": [e["kind"] for e in failures if action.start <= e["time_s"] < action.end
                          or (a == len(scene.actions) - 1 and e["time_s"] >= action.end)],
-            "marginal_because": shortfalls(scene.safety, m) if codes[a] == MARGINAL else [],
+            "marginal_because": (shortfalls(scene.safety, m) + arrest_shortfall(scene, events, a)
+                                 if codes[a] == MARGINAL else []),
             # Every margin below its factor while the action was assessed (before any failure), failing or not.
             "below_required": shortfalls(scene.safety, m),
             "grip_ratio_min": _finite(m["grip_ratio_min"]),
@@ -264,5 +293,5 @@ def verdict_so_far(scene: Scene, events: np.ndarray, outcomes: np.ndarray, t: fl
     if failed:
         return NAMES[FAILS], []
     because = [dict(s, action=scene.actions[a].label) for a in np.flatnonzero(codes == MARGINAL)
-               for s in shortfalls(scene.safety, outcomes[a])]
+               for s in shortfalls(scene.safety, outcomes[a]) + arrest_shortfall(scene, events, int(a))]
     return NAMES[int(codes.max()) if codes.size else HOLDS], because

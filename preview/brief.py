@@ -49,7 +49,8 @@ CHECKLIST = [
 INK, SOFT, RULE = "#2b3138", "#5f656c", "#c9c6bf"
 FAIL_INK = "#d1495b"   # palette.FAILURE
 NOT_MODELLED = ("Not modelled: limbs posed sideways (the figure is one plane); the ground beside the track (taken "
-                "level at rail height); rigging; injury. See physics/README.md, \"Not modelled\".")
+                "level at rail height); a tether's pull on the balance, and a tether running over a roof edge; "
+                "injury. See physics/README.md, \"Not modelled\" and \"Rigging\".")
 KEY_LINES = 3     # lines a key number may take on page one
 BODY = 8.0        # pt, the pages' body text
 ROW = 0.17        # in, a table row
@@ -144,6 +145,7 @@ def brief_content(scene, playback, sweep_summary) -> dict:
         "apparent_wind": wind_words(peak, scene.units), "apparent_wind_max_ms": peak,
         "apparent_wind_whole_beat_ms": s.get("apparent_wind_whole_beat_ms", peak),
         "envelope": sweep_summary, "checklist": CHECKLIST, "caution": CAUTION, "sign_off": SIGN_OFF,
+        "rigging": s.get("rigging", []),
     }
 
 
@@ -517,7 +519,7 @@ def _page_two(page: Page, scene, content, playback) -> None:
 
 def _page_ladder(page: Page, scene, content, ladder) -> None:
     """The rehearsal ladder: the abort limits in large type, the rungs with their margins, the wind
-    machine for a static rehearsal, and what is not covered (rigging)."""
+    machine for a static rehearsal, and the rigging's table (or a line saying the scene has none)."""
     from physics.units import display as show
     from physics.verdict import FACTORS
     from preview.analysis import display as value_words
@@ -574,8 +576,41 @@ def _page_ladder(page: Page, scene, content, ladder) -> None:
     page.para(f"Static rehearsal: a wind machine giving {show(machine['air_speed_ms'], 'wind', system, '.1f')} "
               f"from {machine['from_deg']:.0f}° (0 = from ahead, + from the left) gives the performer the planned "
               f"speed's apparent wind. Note: {machine['note']}.")
-    page.para("Rigging (tethers, running lines, restraint or arrest): not modelled in this version; "
-              "the rigger's own calculation governs.", BODY, "bold")
+    _rigging_table(page, scene, content)
+
+
+def _rigging_table(page: Page, scene, content) -> None:
+    """The rigging: per tether its role, peak forces, travel and where the body hangs, each number
+    against its limit with the limit's source; or a plain line when the scene has none."""
+    from preview.report import rigging_rows
+    page.rule()
+    rigging = content.get("rigging") or []
+    if not rigging:
+        page.para("Rigging: this scene has no [[rigging]]; tethers, running lines and their limits are checked "
+                  "when the scene gives them. The rigger's own calculation governs.", BODY, "bold")
+        return
+    page.heading("rigging: each tether against its limits (harness at the body's centre of mass)")
+    sources = {}
+    for row in rigging_rows(rigging, scene.units):
+        page.para(f"{row['name']} ({row['kind']}): {row['role']}, {row['reach']}; peak tether force "
+                  f"{row['peak_tether']}; went {row['went']} before it held; {row['hangs']}"
+                  + (f"; {row['absorber']}" if row["absorber"] else ""), BODY, "bold")
+        for head, x in (("", 0.2), ("value", 2.3), ("limit", 3.4), ("", 4.5), ("source", 5.3)):
+            if head:
+                page.text(MARGIN_IN + x, head, BODY - 1.5, "bold")
+        page.y -= ROW
+        for c in row["checks"]:
+            mark = sources.setdefault(c["source"], len(sources) + 1)
+            over = c["state"] == "OVER"
+            for x, cell in ((0.2, c["what"]), (2.3, c["value"]), (3.4, c["limit"]), (4.5, c["state"]),
+                            (5.3, f"[{mark}]")):
+                page.text(MARGIN_IN + x, cell, BODY, "bold" if over else "normal")
+            page.y -= ROW
+    for source, mark in sources.items():
+        page.para(f"[{mark}] {source}", BODY - 1, color=SOFT)
+    page.para("Deceleration distance here runs from the tether going taut to the stop with its stretch, so it is "
+              "at least the standard's figure, which leaves the lifeline's stretch out. The rigger's own "
+              "calculation governs.", BODY - 1, color=SOFT)
 
 
 def write_brief(scene, out: Path, paper: str = "a4") -> dict:

@@ -128,6 +128,8 @@ def draw(canvas, playback, t: float, view, cam: EndCamera, layout, area: Box) ->
     draw_trail(canvas, tr, i, view, cam)
     if failed:
         draw_failure(canvas, playback, failure, cam, layout, area)
+    if scene.rigging and ahead == 0:
+        draw_tethers(canvas, playback, i, cam.turned(cant + roll), pose_camera(tr, i, cam), car, layout, area)
     draw_figure(canvas, tr, i, cam)
     draw_vectors(canvas, tr, i, view, cam)
     draw_side_words(canvas, cam, car, layout, area)
@@ -368,6 +370,36 @@ def screen_ends(tr, i: int, cam: EndCamera) -> np.ndarray:
     ends = tr.ends3(i)
     cam = pose_camera(tr, i, cam)
     return np.array([[cam.to_screen(p[1], p[2]) for p in seg] for seg in ends])
+
+
+def draw_tethers(canvas, playback, i: int, car_cam: EndCamera, pose: EndCamera, car, layout, area: Box) -> None:
+    """The tethers anchored on the car in the section, seen along the track: from the anchor (a running
+    line seen end-on, a ring) to the harness, coloured by tension against the limit on the body, the
+    tension beside it."""
+    from physics.rigging import harness_path
+    from physics.units import display
+    from preview.world import small_label, tether_colour
+    canvas.tag = "rigging"
+    tr, scene = playback.trajectory, playback.scene
+    harness = harness_path(tr)[i]
+    ts = max(label_size(canvas) - 1, 10)
+    for n, tether in enumerate(scene.rigging):
+        if scene.cars[tether.car] is not car:
+            continue
+        anchor = car_cam.to_screen(tether.anchor_y, tether.anchor_z)
+        canvas.circle(anchor, 5, CAR_EDGE, 2)
+        if not np.isfinite(harness).all():
+            continue
+        force = float(tr.record["tether_force"][i, n])
+        colour = tether_colour(force, scene.safety.arrest_force)
+        end = pose.to_screen(float(harness[1]), float(harness[2]))
+        canvas.line(anchor, end, colour, 3 if force > 0 else 1)
+        if force > 0.0:
+            # Beside the tether, from its middle toward its anchor: the first free place.
+            along = [(anchor[0] + f * (end[0] - anchor[0]), anchor[1] + f * (end[1] - anchor[1]))
+                     for f in (0.5, 0.35, 0.2, 0.0)]
+            small_label(canvas, layout, area, display(force, "force", scene.units, ".0f"), colour, ts,
+                        [(x + dx, y + dy) for x, y in along for dx, dy in ((8, 0), (-8, 0), (0, -12), (0, 12))])
 
 
 def draw_figure(canvas, tr, i: int, cam: EndCamera, ghost: bool = False) -> None:

@@ -71,12 +71,12 @@ class Layout:
                 best, best_cover = box, cover
         # None of the wished-for places is free: the free place nearest the first one, if any.
         x0, y0 = candidates[0] if candidates else (area.x, area.y)
-        nearest = self._nearest_free(w, h, area, x0, y0)
+        nearest = self.nearest_free(w, h, area, x0, y0)
         if nearest is not None:
             return self.reserve(nearest)
         return self.reserve(best if best is not None else Box(area.x, area.y, w, h))
 
-    def _nearest_free(self, w: float, h: float, area: Box, x0: float, y0: float, step: float = 12.0):
+    def nearest_free(self, w: float, h: float, area: Box, x0: float, y0: float, step: float = 12.0):
         """The free w x h box nearest (x0, y0) on a grid of `step` px over `area`, or None: every grid
         place tested against every taken box at once (numpy), as a frame has thousands of places."""
         ny, nx = int(max(0.0, area.h - h) // step) + 1, int(max(0.0, area.w - w) // step) + 1

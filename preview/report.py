@@ -116,6 +116,8 @@ def text_report(scene, summary: dict) -> str:
     others = [e for e in summary["events"] if e is not first]
     for e in others:
         lines.append(f"  also: {e['kind']} at {e['time_s']:.2f} s: {e['detail']}")
+    if summary.get("rigging"):
+        lines += [""] + rigging_lines(summary["rigging"], system)
     lines += ["", "CAUTION: " + CAUTION]
     return "\n".join(lines)
 
@@ -184,13 +186,16 @@ def factor_value(value: float, unit: str, system: str, measured: bool = True) ->
     if unit == "m":
         number, name = to_display(value, "length", system)
         return f"{floor_to(number) if measured else number:.2f} {name}"
+    if unit == "N":   # a force (an arrest's peak beside the limit on the body): what it was, not a margin
+        return display(value, "force", system, ".0f")
     return f"{floor_to(value) if measured else value:.2f}"
 
 
 def marginal_words(shortfalls: list[dict], system: str) -> str:
     """'balance margin 0.02 m, required 0.03 m; ...': which factor made an action marginal."""
-    return "; ".join(f"{s['margin']} {factor_value(s['value'], s['unit'], system)}, required "
-                     f"{factor_value(s['required'], s['unit'], system, False)}" for s in shortfalls)
+    return "; ".join(f"{s['margin']} {factor_value(s['value'], s['unit'], system)}, "
+                     + ("limit on the body " if s["unit"] == "N" else "required ")
+                     + factor_value(s["required"], s["unit"], system, False) for s in shortfalls)
 
 
 def required_words(factors: dict, system: str) -> str:
@@ -210,6 +215,57 @@ def phase_words(phase: dict, system: str) -> str:
             words += (f", {display(abs(y), 'length', system, '.1f')} {'left' if y > 0 else 'right'} of the "
                       "track's centreline")
     return words
+
+
+def _limit_value(value, unit: str, system: str) -> str:
+    if value is None:
+        return "n/a"
+    if unit == "N":
+        return display(value, "force", system, ".0f")
+    return display(value, "length", system)
+
+
+def rigging_rows(rigging: list[dict], system: str) -> list[dict]:
+    """Per tether, the words of its table row: name, role, what it can reach, and each number against
+    its limit ('over' where the physics passes the limit)."""
+    rows = []
+    for t in rigging:
+        geo = t["geometry"]
+        reach_words = ("reaches no edge or end" if not geo["reachable"]
+                       else "reaches the " + ", ".join(geo["reachable"]))
+        checks = []
+        for c in t["limits"]:
+            state = "n/a" if c["within"] is None else ("within" if c["within"] else "OVER")
+            checks.append({"what": c["what"], "value": _limit_value(c["value"], c["unit"], system),
+                           "limit": _limit_value(c["limit"], c["unit"], system), "state": state,
+                           "source": c["source"]})
+        went = _limit_value(t["went_before_held_m"], "m", system)
+        rows.append({"name": t["name"], "kind": t["kind"], "role": geo["role"], "reach": reach_words,
+                     "peak_tether": _limit_value(t["peak_force_n"], "N", system), "went": went,
+                     "hangs": t["hangs"], "checks": checks,
+                     "absorber": (None if t["absorber"] is None else
+                                  f"absorber paid out {_limit_value(t['absorber']['paid_out_m'], 'm', system)} of "
+                                  f"{_limit_value(t['absorber']['max_extension_m'], 'm', system)}")})
+    return rows
+
+
+def rigging_lines(rigging: list[dict], system: str) -> list[str]:
+    """The rigging table of `roofbeat check`: each tether against its limits, the sources named."""
+    lines = ["rigging (harness taken at the body's centre of mass):"]
+    sources = {}
+    for row in rigging_rows(rigging, system):
+        lines.append(f"  {row['name']} ({row['kind']}): {row['role']}, {row['reach']}; peak tether force "
+                     f"{row['peak_tether']}; went {row['went']} before it held; {row['hangs']}")
+        if row["absorber"]:
+            lines.append(f"    {row['absorber']}")
+        for c in row["checks"]:
+            mark = sources.setdefault(c["source"], len(sources) + 1)
+            lines.append(f"    {c['what']:<24}{c['value']:>12}  limit {c['limit']:>10}  {c['state']:<7}[{mark}]")
+    lines.append("  deceleration distance: from the tether going taut to the stop, its stretch included (OSHA's "
+                 "leaves the lifeline's stretch out), so at least OSHA's figure")
+    for source, mark in sources.items():
+        lines.append(f"  [{mark}] {source}")
+    return lines
 
 
 def json_report(scene, summary: dict) -> str:

@@ -93,6 +93,9 @@ def make_playback(scene, variant=None) -> Playback:
     summary["ducks"] = latest_duck_starts(scene) if variant is None else []
     summary["apparent_wind_whole_beat_ms"] = whole_beat_wind(trajectory)
     summary["uniform_air"] = uniform_air_verdict(scene, variant)
+    if scene.rigging:
+        from physics.rigging import rigging_summary
+        summary["rigging"] = rigging_summary(trajectory)
     return Playback(trajectory, summary)
 
 

@@ -22,8 +22,8 @@ from preview.camera import CAR, GROUND, Camera
 from preview.canvas import measure
 from preview.layout import Box, fit
 from preview.palette import (AERO, CAR_BODY, CAR_EDGE, FAILURE, FAINT, FAR_LIMB, GROUND_TONE, HOLDS, INK,
-                             LANDING_ZONE, LINE_ZONE, PANEL, PAPER, PSEUDO, REACTION, ROOF_AIR, ROOF_AIR_ZONE,
-                             SEGMENT_AERO, SKY, SOFT_INK, STRUCTURE, TRAIL, WEIGHT, WIND)
+                             LANDING_ZONE, LINE_ZONE, MARGINAL, PANEL, PAPER, PSEUDO, REACTION, ROOF_AIR,
+                             ROOF_AIR_ZONE, SEGMENT_AERO, SKY, SOFT_INK, STRUCTURE, TRAIL, WEIGHT, WIND)
 
 FORCE_PER_METRE = 800.0         # N drawn as 1 m, every whole-body force: a standing body's weight reaches its roof
 SEGMENT_FORCE_PER_METRE = 80.0  # the per-segment air loads, drawn ten times larger, with a bar of their own
@@ -54,11 +54,15 @@ def draw_view(canvas, playback, t: float, view, cam: Camera, layout, area: Box) 
         draw_failure_marker(canvas, playback, failure, cam, layout, area)
         draw_figure(canvas, tr, tr.index_at(failure["time_s"]), cam, ghost=True,
                     pinned=failure["kind"] in GROUND_FIXED)
+    if scene.rigging:   # under the figure; their labels last, in the places the others leave free
+        draw_rigging(canvas, playback, t, cam, layout, area, labels=False)
     draw_figure(canvas, tr, i, cam)
     draw_vectors(canvas, tr, i, view, cam)
     draw_structure_labels(canvas, scene, cam, layout, area)
     if cam.frame == GROUND:
         draw_drift(canvas, tr, i, cam, layout, area)
+    if scene.rigging:
+        draw_rigging(canvas, playback, t, cam, layout, area, labels=True)
 
 
 def keep_clear(layout, tr, i: int, cam: Camera, view) -> None:
@@ -443,6 +447,104 @@ def draw_balance(canvas, f, com, cam: Camera) -> None:
         px, py = cam.to_screen(xcom, roof - 0.03)
         color = HOLDS if lo <= xcom <= hi else FAILURE
         canvas.polygon([(px, py - 2), (px - 6, py + 10), (px + 6, py + 10)], color)
+
+
+def tether_colour(force: float, limit: float):
+    """A tether's colour by its tension against the body's arrest-force limit: slack, well within
+    (under half), near it, or over it."""
+    if force <= 0.0:
+        return FAINT
+    if force < 0.5 * limit:
+        return HOLDS
+    return MARGINAL if force <= limit else FAILURE
+
+
+def small_label(canvas, layout, area: Box, words: str, colour, size: int, near) -> None:
+    """A short label on a panel at the first free place near one of the points `near` (beside, above or
+    below it); left out when none is free: the colour of what it labels still says it."""
+    w, h = canvas_measure(words, size, True)
+    w, h = w + 8, h + 4
+    for px, py in near:
+        for x, y in ((px, py - h / 2), (px - w, py - h / 2), (px - w / 2, py - h), (px - w / 2, py)):
+            box = Box(x, y, w, h)
+            if area.x <= box.x and box.right <= area.right and area.y <= box.y and box.bottom <= area.bottom \
+                    and layout.free(box):
+                layout.reserve(box)
+                canvas.rect(box.x, box.y, box.w, box.h, PANEL)
+                canvas.text((box.x + 4, box.y + 2), words, colour, size, bold=True)
+                return
+
+
+def draw_rigging(canvas, playback, t: float, cam: Camera, layout, area: Box, labels: bool) -> None:
+    """Each tether from its anchor (a running line drawn with its end anchors, the ring where the tether
+    leaves it) to the harness, coloured by its tension against the limit; once a tether has arrested the
+    body, a ring where it did. With `labels` only the words: the tension and a running line's end-anchor
+    load beside them, and the arrest with its peak force, each where a free place is (else left out)."""
+    from physics.rigging import anchor_load, harness_path
+    from physics.units import display
+    canvas.tag = "rigging"
+    tr = playback.trajectory
+    scene = playback.scene
+    i = tr.index_at(t)
+    harness = harness_path(tr)[i]
+    limit = scene.safety.arrest_force
+    ts = max(label_size(canvas) - 1, 10)
+    for n, tether in enumerate(scene.rigging):
+        z = tether.anchor_z
+        if tether.running:
+            # The line and its end anchors coloured by the end anchors' load against their limit.
+            load = anchor_load(tether, float(harness[0]), float(tr.record["tether_force"][i, n])) \
+                if np.isfinite(harness[0]) else 0.0
+            ink = CAR_EDGE if load <= 0.0 else tether_colour(load, scene.safety.anchor_load)
+            a, b = cam.to_screen(tether.line_x0, z), cam.to_screen(tether.line_x1, z)
+            if not labels:
+                canvas.line(a, b, ink, 2 if load <= 0.0 else 3)
+                for end in (a, b):
+                    canvas.rect(end[0] - 4, end[1] - 4, 8, 8, ink)
+            elif load > 0.0:
+                small_label(canvas, layout, area, f"end anchor {display(load, 'force', scene.units, '.0f')}", ink,
+                            ts, [(b[0], b[1] - 16), (a[0], a[1] - 16), (b[0] + 10, b[1])])
+        anchor = cam.to_screen(min(max(harness[0], tether.line_x0), tether.line_x1) if np.isfinite(harness[0])
+                               else tether.anchor_x, z)
+        if not labels:
+            canvas.circle(anchor, 5, CAR_EDGE, 2)
+        if not np.isfinite(harness).all():
+            continue
+        force = float(tr.record["tether_force"][i, n])
+        colour = tether_colour(force, limit)
+        end = cam.to_screen(harness[0], harness[2])
+        if not labels:
+            canvas.line(anchor, end, colour, 3 if force > 0 else 1)
+        elif force > 0.0:
+            # Beside the tether, from its middle toward its anchor: the first free place.
+            along = [(anchor[0] + f * (end[0] - anchor[0]), anchor[1] + f * (end[1] - anchor[1]))
+                     for f in (0.5, 0.35, 0.2, 0.0)]
+            small_label(canvas, layout, area, display(force, "force", scene.units, ".0f"), colour, ts,
+                        [(x + dx, y + dy) for x, y in along for dx, dy in ((8, 0), (-8, 0), (0, -12), (0, 12))])
+    arrest = next((e for e in playback.summary["events"] if e["kind"] == "arrested"), None)
+    if arrest is not None and t >= arrest["time_s"] - 1e-9:
+        j = tr.index_at(arrest["time_s"])
+        px, py = cam.to_screen(harness_path(tr)[j][0], harness_path(tr)[j][2])
+        if area.x <= px <= area.right and area.y <= py <= area.bottom:
+            peak = float(arrest["demand"])
+            colour = HOLDS if peak <= limit else FAILURE
+            if not labels:
+                canvas.circle((px, py), 11, colour, 3)
+                return
+            label = (f"ARRESTED  {arrest['time_s']:.2f} s  peak {display(peak, 'force', scene.units, '.0f')}"
+                     f" (limit {display(limit, 'force', scene.units, '.0f')})")
+            w, h = canvas_measure(label, ts, True)
+            spots = [(px + 20, py + 20), (px - 32 - w, py + 20), (px + 20, py - 30 - h), (px - 32 - w, py - 30 - h)]
+            free = [b for b in (Box(x, y, w + 12, h + 8).clamped(area) for x, y in spots) if layout.free(b)]
+            if not free:   # nowhere free nearby (a crowded small view): the nearest free place, else no label
+                nearest = layout.nearest_free(w + 12, h + 8, area, px, py)
+                free = [nearest] if nearest is not None else []
+            if not free:
+                return
+            box = layout.reserve(free[0])
+            canvas.rect(box.x, box.y, box.w, box.h, PANEL)
+            canvas.rect(box.x, box.y, box.w, box.h, colour, width=2)
+            canvas.text((box.x + 6, box.y + 4), fit(label, ts, box.w - 12, bold=True), colour, ts, bold=True)
 
 
 def draw_failure_marker(canvas, playback, failure, cam: Camera, layout, area: Box) -> None:

@@ -11,7 +11,7 @@ import numpy as np
 import pytest
 
 from physics import G, body
-from physics.records import RECORD, Event, Inputs, empty_events, empty_outcomes
+from physics.records import RECORD, Event, Inputs, empty_events, empty_outcomes, empty_tether_out
 from physics.scene_load import parse_scene
 from physics.scene_problems import SceneError
 from physics.simulation import Trajectory, build_inputs, run_kernel, simulate, variants
@@ -64,7 +64,7 @@ def run_with(scene, accel_y):
     v = variants(scene)
     events, outcomes = empty_events(1), empty_outcomes(1, len(scene.actions))
     record = np.zeros(timeline.size, RECORD)
-    run_kernel(v, inputs, events, outcomes, record)
+    run_kernel(v, inputs, events, outcomes, record, empty_tether_out(1, 0))
     return Trajectory(scene, timeline, record, events[0], outcomes[0], v)
 
 

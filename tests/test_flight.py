@@ -12,7 +12,7 @@ from physics.engine import flight
 from physics.engine.air_load import Drag
 from physics.engine.jit import plain_python
 from physics.engine.roof_air import Flow
-from physics.records import POSTURE, Event, Mode
+from physics.records import POSTURE, TETHER, TETHER_OUT, Event, Mode
 from physics.simulation import simulate
 from physics.verdict import summarise
 from tests.conftest import make_scene
@@ -31,6 +31,11 @@ def posture_record(ends=None):
         row.ends[0] = ends
         row.axes[0] = segment_axes(ends[None])[0]
     return row[0]
+
+
+# No rigging: the flight step's tether tables, empty.
+NO_TETHERS = np.zeros(0, TETHER).view(np.recarray)
+NO_TETHER_STATE = np.zeros(0, TETHER_OUT).view(np.recarray)
 
 
 def fly(posture, drag, mass, vx0, vz0, seconds, dt=DT, V=0.0, wind=0.0):

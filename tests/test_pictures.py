@@ -26,9 +26,9 @@ from tests.conftest import REPO, SCENES
 
 # Texts that must never cover one another: the panels and the labels that are placed.
 PLACED = {"readout", "banner", "legend", "timeline", "caution", "message", "structures", "jump", "failure",
-          "drift"}
-WORLD_LABELS = {"structures", "jump", "failure", "drift"}   # placed in the views: they keep off the figure
-BOXED = {"readout", "banner", "legend", "caution", "message", "failure", "drift"}  # drawn on a background box
+          "drift", "rigging"}
+WORLD_LABELS = {"structures", "jump", "failure", "drift", "rigging"}   # placed in the views: they keep off the figure
+BOXED = {"readout", "banner", "legend", "caution", "message", "failure", "drift", "rigging"}  # on a background box
 
 
 @pytest.fixture(scope="module")
@@ -370,3 +370,32 @@ def test_the_highest_apparent_wind_reported_includes_the_air_met_in_flight(playb
             continue   # failed at the first step: nothing assessed
         reported = max(a["apparent_wind_max_ms"] for a in pb.summary["actions"])
         assert seen.max() <= reported + 1e-9, name
+
+
+def test_tethers_are_drawn_with_their_tension_and_an_arrest_with_its_peak(playbacks):
+    # The held slip: before the arrest a slack tether and no marker; after it the tension in display
+    # units beside a taut tether coloured by its load, and the arrest with its peak force and the limit.
+    pb = playbacks["tethered_brake_slip"]
+    arrest = next(e for e in pb.summary["events"] if e["kind"] == "arrested")
+    before = drawn(pb, 0.3, ViewSettings(frame="car"), (1280, 720))
+    assert any(kind == "line" and tag == "rigging" for kind, _, _, tag in before.calls)
+    assert "ARRESTED" not in texts_of(before, "rigging")
+    after = drawn(pb, arrest["time_s"] + 0.05, ViewSettings(frame="car"), (1280, 720))
+    words = texts_of(after, "rigging")
+    assert f"ARRESTED  {arrest['time_s']:.2f} s  peak {arrest['demand']:.0f} N (limit 8000 N)" in words
+    i = pb.trajectory.index_at(arrest["time_s"] + 0.05)
+    force = float(pb.trajectory.record["tether_force"][i, 0])
+    assert force > 0 and f"{force:.0f} N" in words
+
+
+def test_a_running_line_over_its_anchor_limit_is_drawn_in_the_failure_colour(playbacks):
+    from preview.palette import FAILURE
+    pb = playbacks["tethered_edge_fall_overload"]
+    overload = next(e for e in pb.summary["events"] if e["kind"] == "anchor overload")
+    tr = pb.trajectory
+    i = int(np.argmax(tr.record["tether_force"][:, 0]))         # the arrest's peak: the anchors far over
+    canvas = drawn(pb, float(tr.times[i]), ViewSettings(frame="car"), (1280, 720))
+    colours = [colour for kind, _, colour, tag in canvas.calls if kind == "line" and tag == "rigging"]
+    assert overload["demand"] > pb.scene.safety.anchor_load and FAILURE in colours
+    calm = drawn(pb, 0.3, ViewSettings(frame="car"), (1280, 720))
+    assert FAILURE not in [colour for kind, _, colour, tag in calm.calls if kind == "line" and tag == "rigging"]

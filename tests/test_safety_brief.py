@@ -292,7 +292,7 @@ def test_check_never_rounds_a_margin_up_and_says_where_the_wind_count_stops(caps
 
 def test_the_brief_ends_with_the_ladder_and_its_abort_limits(tmp_path, capsys):
     # The last page: the abort limits in large type, the same numbers as `roofbeat ladder` (one sweep
-    # behind both), the rungs, the wind machine, and rigging said plainly to be outside the model.
+    # behind both), the rungs, the wind machine, and a plain line that this scene has no rigging.
     from pypdf import PdfReader
     path = str(REPO / "scenes" / "curve_too_fast.toml")
     out = tmp_path / "curve.pdf"
@@ -306,7 +306,7 @@ def test_the_brief_ends_with_the_ladder_and_its_abort_limits(tmp_path, capsys):
     top = ladder["abort_limits"]["speed"]["limits"][0]["value"]
     assert f"TOP SPEED: {top * 3.6:.2f} km/h" in last
     assert "First rung short of the factors: rung 5" in last and "wind machine" in last
-    assert "Rigging" in last and "not modelled" in last
+    assert "Rigging: this scene has no [[rigging]]" in last
     # The envelope line on page one gives the same top speed.
     first = " ".join(PdfReader(out).pages[0].extract_text().split())
     assert f"holds with the required factors up to {top * 3.6:.2f} km/h" in first
@@ -329,3 +329,18 @@ def test_the_brief_gives_the_whole_title_once(tmp_path):
     assert main(["brief", str(path), "-o", str(out)]) == 0
     first = " ".join(PdfReader(out).pages[0].extract_text().split())
     assert load_scene(path).title in first
+
+
+def test_the_brief_gives_the_rigging_table(tmp_path):
+    # A scene with rigging: the ladder page's table gives each tether against its limits, the sources
+    # named, and an anchor over its limit said so; the same numbers as `roofbeat check --json`.
+    from pypdf import PdfReader
+    path = REPO / "scenes" / "tethered_edge_fall_overload.toml"
+    out = tmp_path / "rig.pdf"
+    assert main(["brief", str(path), "-o", str(out)]) == 0
+    last = " ".join(PdfReader(out).pages[-1].extract_text().split())
+    content = json.loads(out.with_suffix(".json").read_text())
+    row = content["rigging"][0]
+    assert "lanyard on line (running line)" in last and "peak anchor load" in last and "OVER" in last
+    assert "1926.502(d)(15)" in last and "not modelled" not in last
+    assert f"{row['peak_anchor_load_n']:.0f} N" in last

@@ -6,8 +6,8 @@ import math
 
 from physics.engine.air_load import air_load, at_height, rotate
 from physics.engine.beat_state import Beat, State, failed, travel, with_mode
-from physics.engine.flight import (Flight, beside, crossing, inside_margin, kept_out_of_cars, land, on_the_ground,
-                                   rk4, take_off, touchdown_car)
+from physics.engine.flight import (ACROSS_REACH, Flight, beside, crossing, inside_margin, kept_out_of_cars, land, on_the_ground,
+                                   rk4, rk4_tethered, take_off, touchdown_car)
 from physics.engine.frontal import held, level, roof_z_at
 from physics.engine.jit import apart, kernel, small
 from physics.engine.outcome import note_air, note_event, note_landing_margin, note_target, note_touchdown
@@ -17,6 +17,7 @@ from physics.engine.roof import car_at
 from physics.engine.roof_air import raised, roof_flow, uniform_flow
 from physics.engine.sliding import Slide
 from physics.engine.stance import Balance, after_landing
+from physics.engine.tether import watch_tethers
 from physics.records import Event, Mode
 
 
@@ -44,18 +45,33 @@ def flight_iteration(v, inputs, env, state, act, out):
                  math.sqrt(air.fx * air.fx + air.fy * air.fy + air.fz * air.fz), math.sqrt(bx * bx + by * by))
     if out.recording:
         record_flight(out.record[env.k], env, fl, posture, v.drag, beat.mode, flow)
+    tout = out.tethers[v.b]
+    if inputs.tethers.shape[0] > 0 and beat.mode == Mode.FLIGHT:
+        watch_tethers(v, inputs, env, True, fl.x, fl.y, fl.z, fl.vx, fl.vy, fl.vz, out)
     if beat.mode == Mode.GONE or env.last:
         return State(beat, state.slide, state.balance, fl, state.frontal)
-    new = rk4(fl, posture, env.speed, env.next_speed, env.accel, env.body.ground_y, env.wind_x, env.wind_y, v.drag, v.mass,
-              v.dt, flow)
+    if inputs.tethers.shape[0] > 0:
+        new = rk4_tethered(fl, posture, env.speed, env.next_speed, env.accel, env.body.ground_y, env.wind_x,
+                           env.wind_y, v.drag, v.mass, v.dt, inputs.tethers, tout, flow)
+    else:
+        new = rk4(fl, posture, env.speed, env.next_speed, env.accel, env.body.ground_y, env.wind_x, env.wind_y, v.drag,
+                  v.mass, v.dt, flow)
     car, cross = touchdown_car(inputs.cars, fl, new, not beat.assessing)
     if car >= 0:
         return touch_down(v, inputs, env, State(beat, state.slide, state.balance, fl, state.frontal), car, cross, act,
                           out)
     beat, new = check_fall(v, inputs, env, beat, fl, new, act, out)
-    new, unused = kept_out_of_cars(inputs.cars, fl, new)
+    # A tether pulls a body hanging beside a car against its side, shoulders and arms too: its centre
+    # of mass stays their reach out from the side, not half a body's depth.
+    new, unused = kept_out_of_cars(inputs.cars, fl, new, ACROSS_REACH if inputs.tethers.shape[0] > 0 else 0.0)
     if new.z + new.low_dz <= 0.0:
         # On the ground beside or between the cars: it stays where it came down, in the ground frame.
+        if inputs.tethers.shape[0] > 0:
+            # With rigging a fall is the body reaching the ground (the tethers did not hold it).
+            note_event(out.events, v.b, Event.FALL, env.t + v.dt, new.x + new.low_dx, travel(env, v.dt),
+                       inputs.cars, lowest_roof(inputs.cars), 0.0)
+            note_target(out.events, v.b, Event.FALL, env.t + v.dt, inputs.actions[act].landing_car)
+            beat = failed(beat)
         lying_row = inputs.body[0].lying_row
         new = on_the_ground(new, inputs.postures[lying_row], lying_row, new.x + travel(env, v.dt))
         beat = with_mode(beat, Mode.GONE)
@@ -101,12 +117,15 @@ def check_fall(v, inputs, env, beat, before, after, act, out):
     cross = crossing(before, after, low)
     if cross.frac < 0.0:
         return beat, after
+    fallen = Flight(after.x, after.z, after.vx, after.vz, after.row, after.lean, after.low_dx, after.low_dz,
+                    after.left, after.right, True, after.ground_x, after.y, after.vy, after.roll, after.side)
+    if inputs.tethers.shape[0] > 0:
+        # Tethers may yet hold it: the fall is noted if it reaches the ground, an arrest if they stop it.
+        return beat, fallen
     tau = cross.frac * v.dt
     note_event(out.events, v.b, Event.FALL, env.t + tau, cross.x + before.low_dx, travel(env, tau), cars,
                low - (after.z + after.low_dz), 0.0)
     note_target(out.events, v.b, Event.FALL, env.t + tau, declared)
-    fallen = Flight(after.x, after.z, after.vx, after.vz, after.row, after.lean, after.low_dx, after.low_dz,
-                    after.left, after.right, True, after.ground_x, after.y, after.vy, after.roll, after.side)
     return failed(beat), fallen
 
 

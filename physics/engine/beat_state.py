@@ -18,8 +18,9 @@ from physics.records import Mode
 # of the balance controller along and across the track.
 Variant = namedtuple("Variant", "b params roof_scale drag mass weight dt buf_err buf_rate buf_ff buf_roll_err "
                                 "buf_roll_rate buf_roll_ff")
-# Where the results go; `recording` when this variant fills `record`.
-Outputs = namedtuple("Outputs", "events outcomes record recording")
+# Where the results go; `recording` when this variant fills `record`; `tethers` the rigging's
+# per-variant state and peaks (records.TETHER_OUT, (batch, tethers)).
+Outputs = namedtuple("Outputs", "events outcomes record recording tethers")
 # Progress of the beat: the body's Mode, the last jump taken and landed (action
 # indices, -1 none), whether the beat is still assessed (no failure yet),
 # whether the body left the roof at t_k itself (a lift), so its flight starts

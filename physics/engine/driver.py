@@ -88,7 +88,7 @@ def start_state(p):
 
 
 @entry
-def run_variants(params, roof_scale, inputs, first, last, events, outcomes, record, scratch):
+def run_variants(params, roof_scale, inputs, first, last, events, outcomes, record, scratch, tether_out):
     """Run variants first..last-1 (rows of params) through the whole beat.
 
     The one compiled entry point: a single recorded run calls it with one
@@ -100,13 +100,14 @@ def run_variants(params, roof_scale, inputs, first, last, events, outcomes, reco
     nothing): the three delay lines of the balance controller along the track
     (rows 0, 1, 4) and across it (rows 6, 7, 8) and the body's drag factors
     (rows 2, 3, 5).
+    tether_out: (batch, tethers) records.TETHER_OUT, the rigging's absorber state and peaks.
     """
     steps = inputs.steps
     n = steps.shape[0]
     dt = steps[1].time - steps[0].time
     for b in range(first, last):
         p = params[b]
-        out = Outputs(events, outcomes, record, record.shape[0] > 0 and b == first)
+        out = Outputs(events, outcomes, record, record.shape[0] > 0 and b == first, tether_out)
         delay = int(round(p.reaction_time / dt))
         n_seg = inputs.body[0].crossflow_area.shape[0]
         drag = body_drag(inputs.body[0], p.density, p.drag_scale, scratch[2, :n_seg], scratch[3, :n_seg],

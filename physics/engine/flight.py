@@ -22,6 +22,7 @@ from physics.engine.air_load import air_load, rotate
 from physics.engine.frontal import roof_z_at
 from physics.engine.jit import kernel, small
 from physics.engine.roof import EDGE_TOLERANCE, car_at, feet_friction
+from physics.engine.tether import tethers_pull
 
 ACROSS_REACH = 0.2         # m the shoulders and arms stand out from the body's midline (from memory)
 SIDE_CLEAR = 0.15          # m from a car's side to the centre of mass of a body falling down beside it (half a
@@ -60,7 +61,11 @@ def flight_accel(posture, lean, vx, vy, vz, speed, accel, accel_y, wind_x, wind_
 @kernel
 def rk4(fl, posture, speed0, speed1, accel, accel_y, wind_x, wind_y, drag, mass, dt, flow):
     """One classical Runge-Kutta step of the centre of mass from consist speed speed0 to speed1, in the air
-    over the roof as it is at the step's start (`flow`)."""
+    over the roof as it is at the step's start (`flow`), for an acceleration that depends on velocity
+    alone (no rigging): the stage positions are not needed, and the positions' update
+    p + dt v + dt^2 / 6 (k1 + k2 + k3) is the classical method's written out. rk4_tethered is the same
+    method with the stages' positions passed on; this one is kept apart so a run without rigging does
+    the same arithmetic as before rigging existed."""
     mid = 0.5 * (speed0 + speed1)
     k1x, k1y, k1z = flight_accel(posture, fl.lean, fl.vx, fl.vy, fl.vz, speed0, accel, accel_y, wind_x, wind_y, drag,
                                  mass, flow)
@@ -70,6 +75,50 @@ def rk4(fl, posture, speed0, speed1, accel, accel_y, wind_x, wind_y, drag, mass,
                                  fl.vz + 0.5 * dt * k2z, mid, accel, accel_y, wind_x, wind_y, drag, mass, flow)
     k4x, k4y, k4z = flight_accel(posture, fl.lean, fl.vx + dt * k3x, fl.vy + dt * k3y, fl.vz + dt * k3z, speed1,
                                  accel, accel_y, wind_x, wind_y, drag, mass, flow)
+    x = fl.x + dt * (fl.vx + dt / 6.0 * (k1x + k2x + k3x))
+    y = fl.y + dt * (fl.vy + dt / 6.0 * (k1y + k2y + k3y))
+    z = fl.z + dt * (fl.vz + dt / 6.0 * (k1z + k2z + k3z))
+    vx = fl.vx + dt / 6.0 * (k1x + 2.0 * k2x + 2.0 * k3x + k4x)
+    vy = fl.vy + dt / 6.0 * (k1y + 2.0 * k2y + 2.0 * k3y + k4y)
+    vz = fl.vz + dt / 6.0 * (k1z + 2.0 * k2z + 2.0 * k3z + k4z)
+    return Flight(x, z, vx, vz, fl.row, fl.lean, fl.low_dx, fl.low_dz, fl.left, fl.right, fl.fallen, fl.ground_x,
+                  y, vy, fl.roll, fl.side)
+
+
+@kernel
+def stage_accel(posture, lean, x, y, z, vx, vy, vz, speed, accel, accel_y, wind_x, wind_y, drag, mass, tethers,
+                tout, flow):
+    """The acceleration at one Runge-Kutta stage: flight_accel, and with rigging the tethers' pull,
+    which depends on where the body is as well as on how fast it moves."""
+    ax, ay, az = flight_accel(posture, lean, vx, vy, vz, speed, accel, accel_y, wind_x, wind_y, drag, mass, flow)
+    if tethers.shape[0] > 0:
+        fx, fy, fz = tethers_pull(tethers, tout, mass, x, y, z, vx, vy, vz)
+        ax += fx / mass
+        ay += fy / mass
+        az += fz / mass
+    return ax, ay, az
+
+
+@kernel
+def rk4_tethered(fl, posture, speed0, speed1, accel, accel_y, wind_x, wind_y, drag, mass, dt, tethers, tout, flow):
+    """rk4 with the tethers' pull, which depends on where the body is: each stage meets the body where
+    that stage puts it (p + dt/2 k_p, ...) as well as at its velocity. tethers, tout: the rigging
+    (records.TETHER) and this variant's absorber state (records.TETHER_OUT); with none it gives what
+    rk4 gives (tested)."""
+    mid = 0.5 * (speed0 + speed1)
+    k1x, k1y, k1z = stage_accel(posture, fl.lean, fl.x, fl.y, fl.z, fl.vx, fl.vy, fl.vz, speed0, accel, accel_y,
+                                wind_x, wind_y, drag, mass, tethers, tout, flow)
+    k2x, k2y, k2z = stage_accel(posture, fl.lean, fl.x + 0.5 * dt * fl.vx, fl.y + 0.5 * dt * fl.vy,
+                                fl.z + 0.5 * dt * fl.vz, fl.vx + 0.5 * dt * k1x, fl.vy + 0.5 * dt * k1y,
+                                fl.vz + 0.5 * dt * k1z, mid, accel, accel_y, wind_x, wind_y, drag, mass, tethers, tout, flow)
+    k3x, k3y, k3z = stage_accel(posture, fl.lean, fl.x + 0.5 * dt * (fl.vx + 0.5 * dt * k1x),
+                                fl.y + 0.5 * dt * (fl.vy + 0.5 * dt * k1y), fl.z + 0.5 * dt * (fl.vz + 0.5 * dt * k1z),
+                                fl.vx + 0.5 * dt * k2x, fl.vy + 0.5 * dt * k2y, fl.vz + 0.5 * dt * k2z, mid, accel,
+                                accel_y, wind_x, wind_y, drag, mass, tethers, tout, flow)
+    k4x, k4y, k4z = stage_accel(posture, fl.lean, fl.x + dt * (fl.vx + 0.5 * dt * k2x),
+                                fl.y + dt * (fl.vy + 0.5 * dt * k2y), fl.z + dt * (fl.vz + 0.5 * dt * k2z),
+                                fl.vx + dt * k3x, fl.vy + dt * k3y, fl.vz + dt * k3z, speed1, accel, accel_y, wind_x,
+                                wind_y, drag, mass, tethers, tout, flow)
     x = fl.x + dt * (fl.vx + dt / 6.0 * (k1x + k2x + k3x))
     y = fl.y + dt * (fl.vy + dt / 6.0 * (k1y + k2y + k3y))
     z = fl.z + dt * (fl.vz + dt / 6.0 * (k1z + k2z + k3z))
@@ -198,11 +247,12 @@ def inside_margin(cars, car, x):
 
 
 @kernel
-def kept_out_of_cars(cars, before, after):
+def kept_out_of_cars(cars, before, after, least_clear):
     """A body below a car's roof level cannot be inside that car: it meets the end wall it flew at
     and stops against it (no bounce); a body that has fallen past a roof's end goes down beside
-    that end; over the roof a touchdown has already taken it."""
-    clear = side_clearance(after)
+    that end; over the roof a touchdown has already taken it. least_clear: the least distance (m) its
+    centre of mass keeps from a car's side (0: side_clearance alone)."""
+    clear = max(side_clearance(after), least_clear)
     for i in range(cars.shape[0]):
         car = cars[i]
         if after.z + after.low_dz >= car.roof_height or beside(car, after.y - after.side * clear):

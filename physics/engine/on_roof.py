@@ -9,7 +9,7 @@ import math
 from collections import namedtuple
 
 from physics import G
-from physics.engine.air_load import at_height, rotate
+from physics.engine.air_load import AirLoad, at_height, rotate
 from physics.engine.beat_state import Beat, State, failed, lifted, travel, with_mode
 from physics.engine.flight import over_the_side, take_off
 from physics.engine.frontal import frontal_load, frontal_step, held, level, roof_slope, roof_z_at, slope_cos_sin
@@ -20,6 +20,7 @@ from physics.engine.recording import record_roof
 from physics.engine.roof import car_at, roof_friction
 from physics.engine.roof_air import roof_flow
 from physics.engine.sliding import Slide, gait_force, grip_demand, slide_direction, slide_step
+from physics.engine.tether import watch_tethers
 from physics.engine.stance import (LIE_ANGLE, balance_step, carry_on, delayed_cop, equilibrium_cop, judge_support,
                                    laid, lie_down, restart, settle, stepped, with_lean)
 from physics.records import ActionCode, Contact, Event, Mode
@@ -113,7 +114,20 @@ def roof_iteration(v, inputs, env, state, plan, act, out):
     side_load = frontal_load(load.air, v.mass, load.com_z, ft.slope_sin, env.body.felt_y, load.normal, g)
     beat, bal, fr, slide, across = sideways(v, inputs, env, beat, bal, state.frontal, side_load, ft, plan, slide,
                                             restart_now, was_assessing, act, out)
-    beat, grip, moved = grip_and_slide(v, inputs, env, beat, bal, load, side_load.side, ft, plan, slide, g, out)
+    pull = load.air
+    side = side_load.side
+    if inputs.tethers.shape[0] > 0:
+        # The tethers hold the body's sliding contact: their stretch is measured to the harness where the
+        # posture's centre of mass stands upright over the contact (a lean or a topple does not stretch
+        # them), and their pull adds to the loads the roof's friction must hold and to the normal load,
+        # not to the balance.
+        tx, ty, tz = watch_tethers(v, inputs, env, not beat.assessing or beat.mode != Mode.PLANTED,
+                                   slide.x + posture.com_x, slide.y, ft.roof_z + posture.com_z,
+                                   slide.u + ft.gait_v, slide.w + ft.gait_vy, 0.0, out)
+        pull = AirLoad(load.air.fx + tx, load.air.fy + ty, load.air.fz + tz, load.air.torque_cos,
+                       load.air.torque_sin, load.air.roll)
+        side += ty
+    beat, grip, moved = grip_and_slide(v, inputs, env, beat, bal, load, pull, side, ft, plan, slide, g, out)
     lean_required = 0.0 if plan.settling else target.required
     air = load.air
     if was_assessing and beat.mode != Mode.DOWN and not bal.lying:
@@ -225,12 +239,13 @@ def sideways(v, inputs, env, beat, bal, fr, side_load, ft, plan, slide, restart_
 
 
 @kernel
-def grip_and_slide(v, inputs, env, beat, bal, load, side, ft, plan, slide, g, out):
-    """Grip demand, a slip if it beats static friction, and the contact's move: (beat, grip, slide at t_(k+1))."""
+def grip_and_slide(v, inputs, env, beat, bal, load, pull, side, ft, plan, slide, g, out):
+    """Grip demand, a slip if it beats static friction, and the contact's move: (beat, grip, slide at t_(k+1)).
+    pull: the air load, with any tethers' pull added."""
     phase = slide.gait_phase + 2.0 * math.pi * plan.gait_rate * v.dt
     walking = beat.mode == Mode.PLANTED and not bal.lying
     push = gait_force(phase, plan.gait_friction, v.weight) if walking else 0.0
-    grip = grip_demand(load.air, v.mass, env.accel, push, side, ft.slope_cos, g)
+    grip = grip_demand(pull, v.mass, env.accel, push, side, ft.slope_cos, g)
     x, u, udot, y, w = slide.x, slide.u, slide.udot, slide.y, slide.w
     if beat.mode == Mode.PLANTED or (beat.mode == Mode.DOWN and bal.lying and u == 0.0 and w == 0.0):
         if grip.demand > ft.mu_static:
@@ -247,7 +262,7 @@ def grip_and_slide(v, inputs, env, beat, bal, load, side, ft, plan, slide, g, ou
             udot = 0.0
     if beat.mode == Mode.SLIDING or (beat.mode == Mode.DOWN and (u != 0.0 or w != 0.0)):
         com_accel_x = bal.accel * load.com_z - bal.rate * bal.rate * load.com_x
-        u, w, udot, stopped = slide_step(u, w, load.air.fx - v.mass * env.accel, side, v.mass, ft.mu_kinetic,
+        u, w, udot, stopped = slide_step(u, w, pull.fx - v.mass * env.accel, side, v.mass, ft.mu_kinetic,
                                          grip.static_normal, com_accel_x, v.dt)
         if stopped and beat.mode == Mode.SLIDING:
             beat = with_mode(beat, Mode.PLANTED)
