@@ -721,7 +721,7 @@ def draw_facts(canvas, tr, i: int, cam: EndCamera, car, layout, area: Box) -> No
 
 def legend_rows(view, units: str, px_per_m: float | None, scene=None) -> list[tuple]:
     """The end view's legend: the vector keys it draws, its paths and zones, the scale bars, the timeline."""
-    from preview.panels import VECTOR_LEGEND, bar_row, timeline_legend_rows
+    from preview.panels import VECTOR_LEGEND, bar_row, rigging_legend_rows, timeline_legend_rows
     rows = [("vector", (key, colour if name in view.vectors else FAINT, words))
             for key, name, colour, words in VECTOR_LEGEND if name != "segments"]
     rows.append(("trail", (TRAIL, f"centre of mass, last {view.trail_seconds:g} s")))
@@ -732,4 +732,4 @@ def legend_rows(view, units: str, px_per_m: float | None, scene=None) -> list[tu
     road = scene is not None and bool(getattr(scene, "road", False))
     rows.append(("zone", (STRUCTURE, "structure over the road" if road else "structure deck over the track")))
     rows += air_layer.legend_row(view, scene, end=True)
-    return rows + timeline_legend_rows(scene)
+    return rows + rigging_legend_rows(scene) + timeline_legend_rows(scene)

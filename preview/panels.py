@@ -252,7 +252,17 @@ def legend_rows(view, units: str, px_per_m: float | None, scene=None) -> list[tu
     rows.append(bar_row(WIND_PER_METRE, "wind", WIND, "(apparent wind)", units, px_per_m))
     rows.append(("zone", (LANDING_ZONE, "landing zone (a jump's landing roof)")))
     rows += air_layer.legend_row(view, scene)
-    return rows + timeline_legend_rows(scene)
+    return rows + rigging_legend_rows(scene) + timeline_legend_rows(scene)
+
+
+def rigging_legend_rows(scene=None) -> list[tuple]:
+    """With rigging: what a tether's colour says (its tension against the arrest-force limit on the body,
+    as preview.world.tether_colour draws it)."""
+    if scene is None or not getattr(scene, "rigging", ()):
+        return []
+    return [("zone", (HOLDS, "tether: under half its limit (the body's arrest force)")),
+            ("zone", (MARGINAL, "tether: from half its limit to the limit")),
+            ("zone", (FAILURE, "tether: over its limit; a running line: its end anchors' load"))]
 
 
 def bar_row(per_metre: float, dimension: str, colour, what: str, units: str, px_per_m: float | None) -> tuple:

@@ -373,3 +373,21 @@ def test_bundled_rigging_scenes():
     within = {c["what"]: c["within"] for c in row["limits"]}
     assert within["peak anchor load"] is False and within["free fall"] is False   # as its header says
     assert "hanging against the left side" in row["hangs"]
+
+
+def test_the_legends_say_what_a_tethers_colour_means_only_with_rigging():
+    from physics.scene_load import load_scene
+    from preview.frame import ViewSettings
+    from preview.palette import FAILURE, HOLDS, MARGINAL
+    from preview.panels import legend_rows
+    from preview.world import tether_colour
+    rigged = load_scene(REPO / "scenes" / "tethered_brake_slip.toml")
+    plain = load_scene(REPO / "scenes" / "heritage_excursion.toml")
+    for frame in ("car", "end"):
+        rows = [payload for kind, payload in legend_rows(ViewSettings(frame=frame), "metric", None, rigged)
+                if kind == "zone" and "tether" in payload[1]]
+        # The three colours the drawing uses, at a quarter, three quarters and twice the limit.
+        assert [colour for colour, _ in rows] == [tether_colour(f, 8000.0) for f in (2000.0, 6000.0, 16000.0)]
+        assert [colour for colour, _ in rows] == [HOLDS, MARGINAL, FAILURE]
+        assert not [p for k, p in legend_rows(ViewSettings(frame=frame), "metric", None, plain)
+                    if k == "zone" and "tether" in p[1]]
