@@ -105,15 +105,17 @@ def test_a_brief_on_a_full_disk_leaves_nothing(tmp_path):
 
 def test_sigterm_during_an_export_cleans_up_like_ctrl_c(tmp_path):
     env = dict(os.environ, SDL_VIDEODRIVER="dummy")
+    # 48 frames a second over the whole beat: hundreds of frames, so the stop lands mid-export.
     proc = subprocess.Popen([sys.executable, "-m", "preview.cli", "render", SCENE, "-o", str(tmp_path / "long.gif"),
-                             "--size", "1280x720"], cwd=REPO, env=env, stderr=subprocess.PIPE, text=True)
+                             "--size", "1280x720", "--fps", "48"], cwd=REPO, env=env, stdout=subprocess.PIPE,
+                            stderr=subprocess.PIPE, text=True)
     deadline = time.monotonic() + 120
     while not any(".part" in p.name for p in tmp_path.iterdir()):
         assert proc.poll() is None and time.monotonic() < deadline, "the export ended before it could be stopped"
         time.sleep(0.05)
     proc.send_signal(signal.SIGTERM)
-    _, err = proc.communicate(timeout=60)
-    assert proc.returncode == 143, err
+    out, err = proc.communicate(timeout=60)
+    assert proc.returncode == 143, f"stdout: {out!r}; stderr: {err!r}"
     assert "nothing was left half-written" in err
     assert sorted(p.name for p in tmp_path.iterdir()) == []
 
