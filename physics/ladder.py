@@ -62,6 +62,12 @@ def build_ladder(scene: Scene, rungs: int = 5) -> dict:
                      "margins": {words: (float(worst[field]) if math.isfinite(worst[field]) else None)
                                  for field, _, words, _ in FACTORS},
                      "below_required": shortfalls(scene.safety, worst)})
+    if scene.air.roof_flow is not None:
+        # Each rung's verdict with the free stream at every height beside the profile's (the bound).
+        uniform = without_roof_air(scene)
+        bound = _run(uniform, "speed", speeds)
+        for row, code in zip(rows, verdict_codes(uniform, bound.events, bound.outcomes)):
+            row["uniform_air_verdict"] = NAMES[code]
     short = next((r["rung"] for r in rows if r["verdict"] != "holds"), None)
     return {"scene": scene.title, "units": "SI", "rungs": rows, "first_rung_short": short,
             "abort_limits": abort_limits(scene), "wind_machine": wind_machine(scene)}

@@ -281,9 +281,11 @@ def ladder_text(scene, ladder: dict) -> str:
         for w, unit in zip(words, (u for _, _, _, u in FACTORS_WORDS)):
             value = row["margins"][w]
             cells.append("-" if value is None else factor_value(value, unit, system))
+        bound = row.get("uniform_air_verdict")
         lines.append(f"{row['rung']:<5}{show(row['speed_ms'], 'speed', system, '.1f'):>12}  {row['verdict']:<9}"
                      + "".join(f"{c:>16}" for c in cells)
-                     + (f"  {row['first_failure']}" if row["first_failure"] else ""))
+                     + (f"  {row['first_failure']}" if row["first_failure"] else "")
+                     + (f"  free stream: {bound}" if bound else ""))
     lines.append("required: " + ", ".join(f"{w} {factor_value(getattr(scene.safety, f), u, system, False)}"
                                           for _, f, w, u in FACTORS_WORDS))
     short = ladder["first_rung_short"]

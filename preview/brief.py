@@ -566,6 +566,10 @@ def _page_ladder(page: Page, scene, content, ladder) -> None:
         for (head, x), cell in zip(heads, cells):
             page.text(MARGIN_IN + x, cell, BODY, "bold" if head in short or head == "verdict" else "normal")
         page.y -= ROW
+    if any("uniform_air_verdict" in row for row in ladder["rungs"]):
+        page.para("With the air over the roof off (the free stream at every height, the bound) the rungs read: "
+                  + "; ".join(f"{row['rung']} {row['uniform_air_verdict'].upper()}" for row in ladder["rungs"])
+                  + ".", BODY, "bold")
     first = ladder["first_rung_short"]
     page.para("Every rung holds with the required factors." if first is None else
               f"First rung short of the factors: rung {first} "

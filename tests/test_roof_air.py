@@ -208,7 +208,10 @@ def test_every_headline_gives_the_free_stream_bound_beside_the_profile(capsys):
     assert "at the body's centre of mass height, in the air over the roof" in text
 
     assert main(["ladder", BUNDLED, "--json"]) == 0
-    limits = json.loads(capsys.readouterr().out)["abort_limits"]
+    ladder = json.loads(capsys.readouterr().out)
+    assert ladder["rungs"][-1]["verdict"] == "holds" and ladder["rungs"][-1]["uniform_air_verdict"] == "marginal"
+    assert ladder["rungs"][0]["uniform_air_verdict"] == "holds"
+    limits = ladder["abort_limits"]
     profiled, uniform = limits["speed"]["holds_with_factors"], limits["uniform_air"]["speed"]
     assert uniform < 25.0 < profiled    # the planned 90 km/h lies between them
     assert main(["envelope", BUNDLED, "--vary", "speed=5..225 km/h", "--points", "41", "--json"]) == 0
