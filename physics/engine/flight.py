@@ -75,6 +75,12 @@ def rk4(fl, posture, speed0, speed1, accel, accel_y, wind_x, wind_y, drag, mass,
                                  fl.vz + 0.5 * dt * k2z, mid, accel, accel_y, wind_x, wind_y, drag, mass, flow)
     k4x, k4y, k4z = flight_accel(posture, fl.lean, fl.vx + dt * k3x, fl.vy + dt * k3y, fl.vz + dt * k3z, speed1,
                                  accel, accel_y, wind_x, wind_y, drag, mass, flow)
+    return rk4_update(fl, dt, k1x, k1y, k1z, k2x, k2y, k2z, k3x, k3y, k3z, k4x, k4y, k4z)
+
+
+@small
+def rk4_update(fl, dt, k1x, k1y, k1z, k2x, k2y, k2z, k3x, k3y, k3z, k4x, k4y, k4z):
+    """The classical Runge-Kutta update of position and velocity from the four stages' accelerations."""
     x = fl.x + dt * (fl.vx + dt / 6.0 * (k1x + k2x + k3x))
     y = fl.y + dt * (fl.vy + dt / 6.0 * (k1y + k2y + k3y))
     z = fl.z + dt * (fl.vz + dt / 6.0 * (k1z + k2z + k3z))
@@ -119,14 +125,7 @@ def rk4_tethered(fl, posture, speed0, speed1, accel, accel_y, wind_x, wind_y, dr
                                 fl.y + dt * (fl.vy + 0.5 * dt * k2y), fl.z + dt * (fl.vz + 0.5 * dt * k2z),
                                 fl.vx + dt * k3x, fl.vy + dt * k3y, fl.vz + dt * k3z, speed1, accel, accel_y, wind_x,
                                 wind_y, drag, mass, tethers, tout, flow)
-    x = fl.x + dt * (fl.vx + dt / 6.0 * (k1x + k2x + k3x))
-    y = fl.y + dt * (fl.vy + dt / 6.0 * (k1y + k2y + k3y))
-    z = fl.z + dt * (fl.vz + dt / 6.0 * (k1z + k2z + k3z))
-    vx = fl.vx + dt / 6.0 * (k1x + 2.0 * k2x + 2.0 * k3x + k4x)
-    vy = fl.vy + dt / 6.0 * (k1y + 2.0 * k2y + 2.0 * k3y + k4y)
-    vz = fl.vz + dt / 6.0 * (k1z + 2.0 * k2z + 2.0 * k3z + k4z)
-    return Flight(x, z, vx, vz, fl.row, fl.lean, fl.low_dx, fl.low_dz, fl.left, fl.right, fl.fallen, fl.ground_x,
-                  y, vy, fl.roll, fl.side)
+    return rk4_update(fl, dt, k1x, k1y, k1z, k2x, k2y, k2z, k3x, k3y, k3z, k4x, k4y, k4z)
 
 
 @small
