@@ -496,9 +496,7 @@ def _roof_flow(data: dict, r: _Reader):
     p = "air.roof_flow"
     table = r.table(data, "roof_flow", "air", required=False)
     if profile != "on":
-        if table:
-            r.fail(p, "coefficients of the air over the roof need air.roof_profile = \"on\"")
-        return None
+        return None   # its coefficients, if given, wait unused: `--set air.roof_profile=off` gives the bound
     r.unknown(table, p, ("lead_front", "train_ahead", "cars_ahead", "gap_thickness", "power", "speed_up",
                          "speed_up_length", "separation_length", "separation_height", "step_zone_length",
                          "step_zone_height", "low_speed_share"))

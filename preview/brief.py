@@ -84,7 +84,8 @@ def key_numbers(scene) -> list[tuple[str, str]]:
                      f"{' (' + c.kind + ')' if c.road else ''} {length(c.length)}, "
                      f"{'deck' if c.road else 'roof'} {length(c.roof_height)} high, {length(c.width)} wide"
                      f"{', crown ' + length(c.crown) if c.crown else ', flat'}, {c.surface} "
-                     f"(static {c.sole_static:.2f})" for _, run in runs for c in run[:1])
+                     f"(static {c.sole_static:.2f} shoes, {c.body_static:.2f} body and knees)"
+                     for _, run in runs for c in run[:1])
     if scene.speed_log is not None:
         log = scene.speed_log
         profile = (f"measured log {Path(log.file).name}: {speed(float(log.speed[0]))} at the start, top "
@@ -92,7 +93,7 @@ def key_numbers(scene) -> list[tuple[str, str]]:
     elif len(scene.keyframes) == 1:
         profile = f"constant {speed(scene.keyframes[0].speed)}"
     else:
-        profile = ", ".join(f"{speed(k.speed)} at {k.time:.0f} s" for k in scene.keyframes)
+        profile = ", ".join(f"{speed(k.speed)} at {k.time:g} s" for k in scene.keyframes)
     wind = display(scene.air.wind_speed, "wind", system, ".1f")
     wind += f" from {math.degrees(scene.air.wind_from):.0f}° ({direction_words(scene.air.wind_from)})"
     for g in scene.air.gusts:

@@ -171,7 +171,6 @@ def test_the_profile_shares_and_the_engine_agree_at_the_edges():
 
 @pytest.mark.parametrize("air_extra, flow, key, words", [
     ('roof_profile = "yes"', "", "air.roof_profile", "expected one of 'off', 'on'"),
-    ("", 'lead_front = "bluff"', "air.roof_flow", 'roof_profile = "on"'),
     (ON, 'lead_front = "pointy"', "air.roof_flow.lead_front", "'bluff', 'streamlined'"),
     (ON, 'gap_thickness = "2 s"', "air.roof_flow.gap_thickness", "length"),
     (ON, "low_speed_share = 1.5", "air.roof_flow.low_speed_share", "from 0.0 to 1.0"),
@@ -225,3 +224,21 @@ def test_with_the_profile_off_the_outputs_say_every_height_meets_the_free_stream
     text = capsys.readouterr().out
     assert "air over the roof off: every height meets the free stream" in text
     assert "the bound):" not in text
+
+
+def test_the_bound_is_one_override_away_even_with_coefficients_given():
+    # The bundled scene gives [air.roof_flow]; turning the profile off from the command line must work.
+    from physics.scene_load import load_scene
+    off = load_scene(BUNDLED, ['air.roof_profile="off"'])
+    assert off.air.roof_flow is None
+
+
+def test_the_brief_gives_keyframe_times_as_written_and_both_frictions():
+    from physics.scene_load import load_scene
+    from preview.brief import key_numbers
+    scene = load_scene("scenes/tethered_brake_slip.toml", [])
+    numbers = dict(key_numbers(scene))
+    for k in scene.keyframes:
+        assert f"at {k.time:g} s" in numbers["speed"]
+    car = scene.cars[0]
+    assert f"{car.sole_static:.2f} shoes, {car.body_static:.2f} body" in numbers["consist"]
