@@ -150,6 +150,11 @@ def brief_content(scene, playback, sweep_summary) -> dict:
     }
 
 
+def _limit_value(value: float, unit: str, system: str) -> str:
+    """A rigging figure (N or m) in the scene's units: forces to the newton, lengths to the centimetre."""
+    return display(value, "force", system, ".0f") if unit == "N" else display(value, "length", system, ".2f")
+
+
 def key_times(playback) -> list[tuple[str, float]]:
     """Two moments worth a picture: before and after the failure; in the air and landed; the
     tightest overhead clearance and the hardest moment; or the hardest moment and the end."""
@@ -394,6 +399,17 @@ def _page_one(page: Page, scene, content, sweep, sweep_summary):
                 words += (f" (planned {duck['planned_start_s']:.2f} s: " +
                           (f"{spare:.2f} s to spare)" if spare >= 0 else f"{-spare:.2f} s too late)"))
         page.para(f"Duck: {words}.", BODY + 0.5, "bold")
+    others = [e for e in content["events"] if e["failure"] and e is not content["first_failure"]
+              and e != content["first_failure"]]
+    if others:
+        page.para("Also failed: " + "; ".join(f"{e['kind']} at {e['time_s']:.2f} s ({e['detail']})" for e in others)
+                  + ".", BODY, "bold", color=FAIL_INK)
+    overs = [f"{t['name']}: {lim['what']} {_limit_value(lim['value'], lim['unit'], system)} over its limit "
+             f"{_limit_value(lim['limit'], lim['unit'], system)}"
+             for t in content.get("rigging") or [] for lim in t["limits"] if not lim["within"]]
+    if overs:
+        page.para("Rigging over its limits (the rigging page gives the sources): " + "; ".join(overs) + ".", BODY,
+                  "bold", color=FAIL_INK)
     facts = [e for e in content["events"] if not e["failure"]]
     if facts:
         page.para("Facts of the beat: " + "; ".join(f"{e['kind']} at {e['time_s']:.2f} s"

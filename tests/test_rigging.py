@@ -391,3 +391,16 @@ def test_the_legends_say_what_a_tethers_colour_means_only_with_rigging():
         assert [colour for colour, _ in rows] == [HOLDS, MARGINAL, FAILURE]
         assert not [p for k, p in legend_rows(ViewSettings(frame=frame), "metric", None, plain)
                     if k == "zone" and "tether" in p[1]]
+
+
+def test_the_briefs_first_page_names_every_failure_and_rigging_limit_exceeded(tmp_path):
+    # The signed page must not stop at the first failure: the anchor overload and the free fall over
+    # its limit are on it too.
+    import pypdfium2
+    from preview.cli import main
+    out = tmp_path / "brief.pdf"
+    assert main(["brief", str(REPO / "scenes" / "tethered_edge_fall_overload.toml"), "-o", str(out)]) == 0
+    page = pypdfium2.PdfDocument(str(out))[0].get_textpage().get_text_range().replace("\r", "").replace("\n", " ")
+    assert "Also failed: anchor overload" in page
+    assert "peak anchor load 55029 N over its limit 22240 N" in page
+    assert "free fall 2.09 m over its limit 1.80 m" in page
