@@ -323,7 +323,8 @@ def uniform_air_limit(limits: dict, name: str, system: str) -> str | None:
         return None
     value = bound[name]
     held = "none holds" if value is None else f"holds up to {display(name, value, system)}"
-    return f"with the air over the roof off (the free stream at every height, the bound): {held} with the required factors"
+    return (f"with the air over the roof off (the free stream at every height, the bound): {held} with the required "
+            "factors; abort at this figure unless the air over the roof's coefficients are checked")
 
 
 def cmd_ladder(args) -> int:

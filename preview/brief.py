@@ -379,13 +379,14 @@ def _page_one(page: Page, scene, content, sweep, sweep_summary):
     env = content["envelope"]
     if env:
         from preview.analysis import limit_words, uniform_air_limit
-        for limit in env["limits"]:
-            page.para("Top speed: " + limit_words("speed", limit, env["range"], system, env["limits"]) + ".",
-                      BODY + 0.5, "bold" if limit is env["limits"][0] else "normal")
         ladder = content.get("ladder")
         bound = ladder and uniform_air_limit(ladder["abort_limits"], "speed", system)
-        if bound:
+        if bound:   # the air over the roof is on: the free stream's limit first, the profile's after it
             page.para("Top speed " + bound + ".", BODY + 0.5, "bold")
+        for limit in env["limits"]:
+            page.para(("Top speed with the air over the roof on: " if bound else "Top speed: ")
+                      + limit_words("speed", limit, env["range"], system, env["limits"]) + ".",
+                      BODY + 0.5, "bold" if limit is env["limits"][0] and not bound else "normal")
         if any(a.kind in ("duck", "prone") for a in scene.actions) and scene.structures:
             page.para("A duck timed on the clock meets a structure later at a lower speed: the speeds above "
                       "assume the duck is cued by time; cue it by the structure's approach on the day.")
@@ -540,7 +541,7 @@ def _page_ladder(page: Page, scene, content, ladder) -> None:
     from physics.units import display as show
     from physics.verdict import FACTORS
     from preview.analysis import display as value_words
-    from preview.analysis import limit_words, uniform_air_limit
+    from preview.analysis import limit_words
     from preview.report import factor_value
     system = scene.units
     _header(page, scene, content, "rehearsal ladder and abort limits")
@@ -552,19 +553,32 @@ def _page_ladder(page: Page, scene, content, ladder) -> None:
     for name, head in (("speed", "TOP SPEED"),
                        ("wind_speed", f"AMBIENT WIND from {limits['wind_from_deg']:.0f}°, at the planned speed")):
         factored = limits[name]["limits"][0]
-        if factored["value"] is None:
-            big = f"{head}: none holds with the required factors: do not shoot the beat as written"
+        uniform = limits.get("uniform_air")
+        if uniform is not None:
+            # The air over the roof lowers the loads on soft coefficients: the free stream's limit is the
+            # headline, the profile's beside it.
+            value = uniform[name]
+            big = (f"{head}: none holds with the required factors with the free stream at every height: do not "
+                   "shoot the beat as written" if value is None else
+                   f"{head}: {value_words(name, value, system)} (the free stream at every height)")
+            page.para(big, 13, "bold")
+            profiled = ("none holds" if factored["value"] is None
+                        else f"holds up to {value_words(name, factored['value'], system)}")
+            page.para(f"With the air over the roof on: {profiled} with the required factors; its coefficients are "
+                      "roofbeat's defaults or the scene's, not measured on this train: abort at the figure above "
+                      "unless they are checked.", BODY + 1, "bold")
         else:
-            big = f"{head}: {value_words(name, factored['value'], system)}"
-            if factored["bound"]:
-                big += " or more (the end of the sweep)"
-        page.para(big, 13, "bold")
-        bound = uniform_air_limit(limits, name, system)
-        if bound:
-            page.para(bound[0].upper() + bound[1:] + ".", 11, "bold")
+            if factored["value"] is None:
+                big = f"{head}: none holds with the required factors: do not shoot the beat as written"
+            else:
+                big = f"{head}: {value_words(name, factored['value'], system)}"
+                if factored["bound"]:
+                    big += " or more (the end of the sweep)"
+            page.para(big, 13, "bold")
         for limit in limits[name]["limits"]:
-            page.para(limit_words(name, limit, limits[name]["range"], system, limits[name]["limits"]) + ".",
-                      BODY, color=SOFT)
+            words = limit_words(name, limit, limits[name]["range"], system, limits[name]["limits"])
+            page.para(("With the air over the roof on: " if uniform is not None else "") + words + ".", BODY,
+                      color=SOFT)
     page.rule()
     page.heading("rungs: build up from walking pace; margins are the worst over the beat")
     heads = [("rung", 0.0), ("speed", 0.45), ("verdict", 1.3)] + [(w, 2.1 + 0.86 * i) for i, (_, _, w, _)

@@ -242,3 +242,14 @@ def test_the_brief_gives_keyframe_times_as_written_and_both_frictions():
         assert f"at {k.time:g} s" in numbers["speed"]
     car = scene.cars[0]
     assert f"{car.sole_static:.2f} shoes, {car.body_static:.2f} body" in numbers["consist"]
+
+
+def test_the_briefs_abort_limit_in_large_type_is_the_free_streams(tmp_path):
+    import pypdfium2
+    from preview.cli import main
+    out = tmp_path / "brief.pdf"
+    assert main(["brief", BUNDLED, "-o", str(out)]) == 0
+    pdf = pypdfium2.PdfDocument(str(out))
+    last = pdf[len(pdf) - 1].get_textpage().get_text_range().replace("\r", "").replace("\n", " ")
+    assert "TOP SPEED: 82.37 km/h (the free stream at every height)" in last
+    assert "With the air over the roof on: holds up to 116.17 km/h" in last
