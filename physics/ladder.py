@@ -70,6 +70,7 @@ def build_ladder(scene: Scene, rungs: int = 5) -> dict:
             row["uniform_air_verdict"] = NAMES[code]
     short = next((r["rung"] for r in rows if r["verdict"] != "holds"), None)
     return {"scene": scene.title, "units": "SI", "rungs": rows, "first_rung_short": short,
+            "scaling_note": scaling_note(scene),
             "abort_limits": abort_limits(scene), "wind_machine": wind_machine(scene)}
 
 
@@ -79,6 +80,18 @@ def _worst(outcomes):
     for field, _, _, _ in FACTORS:
         row[field] = np.min(outcomes[field])
     return row
+
+
+def scaling_note(scene: Scene) -> str | None:
+    """When the speed changes within the beat: the sweeps scale the whole profile with its keyframe times
+    kept, so its braking and acceleration scale too; a beat that fails on its braking rate can fail at a
+    lower top speed braked as hard. None for a steady speed."""
+    speeds = [k.speed for k in scene.keyframes]
+    if scene.speed_log is None and (len(speeds) < 2 or max(speeds) == min(speeds)):
+        return None
+    return ("the speed limits scale the whole speed profile with its times kept, so its braking and "
+            "acceleration scale with it: braked as hard as planned from a lower speed, the beat can still fail "
+            "(check such a rung with its own keyframes)")
 
 
 def abort_limits(scene: Scene) -> dict:

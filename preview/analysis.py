@@ -308,6 +308,8 @@ def ladder_text(scene, ladder: dict) -> str:
         bound = uniform_air_limit(ladder["abort_limits"], name, system)
         if bound:
             lines.append("    " + bound)
+    if ladder.get("scaling_note"):
+        lines.append("  NOTE: " + ladder["scaling_note"])
     machine = ladder["wind_machine"]
     lines += ["", f"wind machine for a rehearsal on a stationary vehicle: "
                   f"{show(machine['air_speed_ms'], 'wind', system, '.1f')} from {machine['from_deg']:.0f}° "

@@ -383,6 +383,10 @@ def _page_one(page: Page, scene, content, sweep, sweep_summary):
         bound = ladder and uniform_air_limit(ladder["abort_limits"], "speed", system)
         if bound:   # the air over the roof is on: the free stream's limit first, the profile's after it
             page.para("Top speed " + bound + ".", BODY + 0.5, "bold")
+        from physics.ladder import scaling_note
+        note = scaling_note(scene)
+        if note:
+            page.para(note[0].upper() + note[1:] + ".", BODY, "bold")
         for limit in env["limits"]:
             page.para(("Top speed with the air over the roof on: " if bound else "Top speed: ")
                       + limit_words("speed", limit, env["range"], system, env["limits"]) + ".",
@@ -579,6 +583,9 @@ def _page_ladder(page: Page, scene, content, ladder) -> None:
             words = limit_words(name, limit, limits[name]["range"], system, limits[name]["limits"])
             page.para(("With the air over the roof on: " if uniform is not None else "") + words + ".", BODY,
                       color=SOFT)
+    if ladder.get("scaling_note"):
+        note = ladder["scaling_note"]
+        page.para(note[0].upper() + note[1:] + ".", BODY + 0.5, "bold")
     page.rule()
     page.heading("rungs: build up from walking pace; margins are the worst over the beat")
     heads = [("rung", 0.0), ("speed", 0.45), ("verdict", 1.3)] + [(w, 2.1 + 0.86 * i) for i, (_, _, w, _)

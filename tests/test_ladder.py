@@ -66,3 +66,11 @@ def test_ladder_text_names_the_first_short_rung_and_the_limits(capsys):
     assert "first rung short of the factors: rung" in text and "ABORT LIMITS" in text
     assert "TOP SPEED (swept" in text and "holds with the required factors up to" in text
     assert "CAUTION:" in text
+
+
+def test_a_beat_whose_speed_changes_says_its_limits_scale_the_braking_too(capsys):
+    # The sweep keeps the keyframe times, so braking scales with the top speed; a braking beat says so.
+    assert main(["ladder", str(REPO / "scenes" / "tethered_brake_slip.toml"), "--json"]) == 0
+    assert "braking" in json.loads(capsys.readouterr().out)["scaling_note"]
+    assert main(["ladder", str(REPO / "scenes" / "rear_car_prone.toml"), "--json"]) == 0
+    assert json.loads(capsys.readouterr().out)["scaling_note"] is None
