@@ -527,7 +527,11 @@ def draw_rigging(canvas, playback, t: float, cam: Camera, layout, area: Box, lab
         px, py = cam.to_screen(harness_path(tr)[j][0], harness_path(tr)[j][2])
         if area.x <= px <= area.right and area.y <= py <= area.bottom:
             peak = float(arrest["demand"])
-            colour = HOLDS if peak <= limit else FAILURE
+            # An arrest is never a clean hold (its action is marginal); any rigging figure over its limit
+            # (the body's force, an anchor's load, the free fall) makes it a failure's colour.
+            over = peak > limit or any(not lim["within"] for t in playback.summary.get("rigging", [])
+                                       for lim in t["limits"])
+            colour = FAILURE if over else MARGINAL
             if not labels:
                 canvas.circle((px, py), 11, colour, 3)
                 return

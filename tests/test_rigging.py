@@ -404,3 +404,19 @@ def test_the_briefs_first_page_names_every_failure_and_rigging_limit_exceeded(tm
     assert "Also failed: anchor overload" in page
     assert "peak anchor load 55029 N over its limit 22240 N" in page
     assert "free fall 2.09 m over its limit 1.80 m" in page
+
+
+@pytest.mark.parametrize("name, over", [("tethered_brake_slip", False), ("tethered_edge_fall_overload", True)])
+def test_the_arrest_callout_is_never_green_and_red_when_any_rigging_limit_is_over(name, over):
+    from physics.scene_load import load_scene
+    from preview.canvas import RecordingCanvas
+    from preview.frame import VECTOR_KEYS, ViewSettings, draw_frame
+    from preview.palette import FAILURE, MARGINAL
+    from preview.session import make_playback
+    pb = make_playback(load_scene(REPO / "scenes" / f"{name}.toml"))
+    arrest = next(e for e in pb.summary["events"] if e["kind"] == "arrested")
+    canvas = RecordingCanvas(size=(1280, 720))
+    draw_frame(canvas, pb, min(arrest["time_s"] + 0.5, pb.scene.duration), ViewSettings(vectors=frozenset(VECTOR_KEYS)))
+    callouts = [c for c in canvas.calls if c[0] == "text" and c[1][1].startswith("ARRESTED")]
+    assert callouts, "no arrest callout drawn"
+    assert {c[2] for c in callouts} == {FAILURE if over else MARGINAL}
