@@ -67,10 +67,6 @@ def _first_failure_time(events) -> float | None:
     return min(times) if times else None
 
 
-def _index(trajectory, t: float) -> int:
-    return trajectory.index_at(t)
-
-
 def where_hanging(scene, trajectory, point) -> str:
     """Where the harness ends up, in plain words."""
     x, y, z = (float(v) for v in point)
@@ -129,9 +125,9 @@ def rigging_summary(trajectory) -> list[dict]:
             "went_before_held_m": None, "free_fall_m": None, "deceleration_distance_m": None,
         }
         if not math.isnan(taut_t):
-            taut_p = path[_index(trajectory, taut_t)]
+            taut_p = path[trajectory.index_at(taut_t)]
             if start_t is not None and start_t <= taut_t:
-                start_p = path[_index(trajectory, start_t)]
+                start_p = path[trajectory.index_at(start_t)]
                 row["went_before_held_m"] = float(np.linalg.norm(taut_p - start_p))
                 row["free_fall_m"] = float(max(start_p[2] - taut_p[2], 0.0))
             elif start_t is None or start_t > taut_t:
@@ -139,7 +135,7 @@ def rigging_summary(trajectory) -> list[dict]:
                 row["free_fall_m"] = 0.0
             stop_t = arrest_t if not math.isnan(arrest_t) and arrest_t >= taut_t else peak_t
             if not math.isnan(stop_t):
-                row["deceleration_distance_m"] = float(np.linalg.norm(path[_index(trajectory, stop_t)] - taut_p))
+                row["deceleration_distance_m"] = float(np.linalg.norm(path[trajectory.index_at(stop_t)] - taut_p))
         row["hangs"] = where_hanging(scene, trajectory, path[-1])
         row["limits"] = _limits(safety, row)
         out.append(row)

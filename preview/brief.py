@@ -404,8 +404,7 @@ def _page_one(page: Page, scene, content, sweep, sweep_summary):
                 words += (f" (planned {duck['planned_start_s']:.2f} s: " +
                           (f"{spare:.2f} s to spare)" if spare >= 0 else f"{-spare:.2f} s too late)"))
         page.para(f"Duck: {words}.", BODY + 0.5, "bold")
-    others = [e for e in content["events"] if e["failure"] and e is not content["first_failure"]
-              and e != content["first_failure"]]
+    others = [e for e in content["events"] if e["failure"] and e != content["first_failure"]]
     if others:
         page.para("Also failed: " + "; ".join(f"{e['kind']} at {e['time_s']:.2f} s ({e['detail']})" for e in others)
                   + ".", BODY, "bold", color=FAIL_INK)

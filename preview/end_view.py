@@ -377,8 +377,7 @@ def draw_tethers(canvas, playback, i: int, car_cam: EndCamera, pose: EndCamera, 
     line seen end-on, a ring) to the harness, coloured by tension against the limit on the body, the
     tension beside it."""
     from physics.rigging import harness_path
-    from physics.units import display
-    from preview.world import small_label, tether_colour
+    from preview.world import tension_label, tether_colour
     canvas.tag = "rigging"
     tr, scene = playback.trajectory, playback.scene
     harness = harness_path(tr)[i]
@@ -395,11 +394,7 @@ def draw_tethers(canvas, playback, i: int, car_cam: EndCamera, pose: EndCamera, 
         end = pose.to_screen(float(harness[1]), float(harness[2]))
         canvas.line(anchor, end, colour, 3 if force > 0 else 1)
         if force > 0.0:
-            # Beside the tether, from its middle toward its anchor: the first free place.
-            along = [(anchor[0] + f * (end[0] - anchor[0]), anchor[1] + f * (end[1] - anchor[1]))
-                     for f in (0.5, 0.35, 0.2, 0.0)]
-            small_label(canvas, layout, area, display(force, "force", scene.units, ".0f"), colour, ts,
-                        [(x + dx, y + dy) for x, y in along for dx, dy in ((8, 0), (-8, 0), (0, -12), (0, 12))])
+            tension_label(canvas, layout, area, anchor, end, display(force, "force", scene.units, ".0f"), colour, ts)
 
 
 def draw_figure(canvas, tr, i: int, cam: EndCamera, ghost: bool = False) -> None:

@@ -475,6 +475,14 @@ def small_label(canvas, layout, area: Box, words: str, colour, size: int, near) 
                 return
 
 
+def tension_label(canvas, layout, area: Box, anchor, end, words: str, colour, size: int) -> None:
+    """A tether's tension beside it, from its middle toward its anchor: the first free place."""
+    along = [(anchor[0] + f * (end[0] - anchor[0]), anchor[1] + f * (end[1] - anchor[1]))
+             for f in (0.5, 0.35, 0.2, 0.0)]
+    small_label(canvas, layout, area, words, colour, size,
+                [(x + dx, y + dy) for x, y in along for dx, dy in ((8, 0), (-8, 0), (0, -12), (0, 12))])
+
+
 def draw_rigging(canvas, playback, t: float, cam: Camera, layout, area: Box, labels: bool) -> None:
     """Each tether from its anchor (a running line drawn with its end anchors, the ring where the tether
     leaves it) to the harness, coloured by its tension against the limit; once a tether has arrested the
@@ -516,11 +524,7 @@ def draw_rigging(canvas, playback, t: float, cam: Camera, layout, area: Box, lab
         if not labels:
             canvas.line(anchor, end, colour, 3 if force > 0 else 1)
         elif force > 0.0:
-            # Beside the tether, from its middle toward its anchor: the first free place.
-            along = [(anchor[0] + f * (end[0] - anchor[0]), anchor[1] + f * (end[1] - anchor[1]))
-                     for f in (0.5, 0.35, 0.2, 0.0)]
-            small_label(canvas, layout, area, display(force, "force", scene.units, ".0f"), colour, ts,
-                        [(x + dx, y + dy) for x, y in along for dx, dy in ((8, 0), (-8, 0), (0, -12), (0, 12))])
+            tension_label(canvas, layout, area, anchor, end, display(force, "force", scene.units, ".0f"), colour, ts)
     arrest = next((e for e in playback.summary["events"] if e["kind"] == "arrested"), None)
     if arrest is not None and t >= arrest["time_s"] - 1e-9:
         j = tr.index_at(arrest["time_s"])

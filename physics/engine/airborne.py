@@ -6,8 +6,8 @@ import math
 
 from physics.engine.air_load import air_load, at_height, rotate
 from physics.engine.beat_state import Beat, State, failed, travel, with_mode
-from physics.engine.flight import (ACROSS_REACH, Flight, beside, crossing, inside_margin, kept_out_of_cars, land, on_the_ground,
-                                   rk4, rk4_tethered, take_off, touchdown_car)
+from physics.engine.flight import (ACROSS_REACH, Flight, beside, crossing, inside_margin, kept_out_of_cars, land,
+                                   on_the_ground, rk4, rk4_tethered, take_off, touchdown_car)
 from physics.engine.frontal import held, level, roof_z_at
 from physics.engine.jit import apart, kernel, small
 from physics.engine.outcome import note_air, note_event, note_landing_margin, note_target, note_touchdown
@@ -83,9 +83,11 @@ def flight_flow(v, inputs, env, fl, posture):
     """The air over the roof under a body in the air, as it is at the step's start: that of the roof
     below its centre of mass, read from the height of its posture's pivot above it; uniform beside the
     cars, over a gap or once fallen."""
+    if not inputs.airflow[0].on or fl.fallen:
+        return uniform_flow()
     cars = inputs.cars
     car = car_at(cars, fl.x)
-    if fl.fallen or car < 0:
+    if car < 0:
         return uniform_flow()
     unused, cz = rotate(posture.com_x, posture.com_z, math.cos(fl.lean), math.sin(fl.lean))
     flow = roof_flow(inputs.airflow[0], cars, car, fl.x, fl.y, env.wind_x - env.speed, env.wind_y, v.params.density)
