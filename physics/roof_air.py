@@ -83,10 +83,10 @@ def flat_plate_thickness(run, speed, nu, plate: float = FLAT_PLATE):
     return np.where(run > 0.0, out, 0.0)
 
 
-def thickness(flow: RoofFlow, cars, x, speed, nu):
-    """Boundary layer thickness (m) over the roof at car-frame x (m, negative toward the rear) for air
-    moving along the train at `speed` m/s relative to it; the engine's own reckoning (roof_flow)."""
-    car = _car_index(cars, x)
+def thickness(flow: RoofFlow, scene, x, speed, nu):
+    """Boundary layer thickness (m) over the scene's roofs at car-frame x (m, negative toward the rear) for
+    air moving along the train at `speed` m/s relative to it; the engine's own reckoning (roof_flow)."""
+    car = scene.car_at(x)
     gaps = flow.cars_ahead + (car if car is not None else 0)
     return float(flat_plate_thickness(flow.train_ahead - x, speed, nu, flow.plate)) + flow.gap_thickness * gaps
 
@@ -147,10 +147,3 @@ def without_roof_air(scene):
     profile's soft coefficients relax."""
     import dataclasses
     return dataclasses.replace(scene, air=dataclasses.replace(scene.air, roof_flow=None))
-
-
-def _car_index(cars, x):
-    for i, car in enumerate(cars):
-        if car.rear_x <= x <= car.front_x:
-            return i
-    return None

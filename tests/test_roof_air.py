@@ -57,7 +57,7 @@ def test_mid_train_displacement_thickness_falls_in_the_full_scale_freight_band()
     nu = roof_air.viscosity(288.15) / scene.air.density
     middle = scene.cars[15]
     x = 0.5 * (middle.front_x + middle.rear_x)
-    delta = roof_air.thickness(scene.air.roof_flow, scene.cars, x, 25.0, nu)
+    delta = roof_air.thickness(scene.air.roof_flow, scene, x, 25.0, nu)
     star = roof_air.displacement_thickness(delta)
     assert 0.5 <= star <= 3.0
     assert star == pytest.approx(1.6, abs=0.4)
@@ -71,7 +71,7 @@ def test_the_engine_reckons_the_layer_as_the_model_does():
     tr = simulate(scene)
     r = tr.record[len(tr.record) // 2]
     nu = scene.air.roof_flow and roof_air.viscosity(288.15) / scene.air.density
-    expected = roof_air.thickness(scene.air.roof_flow, scene.cars, float(r["pivot_x"]), r["speed"] - r["wind_x"], nu)
+    expected = roof_air.thickness(scene.air.roof_flow, scene, float(r["pivot_x"]), r["speed"] - r["wind_x"], nu)
     assert r["flow_delta"] == pytest.approx(expected, rel=1e-9)
     assert r["flow_delta"] > 3.0   # five gaps ahead: 3 m of added thickness and the plate's own
 
