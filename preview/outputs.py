@@ -33,7 +33,11 @@ def raise_on_sigterm() -> None:
     try:
         signal.signal(signal.SIGTERM, handler)
     except ValueError:
-        pass  # not the main thread: the default action stands
+        return  # not the main thread: the default action stands
+    # A signal mask is inherited from the parent process: one started with SIGTERM blocked would hold the
+    # signal pending and finish its export instead of stopping and cleaning up.
+    if hasattr(signal, "pthread_sigmask"):
+        signal.pthread_sigmask(signal.SIG_UNBLOCK, {signal.SIGTERM})
 
 
 def check_target(final: Path, folder: bool) -> None:

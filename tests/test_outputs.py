@@ -103,12 +103,19 @@ def test_a_brief_on_a_full_disk_leaves_nothing(tmp_path):
     assert sorted(p.name for p in tmp_path.iterdir()) == []
 
 
-def test_sigterm_during_an_export_cleans_up_like_ctrl_c(tmp_path):
+@pytest.mark.parametrize("blocked", [False, True])
+def test_sigterm_during_an_export_cleans_up_like_ctrl_c(tmp_path, blocked):
+    # blocked: started with SIGTERM in its signal mask, as a parent may pass it on (it once held the
+    # signal pending here until the export had finished).
     env = dict(os.environ, SDL_VIDEODRIVER="dummy")
+
+    def mask():
+        if blocked:
+            signal.pthread_sigmask(signal.SIG_BLOCK, {signal.SIGTERM})
     # 48 frames a second over the whole beat: hundreds of frames, so the stop lands mid-export.
     proc = subprocess.Popen([sys.executable, "-m", "preview.cli", "render", SCENE, "-o", str(tmp_path / "long.gif"),
                              "--size", "1280x720", "--fps", "48"], cwd=REPO, env=env, stdout=subprocess.PIPE,
-                            stderr=subprocess.PIPE, text=True)
+                            stderr=subprocess.PIPE, text=True, preexec_fn=mask)
     deadline = time.monotonic() + 120
     while not any(".part" in p.name for p in tmp_path.iterdir()):
         assert proc.poll() is None and time.monotonic() < deadline, "the export ended before it could be stopped"
