@@ -60,6 +60,8 @@ class Event(IntEnum):
     ARRESTED = 12          # a tether stopped a body going away from its anchor (not a failure)
     ANCHOR_OVERLOAD = 13   # an anchor's load passed its limit
     BODY_FORCE = 14        # the tethers' pull on the body passed the arrest-force limit
+    HOLD_LOST = 15         # a hand hold (a grab or a catch) passed its breaking force and let go (not a failure
+                           # in itself: what the released body does next is judged)
 
 
 # Plain words shown to people, and which kinds are failures. A failure ends the
@@ -70,7 +72,7 @@ EVENT_WORDS = {
     Event.MISSED_LANDING: "missed landing", Event.RECOVERY_STEP: "recovery step",
     Event.TAKEOFF: "take-off", Event.TOUCHDOWN: "touchdown",
     Event.OFF_SIDE: "off the side", Event.ARRESTED: "arrested", Event.ANCHOR_OVERLOAD: "anchor overload",
-    Event.BODY_FORCE: "body arrest force over limit",
+    Event.BODY_FORCE: "body arrest force over limit", Event.HOLD_LOST: "hold let go",
 }
 FAILURES = (Event.SLIP, Event.TOPPLE, Event.LIFT, Event.FALL, Event.STRIKE, Event.LINE, Event.HARD_LANDING,
             Event.MISSED_LANDING, Event.OFF_SIDE, Event.ANCHOR_OVERLOAD, Event.BODY_FORCE)
@@ -203,6 +205,45 @@ TETHER = np.dtype([
 
 Inputs = namedtuple("Inputs", "steps postures actions cars structures lines body track airflow tethers")
 
+
+class LinkCode(IntEnum):
+    """How two performers act on each other (physics.partners)."""
+
+    PUSH = 0    # a force the actor puts on the partner while in reach: shove, pull, throw, contact punch
+    HOLD = 1    # a grab: a hand hold, a one-sided spring-damper from where it closed, up to a breaking force
+    CATCH = 2   # a catch: a hold closed on a partner in the air, taking push and pull, up to a breaking force
+
+
+# One interaction between the two performers of a scene (physics.partners), performers 0 and 1. The
+# force on the partner is the negative of the force on the actor. Car frame, SI.
+LINK = np.dtype([
+    ("code", "i8"),               # LinkCode
+    ("actor", "i8"),              # 0 or 1; the partner is the other
+    ("start", "f8"), ("end", "f8"),   # s
+    ("force", "f8"),              # PUSH: peak force, N (a pulse: a half sine; steady: ramps of `ramp` s)
+    ("steady", "u1"),             # PUSH: 1 steady (ramped in and out), 0 a half-sine pulse
+    ("ramp", "f8"),               # PUSH, steady: ramp time in and out, s
+    ("toward", "i8"),             # PUSH: +1 away from the actor, -1 toward the actor (a pull), 0 fixed direction
+    ("dir_x", "f8"), ("dir_y", "f8"),   # PUSH, fixed direction: horizontal unit vector (car axes)
+    ("up", "f8"),                 # PUSH: the force's angle above the horizontal, rad
+    ("reach", "f8"),              # largest shoulder-to-partner distance at which the hands touch, m
+    ("breaking", "f8"),           # HOLD, CATCH: force at which the hold lets go, N
+    ("stiffness", "f8"),          # HOLD, CATCH: N/m
+    ("damping", "f8"),            # HOLD, CATCH: damping ratio with the two bodies' reduced mass
+    ("facing", "i8"),             # the actor's facing (+1 front): a push's direction when they stand at one place
+])
+
+# Per variant pair and link: what the interaction did.
+LINK_OUT = np.dtype([
+    ("engaged", "f8"),            # first time the hands were on the partner, s (NaN: never within reach)
+    ("rest", "f8"),               # HOLD, CATCH: the hold's length when it closed, m
+    ("released", "f8"),           # when it ended: out of reach, let go, or the window closed, s (NaN: never)
+    ("lost", "f8"),               # when a hold passed its breaking force, s (NaN: it held)
+    ("peak", "f8"),               # largest force between them, N
+    ("impulse", "f8"),            # the impulse it gave the partner, magnitude of the integral of the force, N s
+    ("ix", "f8"), ("iy", "f8"), ("iz", "f8"),   # its components, N s (car axes)
+])
+
 # -------------------------------------------------------------------- outputs
 EVENT = np.dtype([
     ("time", "f8"),               # s (NaN: did not happen)
@@ -300,6 +341,10 @@ RECORD = np.dtype([
     ("flow_base", "f8"),          # height of the posture's pivot above that roof, m
     ("tether_force", "f8", (MAX_TETHERS,)),   # each tether's tension, N (0 slack)
     ("tether_paid", "f8", (MAX_TETHERS,)),    # each absorber's pay-out so far, m
+    # The other performer's force on this body at t_k (N, car axes; 0 alone or out of reach) and where it
+    # acts (the shoulders on the roof, the centre of mass in the air; car frame, m; NaN with no force).
+    ("touch_fx", "f8"), ("touch_fy", "f8"), ("touch_fz", "f8"),
+    ("touch_x", "f8"), ("touch_y", "f8"), ("touch_z", "f8"),
 ])
 
 
@@ -317,6 +362,13 @@ def empty_tether_out(batch: int, tethers: int) -> np.ndarray:
     out = np.zeros((batch, tethers), TETHER_OUT)
     out["peak_time"] = np.nan
     out["taut_time"] = np.nan
+    return out
+
+
+def empty_link_out(batch: int, links: int) -> np.ndarray:
+    out = np.zeros((batch, links), LINK_OUT)
+    for name in ("engaged", "rest", "released", "lost"):
+        out[name] = np.nan
     return out
 
 

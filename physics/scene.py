@@ -123,10 +123,43 @@ class Action:
     landing_car: int | None = None      # 0-based
     label: str = ""
     angle: float = 0.0                  # gaits: heading across the roof from the track's axis, rad (+ left)
+    # Two performers: what this action does to the other one (INTERACTION_KINDS; "" none) and the
+    # partner's name; `kind` is then the posture held while doing it.
+    interaction: str = ""
+    partner: str = ""
 
     @property
     def end(self) -> float:
         return self.start + self.duration
+
+
+INTERACTION_KINDS = ("shove", "punch", "grab", "pull", "throw", "catch")
+
+
+@dataclass(frozen=True)
+class Interaction:
+    """One performer acting on the other (physics.partners), from one of the actor's actions; SI, car axes."""
+
+    kind: str                 # INTERACTION_KINDS
+    actor: int                # 0 or 1: the performer whose action it is (Scene.cast order)
+    partner: int
+    action: int               # index of the action in the actor's own actions
+    start: float
+    end: float
+    force: float              # a push's peak force, N (0 for a hold or a catch, a pulled punch)
+    steady: bool              # a push held steady (ramped in and out) instead of a pulse
+    direction: str            # "toward" (away from the actor; a pull: toward it), or "front", "rear", "left", "right"
+    up: float                 # the push's angle above the horizontal, rad
+    reach: float              # m, shoulders to the partner's shoulders (in the air their centre of mass)
+    breaking: float           # a hold's or a catch's breaking force, N
+    stiffness: float          # N/m
+    damping: float            # ratio
+    impulse: float = 0.0      # a contact punch's stated impulse, N s (its force is impulse / duration x pi / 2)
+    contact: bool = True      # a punch: False when pulled short (no force reaches the partner)
+
+    @property
+    def link_code(self) -> str:
+        return {"grab": "hold", "catch": "catch"}.get(self.kind, "push")
 
 
 @dataclass(frozen=True)
@@ -212,6 +245,12 @@ class Scene:
     flexibility: float = 0.25  # the car bodies' roll per unit of cant deficiency (physics.track.DEFAULT_FLEXIBILITY)
     speed_log: object = None   # physics.speed_log.SpeedLog when the speed comes from a measured log
     rigging: tuple = ()        # Tether, in the scene's order
+    # Two performers ([[performers]]): each one's own scene (its performer, start and actions; the rest
+    # shared) in the file's order, and what they do to each other. The scene itself is then the first
+    # performer's, so what reads one performer reads the first; `name` is the performer's name.
+    cast: tuple = ()
+    interactions: tuple = ()   # Interaction
+    name: str = ""
     raw: dict = field(default_factory=dict, compare=False, repr=False)
     # Spread (SI, +/-) of values written with an uncertainty, by sweep parameter
     # name (speed, wind_speed, mass, drag_area, reaction_time) or, for a car's
@@ -226,6 +265,16 @@ class Scene:
     def road(self) -> bool:
         """The consist is road vehicles on a road (drawn with a road, not a track); physics is the same."""
         return bool(self.cars) and all(car.road for car in self.cars)
+
+    @property
+    def pair(self) -> bool:
+        """Two performers on the roof."""
+        return len(self.cast) > 1
+
+    @property
+    def performers(self) -> tuple:
+        """Each performer's own scene: the cast, or the scene itself for one performer."""
+        return self.cast if self.cast else (self,)
 
     def car_at(self, x: float) -> int | None:
         """Index of the car whose roof spans car-frame x, or None (gap or off the ends)."""

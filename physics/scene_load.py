@@ -9,6 +9,7 @@ from __future__ import annotations
 
 import math
 import unicodedata
+from dataclasses import replace
 from pathlib import Path
 
 from physics import G
@@ -16,8 +17,9 @@ from physics import air as air_model
 from physics.consist import DEFAULT_JERK, distance_travelled
 from physics.roof_air import LEAD_FRONTS, RoofFlow
 from physics.rigging_table import DEFAULT_DAMPING, DEFAULT_SAG_FRACTION, LIMIT_DEFAULTS, MATERIALS
-from physics.scene import (CAR_KINDS, ROAD_KINDS, Action, Air, Car, Gust, Keyframe, Line, Performer,
-                           Safety, Scene, Structure, Tether, Turbulence)
+from physics import partners
+from physics.scene import (CAR_KINDS, INTERACTION_KINDS, ROAD_KINDS, Action, Air, Car, Gust, Interaction, Keyframe,
+                           Line, Performer, Safety, Scene, Structure, Tether, Turbulence)
 from physics.scene_file import key_lines, parse_toml, read_text
 from physics.scene_overrides import apply_overrides, origin_of
 from physics.scene_problems import Problem, SceneError
@@ -38,6 +40,10 @@ __all__ = ["Problem", "SceneError", "load_scene", "parse_scene"]
 ROOF_STATIC = "roof_static@"  # key of a car's roof friction spread in Scene.uncertain, then the car's index
 
 ACTION_KINDS = ("stand", "brace", "crouch", "duck", "kneel", "prone", "crawl", "walk", "run", "jump")
+INTERACTION_KEYS = ("partner", "force", "shape", "direction", "up", "reach", "breaking_force", "stiffness", "damping",
+                    "impulse", "contact", "posture")
+INTERACTION_POSTURES = partners.INTERACTION_POSTURES
+MAX_PERFORMERS = 2
 GAIT_KINDS = ("walk", "run", "crawl")
 AIR_POSTURES = ("tuck", "spread", "upright")
 STRUCTURE_KINDS = ("bridge", "footbridge", "gantry", "tunnel", "overbridge", "sign gantry")
@@ -286,16 +292,23 @@ def parse_scene(text: str, source: str, overrides: list[str] | None = None) -> S
 
 def _build(raw: dict, r: _Reader, source: str) -> Scene | None:
     r.unknown(raw, "", ("title", "units", "frame_rate", "consist", "motion", "air", "performer", "start",
-                        "actions", "safety", "simulation", "structures", "lines", "track", "ride", "rigging"))
+                        "actions", "safety", "simulation", "structures", "lines", "track", "ride", "rigging",
+                        "performers"))
     title = r.text(raw, "title", "")
     units = r.choice(raw, "units", "", ("metric", "imperial"), default="metric")
     frame_rate = r.number(raw, "frame_rate", "", default=24, integer=True, minimum=1, maximum=120)
     cars = _cars(r.table(raw, "consist", ""), r)
     keyframes, jerk = _motion(r.table(raw, "motion", ""), r)
     air = _air(r.table(raw, "air", "", required=False), r)
-    performer = _performer(r.table(raw, "performer", ""), r)
-    start_car, start_x, start_y = _start(r.table(raw, "start", ""), r, cars)
-    actions = _actions(raw, r, cars, performer)
+    parts = _performers(raw, r, cars) if "performers" in raw else []
+    if parts:
+        unused, performer, (start_car, start_x, start_y), actions = parts[0]
+    elif "performers" in raw:
+        performer, start_car, start_x, start_y, actions = None, 0, 0.0, 0.0, []
+    else:
+        performer = _performer(r.table(raw, "performer", ""), r)
+        start_car, start_x, start_y = _start(r.table(raw, "start", ""), r, cars)
+        actions = _actions(raw, r, cars, performer)
     safety = _safety(r.table(raw, "safety", "", required=False), r)
     sim = r.table(raw, "simulation", "", required=False)
     r.unknown(sim, "simulation", ("rate",))
@@ -312,6 +325,9 @@ def _build(raw: dict, r: _Reader, source: str) -> Scene | None:
     sections = _track(raw, r)
     ride = _ride(r.table(raw, "ride", "", required=False), r)
     rigging = _rigging(raw, r, cars)
+    if rigging and len(parts) > 1:
+        r.fail("rigging", "rigging is modelled for one performer; a scene with two performers cannot have "
+                          "[[rigging]] yet")
     if rigging and performer and rate:
         _rigging_fits(r, rigging, performer.mass, start_x, start_y, rate)
     consist = raw.get("consist") if isinstance(raw.get("consist"), dict) else {}
@@ -320,9 +336,128 @@ def _build(raw: dict, r: _Reader, source: str) -> Scene | None:
         _beat_length(r, sum(a.duration for a in actions), rate, len(actions))
     if r.problems:
         return None
-    return Scene(title, source, units, frame_rate, tuple(cars), tuple(keyframes), air, performer, start_x,
-                 start_car, tuple(actions), safety, 1.0 / rate, tuple(structures), tuple(lines), jerk, start_y,
-                 tuple(sections), ride, flexibility, speed_log, tuple(rigging), raw, dict(r.uncertain))
+    scene = Scene(title, source, units, frame_rate, tuple(cars), tuple(keyframes), air, performer, start_x,
+                  start_car, tuple(actions), safety, 1.0 / rate, tuple(structures), tuple(lines), jerk, start_y,
+                  tuple(sections), ride, flexibility, speed_log, tuple(rigging), raw=raw,
+                  uncertain=dict(r.uncertain))
+    if not parts:
+        return scene
+    cast = tuple(replace(scene, performer=body, start_car=start[0], start_x=start[1], start_y=start[2],
+                         actions=tuple(acts), name=name) for name, body, start, acts in parts)
+    interactions = _interactions(raw, r, cast)
+    if r.problems:
+        return None
+    return replace(cast[0], cast=cast, interactions=interactions)
+
+
+def _performers(raw: dict, r: _Reader, cars: list[Car]) -> list[tuple]:
+    """[[performers]]: each one's (name, Performer, start, actions); the shorter beat is held to the
+    end of the longer in the posture it ends in. [] when a part cannot be read."""
+    for key in ("performer", "start", "actions"):
+        if key in raw:
+            r.fail(key, "with [[performers]] each performer gives its body, start and actions inside its own "
+                        "table (performers[N].start, [[performers.actions]]); leave out the top-level one")
+    items = r.items(raw, "performers", "")
+    if len(items) > MAX_PERFORMERS:
+        r.fail("performers", f"{len(items)} performers; roofbeat models at most {MAX_PERFORMERS}")
+        return []
+    parts, names = [], set()
+    for path, item in items:
+        name = r.text(item, "name", path)
+        if name in names:
+            r.fail(f"{path}.name", f"{name!r} names another performer too; each needs its own name")
+        names.add(name)
+        known = len(r.uncertain)
+        body = _performer({k: v for k, v in item.items() if k not in ("name", "start", "actions")}, r, path)
+        if len(r.uncertain) > known:
+            r.fail(path, "a spread (+/-) on a performer's value is read for one performer only; give plain "
+                         "values with [[performers]]")
+        start = _start(r.table(item, "start", path), r, cars, f"{path}.start")
+        acts = _actions(item, r, cars, body, path, pair=len(items) > 1)
+        if body is None or not acts:
+            return []
+        parts.append((name, body, start, acts))
+    end = max(acts[-1].end for unused, unused, unused, acts in parts)
+    for unused, body, unused, acts in parts:
+        if acts[-1].end < end - 1e-9:
+            last = acts[-1]
+            kind = {"walk": "stand", "run": "stand", "jump": "stand", "crawl": "prone"}.get(last.kind, last.kind)
+            acts.append(Action(kind, last.end, end - last.end, 0.0, label="hold to the end of the beat"))
+    return parts
+
+
+def _interactions(raw: dict, r: _Reader, cast: tuple) -> tuple:
+    """Each interaction action of the cast as an Interaction with its partner found by name and its
+    defaults (physics.partners) filled in."""
+    names = [c.name for c in cast]
+    out = []
+    items = raw.get("performers", [])
+    for actor, scene in enumerate(cast):
+        listed = items[actor].get("actions", []) if actor < len(items) else []
+        for index, action in enumerate(scene.actions):
+            if not action.interaction:
+                continue
+            path = f"performers[{actor + 1}].actions[{index + 1}]"
+            item = listed[index] if index < len(listed) else {}
+            if action.partner not in names or action.partner == scene.name:
+                others = [n for n in names if n != scene.name]
+                r.fail(f"{path}.partner", f"{action.partner!r} is not the other performer; expected "
+                                          f"{' or '.join(repr(n) for n in others)}")
+                continue
+            partner = names.index(action.partner)
+            out.append(_interaction(item, path, r, action, actor, partner, scene.performer))
+    return tuple(i for i in out if i is not None)
+
+
+def _interaction(item: dict, path: str, r: _Reader, action: Action, actor: int, partner: int, body) -> Interaction:
+    kind = action.interaction
+    pushes = kind in ("shove", "pull", "throw")
+    for key in ("force", "shape", "direction", "up"):
+        if key in item and not pushes:
+            r.fail(f"{path}.{key}", f"a {kind} takes no {key} (only a shove, pull or throw)")
+    for key in ("breaking_force", "stiffness", "damping"):
+        if key in item and kind not in ("grab", "catch"):
+            r.fail(f"{path}.{key}", f"a {kind} takes no {key} (only a grab or a catch)")
+    for key in ("impulse", "contact"):
+        if key in item and kind != "punch":
+            r.fail(f"{path}.{key}", f"a {kind} takes no {key} (only a punch)")
+    force = r.quantity(item, "force", path, "force", default=partners.DEFAULT_FORCE.get(kind, 0.0), minimum=0.0,
+                       maximum=3000.0)
+    shape = r.choice(item, "shape", path, ("pulse", "steady"), default="pulse")
+    direction = r.choice(item, "direction", path, partners.DIRECTIONS, default="toward")
+    up = r.quantity(item, "up", path, "angle", default=partners.THROW_ANGLE if kind == "throw" else 0.0,
+                    minimum=-math.radians(60), maximum=math.radians(80))
+    reach = r.quantity(item, "reach", path, "length", default=partners.default_reach(body.stature), minimum=0.2,
+                       maximum=2.0)
+    catch = kind == "catch"
+    breaking = r.quantity(item, "breaking_force", path, "force", default=partners.HOLD_BREAKING, minimum=50.0,
+                          maximum=5000.0)
+    stiffness = r.quantity(item, "stiffness", path, "stiffness",
+                           default=partners.CATCH_STIFFNESS if catch else partners.HOLD_STIFFNESS, minimum=100.0,
+                           maximum=50000.0)
+    damping = r.number(item, "damping", path, default=partners.CATCH_DAMPING if catch else partners.HOLD_DAMPING,
+                       minimum=0.0, maximum=3.0)
+    contact = kind != "punch" or bool(item.get("contact", False))
+    if "contact" in item and not isinstance(item["contact"], bool):
+        r.fail(f"{path}.contact", f"expected true or false, got {item['contact']!r}")
+    impulse = 0.0
+    start, end = action.start, action.end
+    if kind == "punch":
+        if contact:
+            impulse = r.quantity(item, "impulse", path, "impulse", minimum=0.0, maximum=partners.PUNCH_IMPULSE_MAX)
+            if impulse is None:
+                return None
+            force = partners.punch_force(impulse)
+            # The fist lands half-way through the action and stays CONTACT_TIME.
+            start = action.start + 0.5 * action.duration
+            end = start + partners.CONTACT_TIME
+        elif "impulse" in item:
+            r.fail(f"{path}.impulse", "a pulled punch (contact = false, the default) reaches no one; give "
+                                      "contact = true for a contact punch")
+    if None in (force, shape, direction, up, reach, breaking, stiffness, damping):
+        return None
+    return Interaction(kind, actor, partner, 0, start, end, force, shape == "steady", direction, up, reach, breaking,
+                       stiffness, damping, impulse, contact)
 
 
 MAX_ACTIONS = 200
@@ -528,8 +663,7 @@ def _roof_flow(data: dict, r: _Reader):
     return RoofFlow(**values)
 
 
-def _performer(data: dict, r: _Reader) -> Performer:
-    p = "performer"
+def _performer(data: dict, r: _Reader, p: str = "performer") -> Performer:
     r.unknown(data, p, ("stature", "mass", "drag_area", "body", "facing", "reaction_time", "max_lean",
                         "recovery_step", "standing_long_jump"))
     stature = r.quantity(data, "stature", p, "length", minimum=1.2, maximum=2.3)
@@ -552,34 +686,53 @@ def _performer(data: dict, r: _Reader) -> Performer:
                      step, jump)
 
 
-def _start(data: dict, r: _Reader, cars: list[Car]) -> tuple[int, float, float]:
-    r.unknown(data, "start", ("car", "position", "from", "offset"))
-    offset = r.quantity(data, "offset", "start", "length", default=0.0)
-    car = r.number(data, "car", "start", integer=True, minimum=1, maximum=max(1, len(cars)))
-    pos = r.quantity(data, "position", "start", "length", minimum=0.0)
-    end = r.choice(data, "from", "start", ("front", "rear"), default="front")
+def _start(data: dict, r: _Reader, cars: list[Car], path: str = "start") -> tuple[int, float, float]:
+    r.unknown(data, path, ("car", "position", "from", "offset"))
+    offset = r.quantity(data, "offset", path, "length", default=0.0)
+    car = r.number(data, "car", path, integer=True, minimum=1, maximum=max(1, len(cars)))
+    pos = r.quantity(data, "position", path, "length", minimum=0.0)
+    end = r.choice(data, "from", path, ("front", "rear"), default="front")
     if car is None or pos is None or not cars:
         return 0, 0.0, 0.0
     c = cars[car - 1]
     if pos > c.length:
-        r.fail("start.position", f"{pos:g} m is past the end of {c.name} ({c.length:g} m long)")
+        r.fail(f"{path}.position", f"{pos:g} m is past the end of {c.name} ({c.length:g} m long)")
     offset = 0.0 if offset is None else offset
     if abs(offset) > 0.5 * c.width:
-        r.fail("start.offset", f"{offset:g} m is past the side edge of {c.name}'s roof ({c.width:g} m wide: "
+        r.fail(f"{path}.offset", f"{offset:g} m is past the side edge of {c.name}'s roof ({c.width:g} m wide: "
                                f"offsets within +/-{0.5 * c.width:g} m)")
     return car - 1, (c.front_x - pos) if end == "front" else (c.rear_x + pos), offset
 
 
-def _actions(raw: dict, r: _Reader, cars: list[Car], performer: Performer | None) -> list[Action]:
+def _actions(raw: dict, r: _Reader, cars: list[Car], performer: Performer | None, where: str = "",
+             pair: bool = False) -> list[Action]:
+    """The actions of one performer (`where`: "" for [[actions]], else the performer's key path); with two
+    performers (`pair`) an action may be an interaction with the other (INTERACTION_KINDS), whose own
+    keys are kept in Action.raw_interaction for _interactions."""
     actions, t = [], 0.0
-    for path, item in r.items(raw, "actions", ""):
+    kinds = ACTION_KINDS + (INTERACTION_KINDS if pair else ())
+    for path, item in r.items(raw, "actions", where):
+        interacting = item.get("do") in INTERACTION_KINDS
         r.unknown(item, path, ("do", "duration", "transition", "speed", "toward", "gait_friction", "label",
                                "takeoff_car", "takeoff_position", "takeoff_from", "takeoff_speed",
-                               "takeoff_angle", "air_posture", "landing_car", "run_up_speed", "angle"))
-        kind = r.choice(item, "do", path, ACTION_KINDS)
+                               "takeoff_angle", "air_posture", "landing_car", "run_up_speed", "angle")
+                  + (INTERACTION_KEYS if interacting else ()))
+        if not pair and item.get("do") in INTERACTION_KINDS:
+            r.fail(f"{path}.do", f"{item['do']!r} needs a partner: give two performers under [[performers]], "
+                                 "each with a name")
+            continue
+        kind = r.choice(item, "do", path, kinds)
         duration = r.quantity(item, "duration", path, "time", positive=True, maximum=600.0)
         transition = r.quantity(item, "transition", path, "time", default=0.5, minimum=0.0, maximum=10.0)
         if kind is None or duration is None:
+            continue
+        if kind in INTERACTION_KINDS:
+            posture = r.choice(item, "posture", path, INTERACTION_POSTURES, default="stand")
+            partner = r.text(item, "partner", path)
+            label = r.text(item, "label", path, default=f"{kind} {partner}")
+            actions.append(Action(posture or "stand", t, duration, min(transition or 0.0, duration), label=str(label),
+                                  interaction=kind, partner=partner))
+            t += duration
             continue
         if transition > duration:
             r.fail(f"{path}.transition", f"{transition:g} s is longer than the action's duration "

@@ -22,11 +22,11 @@ from dataclasses import dataclass, field
 
 import numpy as np
 
-from physics import G, air, body, roof_air, track
+from physics import G, air, body, partners, roof_air, track
 from physics.beat import Timeline, build_timeline
 from physics.engine import driver, jit
-from physics.records import (BODY, CAR, LINE, PARAMS, RECORD, STRUCTURE, TETHER, Inputs, empty_events, empty_outcomes,
-                             empty_tether_out)
+from physics.records import (BODY, CAR, LINE, PARAMS, RECORD, STRUCTURE, TETHER, Inputs, empty_events,
+                             empty_link_out, empty_outcomes, empty_tether_out)
 from physics.scene import Scene
 
 
@@ -51,6 +51,7 @@ class BatchResult:
     variants: Variants
     steps: int
     tethers: np.ndarray = None   # (B, tethers) records.TETHER_OUT
+    pair: "PairRun" = None       # two performers: each one's own events and outcomes
 
 
 @dataclass(frozen=True)
@@ -64,6 +65,8 @@ class Trajectory:
     outcomes: np.ndarray  # (actions,) records.OUTCOME
     variant: Variants     # the one variant that ran
     tethers: np.ndarray = None   # (tethers,) records.TETHER_OUT: each tether's peaks and absorber pay-out
+    partners: tuple = ()         # two performers: the other one's Trajectory (on the first one's)
+    links: np.ndarray = None     # two performers: (links,) records.LINK_OUT, what each interaction did
     _ends: dict = field(default_factory=dict, compare=False, repr=False)   # ends3 of single steps, by index
 
     def field(self, name: str) -> np.ndarray:
@@ -361,40 +364,106 @@ def _python_views(args):
 
 
 def run_kernel(v: Variants, inputs: Inputs, events, outcomes, record, tethers, chunks: int = 1) -> None:
-    """Call the one compiled kernel over all variants, in `chunks` on a thread pool."""
-    if jit.will_compile(driver.run_variants):
-        jit.notice("preparing the engine (first run only, about ten seconds)")
-    jit.explain_plain_python()
+    """Call the one-performer kernel over all variants, in `chunks` on a thread pool."""
     params = np.ascontiguousarray(v.params)
     roof_scale = np.ascontiguousarray(v.roof_scale, dtype=float)
-    count = params.size
+    width = _scratch_width(params, inputs)
+
+    def args(first, last):
+        return [params, roof_scale, inputs, first, last, events, outcomes, record, np.zeros((9, width)), tethers]
+    _call(driver.run_variants, params.size, args, chunks)
+
+
+def _scratch_width(params: np.ndarray, inputs: Inputs) -> int:
     step = float(inputs.steps["time"][1] - inputs.steps["time"][0])
     delays = int(np.max(np.round(params["reaction_time"] / step))) + 1
-    width = max(delays, inputs.body["crossflow_area"].shape[1])
+    return max(delays, inputs.body["crossflow_area"].shape[1])
 
-    def scratch():
-        return np.zeros((9, width))
+
+def _call(entry, count: int, args, chunks: int) -> None:
+    """Run a kernel entry over `count` rows, args(first, last) giving each call's arguments (with its own
+    working memory): at once, or in `chunks` on a thread pool; in plain Python where numba cannot run."""
+    if jit.will_compile(entry):
+        jit.notice("preparing the engine (first run only, about ten seconds)")
+    jit.explain_plain_python()
     if not jit.compiled():
         with np.errstate(over="ignore"):
-            args = _python_views([params, roof_scale, inputs, 0, count, events, outcomes, record, scratch(), tethers])
-            driver.run_variants(*args)
+            entry(*_python_views(args(0, count)))
         return
     if chunks <= 1 or count < 2:
-        jit.even_unsaved(driver.run_variants, params, roof_scale, inputs, 0, count, events, outcomes, record,
-                         scratch(), tethers)
+        jit.even_unsaved(entry, *args(0, count))
         return
     bounds = np.linspace(0, count, min(chunks, count) + 1).astype(int)
     with ThreadPoolExecutor(max_workers=_threads()) as pool:
-        jobs = [pool.submit(jit.even_unsaved, driver.run_variants, params, roof_scale, inputs, int(a), int(b), events,
-                            outcomes, record, scratch(), tethers) for a, b in zip(bounds[:-1], bounds[1:]) if b > a]
+        jobs = [pool.submit(jit.even_unsaved, entry, *args(int(a), int(b)))
+                for a, b in zip(bounds[:-1], bounds[1:]) if b > a]
         for job in jobs:
             job.result()
 
 
+@dataclass(frozen=True)
+class PairRun:
+    """What a run of two performers gives: per performer (cast order) its events (B, kinds) and
+    outcomes (B, its actions) and, recorded, its record; and what each interaction did (B, links)."""
+
+    events: tuple
+    outcomes: tuple
+    records: tuple
+    links: np.ndarray
+
+
+def pair_params(scene: Scene, v: Variants) -> Variants:
+    """The kernel's rows for two performers: each variant's row for the first performer and, after it,
+    the same row with the second performer's own body, start and facing-free values."""
+    second = base_params(scene.cast[1])[0]
+    params = np.repeat(np.ascontiguousarray(v.params), 2)
+    for name in PERFORMER_FIELDS:
+        params[name][1::2] = second[name]
+    return Variants(params, np.repeat(np.ascontiguousarray(v.roof_scale, dtype=float), 2, axis=0))
+
+
+# The PARAMS fields that belong to one performer (the rest are the beat's: consist, air, effort).
+PERFORMER_FIELDS = ("mass", "drag_scale", "reaction_time", "max_lean", "recovery_step", "start_x", "start_y")
+
+
+def run_pair(scene: Scene, v: Variants, recorded: bool, chunks: int = 1) -> PairRun:
+    """Run the two performers of `scene` for every variant of v, together (driver.run_pairs)."""
+    ia, ib = prepare(scene.cast[0])[1], prepare(scene.cast[1])[1]
+    ta = prepare(scene.cast[0])[0]
+    rows = pair_params(scene, v)
+    params, roof_scale = rows.params, rows.roof_scale
+    count = len(v)
+    events = empty_events(2 * count)
+    outcomes = empty_outcomes(2 * count, max(len(c.actions) for c in scene.cast))
+    tethers = empty_tether_out(2 * count, 0)
+    links = partners.link_table(scene)
+    link_out = empty_link_out(count, len(links))
+    size = ta.size if recorded else 0
+    record_a, record_b = np.zeros(size, RECORD), np.zeros(size, RECORD)
+    width = max(_scratch_width(params, ia), _scratch_width(params, ib))
+
+    def args(first, last):
+        return [params, roof_scale, ia, ib, links, first, last, events, outcomes, record_a, record_b,
+                np.zeros((9, width)), np.zeros((9, width)), tethers, link_out]
+    _call(driver.run_pairs, count, args, chunks)
+    counts = [len(c.actions) for c in scene.cast]
+    return PairRun((events[0::2], events[1::2]), (outcomes[0::2, :counts[0]], outcomes[1::2, :counts[1]]),
+                   (record_a, record_b), link_out)
+
+
 def simulate(scene: Scene, variant: Variants | None = None) -> Trajectory:
-    """Simulate one performer (the scene's own variant unless given) and record every step."""
-    timeline, inputs = prepare(scene)
+    """Simulate one performer (the scene's own variant unless given) and record every step. With two
+    performers: the first one's Trajectory, the second's in its `partners`."""
+    timeline, inputs = prepare(scene.performers[0])
     v = variants(scene) if variant is None else variant.row(0)
+    if scene.pair:
+        run = run_pair(scene, v, recorded=True)
+        second = scene.cast[1]
+        other = Trajectory(second, prepare(second)[0], run.records[1], run.events[1][0], run.outcomes[1][0],
+                           Variants(pair_params(scene, v).params[1:2], v.roof_scale), tethers=empty_tether_out(1, 0)[0],
+                           links=run.links[0])
+        return Trajectory(scene, timeline, run.records[0], run.events[0][0], run.outcomes[0][0], v,
+                          tethers=empty_tether_out(1, 0)[0], partners=(other,), links=run.links[0])
     events, outcomes = empty_events(1), empty_outcomes(1, len(scene.actions))
     record = np.zeros(timeline.size, RECORD)
     tethers = empty_tether_out(1, len(scene.rigging))
@@ -405,8 +474,22 @@ def simulate(scene: Scene, variant: Variants | None = None) -> Trajectory:
 def simulate_batch(scene: Scene, v: Variants, once: bool = False) -> BatchResult:
     """Simulate many variants of one beat; no per-step record. `once`: a scene made to be run
     once (a trial of a search), whose inputs are not kept for later runs."""
+    if scene.pair:
+        return pair_batch(scene, v)
     timeline, inputs = build_inputs(scene) if once else prepare(scene)
     events, outcomes = empty_events(len(v)), empty_outcomes(len(v), len(scene.actions))
     tethers = empty_tether_out(len(v), len(scene.rigging))
     run_kernel(v, inputs, events, outcomes, np.zeros(0, RECORD), tethers, chunks=4 * _threads())
     return BatchResult(events, outcomes, v, timeline.size, tethers)
+
+
+def pair_batch(scene: Scene, v: Variants) -> BatchResult:
+    """A batch of a two-performer beat, read as one beat (physics.verdict.beat_actions): each event the
+    earlier of the two performers' and the actions of both, the first performer's then the second's,
+    so a verdict is the worse of the two and a margin the smaller. `pairs` keeps each one's own."""
+    run = run_pair(scene, v, recorded=False, chunks=4 * _threads())
+    events = run.events[0].copy()
+    later = np.isnan(events["time"]) | (run.events[1]["time"] < events["time"])
+    events[later] = run.events[1][later]
+    outcomes = np.concatenate(run.outcomes, axis=1)
+    return BatchResult(events, outcomes, v, prepare(scene.cast[0])[0].size, empty_tether_out(len(v), 0), pair=run)

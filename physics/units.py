@@ -57,6 +57,7 @@ DIMENSIONS = {
     "temperature": ("[temperature]", "kelvin"),
     "force": ("[mass] * [length] / [time] ** 2", "N"),
     "stiffness": ("[mass] / [time] ** 2", "N/m"),
+    "impulse": ("[mass] * [length] / [time]", "N*s"),
     "dimensionless": ("", ""),
 }
 
@@ -74,6 +75,7 @@ EXAMPLES = {
     "temperature": '"12 C", "54 F" or "285 K"',
     "force": '"4 kN" or "900 lbf"',
     "stiffness": '"20 kN/m" or "1400 lbf/ft"',
+    "impulse": '"8 N s" or "2 lbf s"',
     "dimensionless": "a plain number such as 0.55",
 }
 

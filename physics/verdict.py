@@ -69,9 +69,7 @@ def action_codes(scene: Scene, events: np.ndarray, outcomes: np.ndarray, until: 
     """
     first = first_failure_time(events)
     first = np.where(first <= until, first, np.inf)[..., None]
-    ends = np.array([a.end for a in scene.actions])
-    ends[-1] = np.inf  # a failure after the last action's planned end still belongs to it
-    starts = np.array([a.start for a in scene.actions])
+    starts, ends = beat_spans(scene)
     codes = np.where(below_factors(scene.safety, outcomes), MARGINAL, HOLDS)
     # An action in which a tether arrested the body held only by its rigging: at least marginal.
     arrested = events["time"][..., int(Event.ARRESTED)]
@@ -79,6 +77,17 @@ def action_codes(scene: Scene, events: np.ndarray, outcomes: np.ndarray, until: 
     codes = np.where((arrested >= starts) & (arrested < ends), np.maximum(codes, MARGINAL), codes)
     codes = np.where(starts > until, HOLDS, codes)
     return np.where(first < ends, FAILS, codes)
+
+
+def beat_spans(scene: Scene) -> tuple[np.ndarray, np.ndarray]:
+    """Start and end (s) of each action a verdict is judged over; a failure after a performer's last action's
+    planned end still belongs to it (its end is inf). Two performers read as one beat: the first
+    performer's actions, then the second's (simulation.pair_batch)."""
+    starts, ends = [], []
+    for part in scene.performers:
+        ends += [a.end for a in part.actions[:-1]] + [np.inf]
+        starts += [a.start for a in part.actions]
+    return np.array(starts), np.array(ends)
 
 
 def verdict_codes(scene: Scene, events: np.ndarray, outcomes: np.ndarray, until: float = math.inf) -> np.ndarray:
@@ -269,6 +278,31 @@ def summarise(scene: Scene, events: np.ndarray, outcomes: np.ndarray) -> dict:
     return {"verdict": overall, "first_failure": failures[0] if failures else None, "events": evs,
             "actions": actions, "required_factors": required_factors(scene.safety),
             "air_over_roof": "on" if scene.air.roof_flow is not None else "off"}
+
+
+def beat_summary(trajectory) -> dict:
+    """summarise() of a recorded run. With two performers: the beat's verdict is the worse of the two,
+    its first failure the earlier (with the performer's name), its events and actions both performers'
+    in time order and in cast order (each with "performer"), and `performers` gives each one's own
+    name, verdict, first failure, actions and events; `interactions` what each interaction did."""
+    scene = trajectory.scene
+    if not scene.pair:
+        return summarise(scene, trajectory.events, trajectory.outcomes)
+    from physics.partners import interaction_summary
+    per = []
+    for part, tr in zip(scene.cast, (trajectory,) + trajectory.partners):
+        s = summarise(part, tr.events, tr.outcomes)
+        for row in s["events"] + s["actions"] + ([s["first_failure"]] if s["first_failure"] else []):
+            row["performer"] = part.name
+        per.append({"name": part.name, "verdict": s["verdict"], "first_failure": s["first_failure"],
+                    "actions": s["actions"], "events": s["events"]})
+    failures = [p["first_failure"] for p in per if p["first_failure"]]
+    first = min(failures, key=lambda e: e["time_s"]) if failures else None
+    return {"verdict": NAMES[max(NAMES.index(p["verdict"]) for p in per)], "first_failure": first,
+            "events": sorted((e for p in per for e in p["events"]), key=lambda e: e["time_s"]),
+            "actions": [a for p in per for a in p["actions"]], "required_factors": required_factors(scene.safety),
+            "air_over_roof": "on" if scene.air.roof_flow is not None else "off", "performers": per,
+            "interactions": interaction_summary(scene, trajectory.links)}
 
 
 def required_factors(safety) -> dict:

@@ -85,9 +85,9 @@ def make_playback(scene, variant=None) -> Playback:
     from physics.aftermath import phases
     from physics.hazards import latest_duck_starts
     from physics.simulation import simulate
-    from physics.verdict import summarise
+    from physics.verdict import beat_summary
     trajectory = simulate(scene, variant)
-    summary = summarise(scene, trajectory.events, trajectory.outcomes)
+    summary = beat_summary(trajectory)
     summary["aftermath"] = phases(trajectory)
     summary["arrivals"] = structure_arrivals(trajectory)
     summary["ducks"] = latest_duck_starts(scene) if variant is None else []
@@ -104,12 +104,11 @@ def uniform_air_verdict(scene, variant=None) -> dict | None:
     profile's coefficients (from memory, or fitted to one published band) relax; None when it is off."""
     from physics.roof_air import without_roof_air
     from physics.simulation import simulate
-    from physics.verdict import summarise
+    from physics.verdict import beat_summary
     if scene.air.roof_flow is None:
         return None
     uniform = without_roof_air(scene)
-    tr = simulate(uniform, variant)
-    s = summarise(uniform, tr.events, tr.outcomes)
+    s = beat_summary(simulate(uniform, variant))
     first = s["first_failure"]
     return {"verdict": s["verdict"], "first_failure": first["kind"] if first else None,
             "first_failure_s": first["time_s"] if first else None}
@@ -119,7 +118,7 @@ def whole_beat_wind(trajectory) -> float:
     """The highest apparent wind the body met anywhere in the run, after a failure too (m/s, horizontal);
     the actions' own maxima stop at the first failure."""
     import numpy as np
-    wind = np.hypot(trajectory.field("app_x"), trajectory.field("app_y"))
+    wind = np.concatenate([np.hypot(tr.field("app_x"), tr.field("app_y")) for tr in (trajectory,) + trajectory.partners])
     return float(np.nanmax(wind)) if np.isfinite(wind).any() else 0.0
 
 

@@ -46,7 +46,7 @@ def fly(posture, drag, mass, vx0, vz0, seconds, dt=DT, V=0.0, wind=0.0):
         fl = flight.Flight(0.0, 0.0, vx0, vz0, 0, 0.0, 0.0, 0.0, 0.0, 0.0, False, math.nan, 0.0, 0.0, 0.0, 0)
         out[0] = fl.x, fl.z, fl.vx, fl.vz
         for k in range(n):
-            fl = flight.rk4(fl, posture, V, V, 0.0, 0.0, wind, 0.0, drag, mass, dt, UNIFORM)
+            fl = flight.rk4(fl, posture, V, V, 0.0, 0.0, wind, 0.0, drag, mass, dt, UNIFORM, (0.0, 0.0, 0.0))
             out[k + 1] = fl.x, fl.z, fl.vx, fl.vz
     return out
 

@@ -150,7 +150,7 @@ def drop(h, length, k, m=80.0, dt=1 / 240, seconds=1.5, x0=0.0):
             p = tether.tether_pull(tethers[0], 0.0, m, fl.x, fl.y, fl.z, fl.vx, fl.vy, fl.vz)
             rows.append((n * dt, fl.x, fl.z, fl.vx, fl.vz, p.force))
             fl = flight.rk4_tethered(fl, _posture(), 0.0, 0.0, 0.0, 0.0, 0.0, 0.0, NO_DRAG, m, dt, tethers, state,
-                                     UNIFORM)
+                                     UNIFORM, (0.0, 0.0, 0.0))
     return np.array(rows)
 
 
@@ -180,9 +180,9 @@ def test_the_tethered_step_without_tethers_is_the_plain_step():
     drag = Drag(np.zeros(12), np.zeros(12), np.zeros(12), True, 0.4, 0.25)
     with plain_python():
         fl = flight.Flight(0.0, 5.0, 2.0, 3.0, 0, 0.1, 0.0, 0.0, 0.0, 0.0, False, math.nan, 0.3, 0.5, 0.0, 0)
-        a = flight.rk4(fl, _posture(), 20.0, 19.9, -0.4, 0.1, 3.0, 1.0, drag, 80.0, 1 / 240, UNIFORM)
+        a = flight.rk4(fl, _posture(), 20.0, 19.9, -0.4, 0.1, 3.0, 1.0, drag, 80.0, 1 / 240, UNIFORM, (0.0, 0.0, 0.0))
         b = flight.rk4_tethered(fl, _posture(), 20.0, 19.9, -0.4, 0.1, 3.0, 1.0, drag, 80.0, 1 / 240, tethers, state,
-                                UNIFORM)
+                                UNIFORM, (0.0, 0.0, 0.0))
     assert tuple(a) == tuple(b)
 
 

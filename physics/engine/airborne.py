@@ -22,8 +22,9 @@ from physics.records import Event, Mode
 
 
 @apart
-def flight_iteration(v, inputs, env, state, act, out):
-    """Assess and record the body in the air at t_k, then one RK4 step with touchdown inside it."""
+def flight_iteration(v, inputs, env, state, act, out, touch):
+    """Assess and record the body in the air at t_k, then one RK4 step with touchdown inside it; touch: the
+    other performer's force on the body (partners.Touch), held over the step."""
     fl = state.flight
     beat = state.beat
     if beat.leaves_now:
@@ -50,12 +51,13 @@ def flight_iteration(v, inputs, env, state, act, out):
         watch_tethers(v, inputs, env, True, fl.x, fl.y, fl.z, fl.vx, fl.vy, fl.vz, out)
     if beat.mode == Mode.GONE or env.last:
         return State(beat, state.slide, state.balance, fl, state.frontal)
+    push = (touch.fx / v.mass, touch.fy / v.mass, touch.fz / v.mass)
     if inputs.tethers.shape[0] > 0:
         new = rk4_tethered(fl, posture, env.speed, env.next_speed, env.accel, env.body.ground_y, env.wind_x,
-                           env.wind_y, v.drag, v.mass, v.dt, inputs.tethers, tout, flow)
+                           env.wind_y, v.drag, v.mass, v.dt, inputs.tethers, tout, flow, push)
     else:
         new = rk4(fl, posture, env.speed, env.next_speed, env.accel, env.body.ground_y, env.wind_x, env.wind_y, v.drag,
-                  v.mass, v.dt, flow)
+                  v.mass, v.dt, flow, push)
     car, cross = touchdown_car(inputs.cars, fl, new, not beat.assessing)
     if car >= 0:
         return touch_down(v, inputs, env, State(beat, state.slide, state.balance, fl, state.frontal), car, cross, act,

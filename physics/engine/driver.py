@@ -21,12 +21,14 @@ from physics.engine.flight import Flight
 from physics.engine.frontal import level
 from physics.engine.jit import entry, kernel, small
 from physics.engine.on_roof import roof_iteration
+from physics.engine.outcome import note_event
+from physics.engine.partners import hands_of, links_between, no_touch, touch_on
 from physics.engine.recording import record_flight
 from physics.engine.roof_air import uniform_flow
 from physics.engine.sliding import Slide
 from physics.engine.stance import restart, upright
 from physics.engine.turbulence import advance_turbulence, start_turbulence
-from physics.records import ActionCode, Mode
+from physics.records import ActionCode, Event, Mode
 
 
 @kernel
@@ -87,11 +89,40 @@ def start_state(p):
                  level())
 
 
+@small
+def variant(p, roof_scale, inputs, b, dt, scratch):
+    """The fixed facts of variant b's run, its balance delay lines and drag factors in `scratch`."""
+    delay = int(round(p.reaction_time / dt))
+    n_seg = inputs.body[0].crossflow_area.shape[0]
+    drag = body_drag(inputs.body[0], p.density, p.drag_scale, scratch[2, :n_seg], scratch[3, :n_seg],
+                     scratch[5, :n_seg])
+    return Variant(b, p, roof_scale, drag, p.mass, p.mass * G, dt, scratch[0, :delay + 1],
+                   scratch[1, :delay + 1], scratch[4, :delay + 1], scratch[6, :delay + 1], scratch[7, :delay + 1],
+                   scratch[8, :delay + 1])
+
+
+@kernel
+def advance(v, inputs, env, state, plan, act, out, touch):
+    """One step of one body from t_k to t_(k+1): on the roof, then in the air if it is (or goes) there;
+    touch: the other performer's force on it (partners.Touch)."""
+    beat = state.beat
+    if beat.mode == Mode.GONE:
+        if out.recording:
+            record_flight(out.record[env.k], env, state.flight, inputs.postures[state.flight.row], v.drag, beat.mode,
+                          uniform_flow())
+        return state
+    if beat.mode != Mode.FLIGHT:
+        state = roof_iteration(v, inputs, env, state, plan, act, out, touch)
+    if state.beat.mode == Mode.FLIGHT and (beat.mode == Mode.FLIGHT or state.beat.leaves_now):
+        state = flight_iteration(v, inputs, env, state, act, out, touch)
+    return state
+
+
 @entry
 def run_variants(params, roof_scale, inputs, first, last, events, outcomes, record, scratch, tether_out):
     """Run variants first..last-1 (rows of params) through the whole beat.
 
-    The one compiled entry point: a single recorded run calls it with one
+    The entry point for one performer: a single recorded run calls it with one
     variant and a record of one row per step; batches with an empty record, in
     chunks on a thread pool (it releases the GIL). For each step k: the posture
     row and any restart, then the body on the roof or in the air.
@@ -105,16 +136,11 @@ def run_variants(params, roof_scale, inputs, first, last, events, outcomes, reco
     steps = inputs.steps
     n = steps.shape[0]
     dt = steps[1].time - steps[0].time
+    alone = no_touch()
     for b in range(first, last):
         p = params[b]
         out = Outputs(events, outcomes, record, record.shape[0] > 0 and b == first, tether_out)
-        delay = int(round(p.reaction_time / dt))
-        n_seg = inputs.body[0].crossflow_area.shape[0]
-        drag = body_drag(inputs.body[0], p.density, p.drag_scale, scratch[2, :n_seg], scratch[3, :n_seg],
-                         scratch[5, :n_seg])
-        v = Variant(b, p, roof_scale[b], drag, p.mass, p.mass * G, dt, scratch[0, :delay + 1],
-                    scratch[1, :delay + 1], scratch[4, :delay + 1], scratch[6, :delay + 1], scratch[7, :delay + 1],
-                    scratch[8, :delay + 1])
+        v = variant(p, roof_scale[b], inputs, b, dt, scratch)
         tb = start_turbulence(p.turbulence_seed, p.turbulence_sigma)
         state = start_state(p)
         for k in range(n):
@@ -122,13 +148,66 @@ def run_variants(params, roof_scale, inputs, first, last, events, outcomes, reco
             env, tb = environment(p, inputs.track, step, steps[min(k + 1, n - 1)], tb, k, k == n - 1)
             act = step.action
             state, plan = planned(inputs, state, step, act)
-            beat = state.beat
-            if beat.mode == Mode.GONE:
-                if out.recording:
-                    record_flight(record[k], env, state.flight, inputs.postures[state.flight.row], v.drag, beat.mode,
-                                  uniform_flow())
-                continue
-            if beat.mode != Mode.FLIGHT:
-                state = roof_iteration(v, inputs, env, state, plan, act, out)
-            if state.beat.mode == Mode.FLIGHT and (beat.mode == Mode.FLIGHT or state.beat.leaves_now):
-                state = flight_iteration(v, inputs, env, state, act, out)
+            state = advance(v, inputs, env, state, plan, act, out, alone)
+
+
+@kernel
+def hands_now(inputs, state, plan):
+    return hands_of(inputs, state, plan.row, plan.gait_speed, plan.gait_speed_y)
+
+
+@small
+def record_touch(r, hands, touch):
+    """The other performer's force on this body at t_k and where it acts, into a records.RECORD row."""
+    r.touch_fx = touch.fx
+    r.touch_fy = touch.fy
+    r.touch_fz = touch.fz
+    nan = math.nan
+    r.touch_x = hands.x if touch.on else nan
+    r.touch_y = hands.y if touch.on else nan
+    r.touch_z = hands.z if touch.on else nan
+
+
+@entry
+def run_pairs(params, roof_scale, inputs_a, inputs_b, links, first, last, events, outcomes, record_a, record_b,
+              scratch_a, scratch_b, tether_out, link_out):
+    """Run pairs first..last-1 of two performers acting on each other (physics.engine.partners) through
+    the whole beat: performer 0 in the even rows of params, roof_scale, events, outcomes and tether_out,
+    performer 1 in the odd rows, each with its own inputs (the same consist, air and steps' times; its
+    own body, timeline and actions). links: records.LINK; link_out: (pairs, links) records.LINK_OUT.
+    Each step both bodies are seen at t_k, the forces between them are worked out and held over the
+    step (equal and opposite), then each body advances as a performer alone does."""
+    steps_a, steps_b = inputs_a.steps, inputs_b.steps
+    n = steps_a.shape[0]
+    dt = steps_a[1].time - steps_a[0].time
+    for i in range(first, last):
+        a, b = 2 * i, 2 * i + 1
+        pa, pb = params[a], params[b]
+        recording = record_a.shape[0] > 0 and i == first
+        out_a = Outputs(events, outcomes, record_a, recording, tether_out)
+        out_b = Outputs(events, outcomes, record_b, recording, tether_out)
+        va = variant(pa, roof_scale[a], inputs_a, a, dt, scratch_a)
+        vb = variant(pb, roof_scale[b], inputs_b, b, dt, scratch_b)
+        tb_a = start_turbulence(pa.turbulence_seed, pa.turbulence_sigma)
+        tb_b = start_turbulence(pb.turbulence_seed, pb.turbulence_sigma)
+        state_a, state_b = start_state(pa), start_state(pb)
+        for k in range(n):
+            last_step = k == n - 1
+            env_a, tb_a = environment(pa, inputs_a.track, steps_a[k], steps_a[min(k + 1, n - 1)], tb_a, k, last_step)
+            env_b, tb_b = environment(pb, inputs_b.track, steps_b[k], steps_b[min(k + 1, n - 1)], tb_b, k, last_step)
+            act_a, act_b = steps_a[k].action, steps_b[k].action
+            state_a, plan_a = planned(inputs_a, state_a, steps_a[k], act_a)
+            state_b, plan_b = planned(inputs_b, state_b, steps_b[k], act_b)
+            hands_a = hands_now(inputs_a, state_a, plan_a)
+            hands_b = hands_now(inputs_b, state_b, plan_b)
+            fx, fy, fz, lost = links_between(links, link_out[i], env_a.t, dt, hands_a, hands_b, va.mass, vb.mass)
+            if lost:
+                note_event(events, a, Event.HOLD_LOST, env_a.t, hands_a.x, env_a.distance, inputs_a.cars, 0.0, 0.0)
+                note_event(events, b, Event.HOLD_LOST, env_b.t, hands_b.x, env_b.distance, inputs_b.cars, 0.0, 0.0)
+            touch_a = touch_on(hands_a, -fx, -fy, -fz)
+            touch_b = touch_on(hands_b, fx, fy, fz)
+            state_a = advance(va, inputs_a, env_a, state_a, plan_a, act_a, out_a, touch_a)
+            state_b = advance(vb, inputs_b, env_b, state_b, plan_b, act_b, out_b, touch_b)
+            if recording:
+                record_touch(record_a[k], hands_a, touch_a)
+                record_touch(record_b[k], hands_b, touch_b)

@@ -51,15 +51,16 @@ Landing = namedtuple("Landing", "car pivot speed absorb hard")
 
 
 @kernel
-def flight_accel(posture, lean, vx, vy, vz, speed, accel, accel_y, wind_x, wind_y, drag, mass, flow):
+def flight_accel(posture, lean, vx, vy, vz, speed, accel, accel_y, wind_x, wind_y, drag, mass, flow, push):
     """Acceleration (car frame, m/s^2) of a rigid posture: drag relative to the air (over the roof, `flow`),
-    gravity, pseudo-forces."""
+    gravity, pseudo-forces, and `push` (m/s^2, car axes: the other performer's force over the mass, held
+    over the step)."""
     air = air_load(posture, math.cos(lean), math.sin(lean), wind_x - (speed + vx), wind_y - vy, -vz, drag, flow)
-    return air.fx / mass - accel, air.fy / mass - accel_y, air.fz / mass - G
+    return air.fx / mass - accel + push[0], air.fy / mass - accel_y + push[1], air.fz / mass - G + push[2]
 
 
 @kernel
-def rk4(fl, posture, speed0, speed1, accel, accel_y, wind_x, wind_y, drag, mass, dt, flow):
+def rk4(fl, posture, speed0, speed1, accel, accel_y, wind_x, wind_y, drag, mass, dt, flow, push):
     """One classical Runge-Kutta step of the centre of mass from consist speed speed0 to speed1, in the air
     over the roof as it is at the step's start (`flow`), for an acceleration that depends on velocity
     alone (no rigging): the stage positions are not needed, and the positions' update
@@ -68,13 +69,13 @@ def rk4(fl, posture, speed0, speed1, accel, accel_y, wind_x, wind_y, drag, mass,
     the same arithmetic as before rigging existed."""
     mid = 0.5 * (speed0 + speed1)
     k1x, k1y, k1z = flight_accel(posture, fl.lean, fl.vx, fl.vy, fl.vz, speed0, accel, accel_y, wind_x, wind_y, drag,
-                                 mass, flow)
+                                 mass, flow, push)
     k2x, k2y, k2z = flight_accel(posture, fl.lean, fl.vx + 0.5 * dt * k1x, fl.vy + 0.5 * dt * k1y,
-                                 fl.vz + 0.5 * dt * k1z, mid, accel, accel_y, wind_x, wind_y, drag, mass, flow)
+                                 fl.vz + 0.5 * dt * k1z, mid, accel, accel_y, wind_x, wind_y, drag, mass, flow, push)
     k3x, k3y, k3z = flight_accel(posture, fl.lean, fl.vx + 0.5 * dt * k2x, fl.vy + 0.5 * dt * k2y,
-                                 fl.vz + 0.5 * dt * k2z, mid, accel, accel_y, wind_x, wind_y, drag, mass, flow)
+                                 fl.vz + 0.5 * dt * k2z, mid, accel, accel_y, wind_x, wind_y, drag, mass, flow, push)
     k4x, k4y, k4z = flight_accel(posture, fl.lean, fl.vx + dt * k3x, fl.vy + dt * k3y, fl.vz + dt * k3z, speed1,
-                                 accel, accel_y, wind_x, wind_y, drag, mass, flow)
+                                 accel, accel_y, wind_x, wind_y, drag, mass, flow, push)
     return rk4_update(fl, dt, k1x, k1y, k1z, k2x, k2y, k2z, k3x, k3y, k3z, k4x, k4y, k4z)
 
 
@@ -93,10 +94,11 @@ def rk4_update(fl, dt, k1x, k1y, k1z, k2x, k2y, k2z, k3x, k3y, k3z, k4x, k4y, k4
 
 @kernel
 def stage_accel(posture, lean, x, y, z, vx, vy, vz, speed, accel, accel_y, wind_x, wind_y, drag, mass, tethers,
-                tout, flow):
+                tout, flow, push):
     """The acceleration at one Runge-Kutta stage: flight_accel, and with rigging the tethers' pull,
     which depends on where the body is as well as on how fast it moves."""
-    ax, ay, az = flight_accel(posture, lean, vx, vy, vz, speed, accel, accel_y, wind_x, wind_y, drag, mass, flow)
+    ax, ay, az = flight_accel(posture, lean, vx, vy, vz, speed, accel, accel_y, wind_x, wind_y, drag, mass, flow,
+                              push)
     if tethers.shape[0] > 0:
         fx, fy, fz = tethers_pull(tethers, tout, mass, x, y, z, vx, vy, vz)
         ax += fx / mass
@@ -106,25 +108,27 @@ def stage_accel(posture, lean, x, y, z, vx, vy, vz, speed, accel, accel_y, wind_
 
 
 @kernel
-def rk4_tethered(fl, posture, speed0, speed1, accel, accel_y, wind_x, wind_y, drag, mass, dt, tethers, tout, flow):
+def rk4_tethered(fl, posture, speed0, speed1, accel, accel_y, wind_x, wind_y, drag, mass, dt, tethers, tout, flow,
+                 push):
     """rk4 with the tethers' pull, which depends on where the body is: each stage meets the body where
     that stage puts it (p + dt/2 k_p, ...) as well as at its velocity. tethers, tout: the rigging
     (records.TETHER) and this variant's absorber state (records.TETHER_OUT); with none it gives what
     rk4 gives (tested)."""
     mid = 0.5 * (speed0 + speed1)
     k1x, k1y, k1z = stage_accel(posture, fl.lean, fl.x, fl.y, fl.z, fl.vx, fl.vy, fl.vz, speed0, accel, accel_y,
-                                wind_x, wind_y, drag, mass, tethers, tout, flow)
+                                wind_x, wind_y, drag, mass, tethers, tout, flow, push)
     k2x, k2y, k2z = stage_accel(posture, fl.lean, fl.x + 0.5 * dt * fl.vx, fl.y + 0.5 * dt * fl.vy,
                                 fl.z + 0.5 * dt * fl.vz, fl.vx + 0.5 * dt * k1x, fl.vy + 0.5 * dt * k1y,
-                                fl.vz + 0.5 * dt * k1z, mid, accel, accel_y, wind_x, wind_y, drag, mass, tethers, tout, flow)
+                                fl.vz + 0.5 * dt * k1z, mid, accel, accel_y, wind_x, wind_y, drag, mass, tethers, tout, flow,
+                                push)
     k3x, k3y, k3z = stage_accel(posture, fl.lean, fl.x + 0.5 * dt * (fl.vx + 0.5 * dt * k1x),
                                 fl.y + 0.5 * dt * (fl.vy + 0.5 * dt * k1y), fl.z + 0.5 * dt * (fl.vz + 0.5 * dt * k1z),
                                 fl.vx + 0.5 * dt * k2x, fl.vy + 0.5 * dt * k2y, fl.vz + 0.5 * dt * k2z, mid, accel,
-                                accel_y, wind_x, wind_y, drag, mass, tethers, tout, flow)
+                                accel_y, wind_x, wind_y, drag, mass, tethers, tout, flow, push)
     k4x, k4y, k4z = stage_accel(posture, fl.lean, fl.x + dt * (fl.vx + 0.5 * dt * k2x),
                                 fl.y + dt * (fl.vy + 0.5 * dt * k2y), fl.z + dt * (fl.vz + 0.5 * dt * k2z),
                                 fl.vx + dt * k3x, fl.vy + dt * k3y, fl.vz + dt * k3z, speed1, accel, accel_y, wind_x,
-                                wind_y, drag, mass, tethers, tout, flow)
+                                wind_y, drag, mass, tethers, tout, flow, push)
     return rk4_update(fl, dt, k1x, k1y, k1z, k2x, k2y, k2z, k3x, k3y, k3z, k4x, k4y, k4z)
 
 

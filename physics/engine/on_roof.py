@@ -72,7 +72,8 @@ Across = namedtuple("Across", "roll rate xcom margin required_tan half cop")
 
 
 @kernel
-def roof_iteration(v, inputs, env, state, plan, act, out):
+def roof_iteration(v, inputs, env, state, plan, act, out, touch):
+    """One step on the roof; touch: the other performer's force on the body (partners.Touch)."""
     beat, slide = state.beat, state.slide
     ft = footing(v, inputs, beat, state.balance, slide, plan)
     row = plan.row
@@ -91,7 +92,7 @@ def roof_iteration(v, inputs, env, state, plan, act, out):
     g = G + env.body.felt_z
     bal, load, target = settle(bal, posture, wx, wy, v.mass, env.accel + slide.udot, v.drag,
                                v.params.max_lean, v.dt, ft.contact != Contact.BODY and beat.mode != Mode.DOWN, g,
-                               flow)
+                               flow, touch)
     if restart_now:
         v.buf_err[:] = 0.0
         v.buf_rate[:] = 0.0
@@ -129,7 +130,7 @@ def roof_iteration(v, inputs, env, state, plan, act, out):
         side += ty
     beat, grip, moved = grip_and_slide(v, inputs, env, beat, bal, load, pull, side, ft, plan, slide, g, out)
     lean_required = 0.0 if plan.settling else target.required
-    air = load.air
+    air = load.wind
     if was_assessing and beat.mode != Mode.DOWN and not bal.lying:
         bx, by = at_height(flow, wx, wy, load.com_z)
         note_stance(out.outcomes[v.b, act], ft.mu_static, grip.demand, margin, across.margin, ft.edge,

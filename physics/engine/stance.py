@@ -21,7 +21,7 @@ import math
 from collections import namedtuple
 
 from physics import G
-from physics.engine.air_load import air_load, rotate
+from physics.engine.air_load import AirLoad, air_load, rotate
 from physics.engine.jit import kernel, small
 from physics.records import Mode
 
@@ -57,8 +57,8 @@ Balance = namedtuple("Balance", "lean rate accel brace_a brace_b brace_lift step
 # gravity + pseudo-force + air torque coefficients alpha, beta (N m) such that
 # the torque about the pivot is alpha cos(lean) + beta sin(lean), and the
 # weight as felt on the car (N: mass x gravity and the car body's vertical
-# acceleration).
-PlantedLoad = namedtuple("PlantedLoad", "air com_x com_z pseudo normal alpha beta weight")
+# acceleration); `air` holds the other performer's force too (partners.Touch), `wind` the air's alone.
+PlantedLoad = namedtuple("PlantedLoad", "air com_x com_z pseudo normal alpha beta weight wind")
 
 # The lean the performer aims for: its value (rad, within max_lean), the lean
 # the load would need (rad; pi/2 when no lean balances it), the centre of
@@ -113,10 +113,20 @@ def solve_lean(alpha, beta, target):
     return (t1 if abs(t1) < abs(t2) else t2), True
 
 
+@small
+def touched(air, touch, c, s):
+    """The air load with the other performer's force (a partners.Touch) added at its point: forces,
+    pivot torque along the track and roll torque across it, as the air load's own segments add."""
+    fx, fy, fz, px, pz = touch.fx, touch.fy, touch.fz, touch.px, touch.pz
+    unused, z = rotate(px, pz, c, s)
+    return AirLoad(air.fx + fx, air.fy + fy, air.fz + fz, air.torque_cos + pz * fx - px * fz,
+                   air.torque_sin - px * fx - pz * fz, air.roll + fy * z)
+
+
 @kernel
-def planted_load(posture, bal, wx, wy, mass, frame_accel, drag, g, flow):
+def planted_load(posture, bal, wx, wy, mass, frame_accel, drag, g, flow, touch):
     """Loads on `posture` leaned by bal.lean in the apparent wind (wx, wy) (m/s) of the air over the roof
-    `flow`.
+    `flow`, with the other performer's force `touch` (partners.Touch).
 
     frame_accel: the acceleration of the contact's frame along the track (the
     consist's plus the slide's), m/s^2, which gives the pseudo-force; g: gravity
@@ -124,14 +134,15 @@ def planted_load(posture, bal, wx, wy, mass, frame_accel, drag, g, flow):
     """
     c = math.cos(bal.lean)
     s = math.sin(bal.lean)
-    air = air_load(posture, c, s, wx, wy, 0.0, drag, flow)
+    wind = air_load(posture, c, s, wx, wy, 0.0, drag, flow)
+    air = touched(wind, touch, c, s) if touch.on else wind
     cx, cz = rotate(posture.com_x, posture.com_z, c, s)
     weight = mass * g
     pseudo = -mass * frame_accel
     normal = weight - air.fz - mass * (bal.accel * cx + bal.rate * bal.rate * cz)
     alpha = weight * posture.com_x + air.torque_cos + pseudo * posture.com_z
     beta = weight * posture.com_z + air.torque_sin - pseudo * posture.com_x
-    return PlantedLoad(air, cx, cz, pseudo, normal, alpha, beta, weight)
+    return PlantedLoad(air, cx, cz, pseudo, normal, alpha, beta, weight, wind)
 
 
 @small
@@ -201,7 +212,7 @@ def carry_on(bal):
 
 
 @kernel
-def settle(bal, posture, wx, wy, mass, frame_accel, drag, max_lean, dt, leans, g, flow):
+def settle(bal, posture, wx, wy, mass, frame_accel, drag, max_lean, dt, leans, g, flow, touch):
     """Brace and aim for this step: (balance, load, target).
 
     On a restart a performer who `leans` takes the braced lean at once; the load
@@ -209,13 +220,13 @@ def settle(bal, posture, wx, wy, mass, frame_accel, drag, max_lean, dt, leans, g
     step's forces are those of the body as it stands, not of an upright one.
     """
     weight = mass * g
-    load = planted_load(posture, bal, wx, wy, mass, frame_accel, drag, g, flow)
+    load = planted_load(posture, bal, wx, wy, mass, frame_accel, drag, g, flow, touch)
     bal = brace(bal, load, dt)
     target = lean_target(bal, posture, weight, max_lean)
     if bal.restart and leans:
         for _ in range(SETTLE_PASSES):
             bal = with_lean(bal, target.lean, bal.rate, bal.accel)
-            load = planted_load(posture, bal, wx, wy, mass, frame_accel, drag, g, flow)
+            load = planted_load(posture, bal, wx, wy, mass, frame_accel, drag, g, flow, touch)
             bal = brace(bal, load, dt)
             target = lean_target(bal, posture, weight, max_lean)
     return bal, load, target

@@ -1,0 +1,109 @@
+"""Two performers on one roof: what their interactions default to, the kernel's link table, and what
+each interaction did (the engine's side is physics.engine.partners).
+
+Defaults and where they come from. None of these is a rehearsal figure: a scene should state the
+force the performers actually use.
+
+- A shove's peak force, 450 N: a standing man's two-handed horizontal push with good footing is of the
+  order of 400-600 N at shoulder height (static push-strength studies, e.g. Chaffin, Andres & Garg
+  1983, Human Factors 25:541; from memory, not re-read). A pull, 400 N, the same family of data (from
+  memory). A throw, 600 N tilted 30 degrees up: roofbeat's own default.
+- A contact punch gives the impulse the scene states over CONTACT_TIME as a half-sine pulse. For scale:
+  Olympic boxers' straight punches measured about 3.4 kN peak with the fist at about 9 m/s and an
+  effective mass of about 2.9 kg (Walilko, Viano & Bir 2005, Br. J. Sports Med. 39:710; from memory),
+  that is about 26 N s; a scene's impulse above PUNCH_IMPULSE_MAX is refused as no stage punch. A
+  pulled punch (the default) puts no force on the partner.
+- A hold's breaking force, 600 N: a hand hold on an arm or clothing holds by the friction of the grip,
+  so it is of the order of one hand's grip strength (dynamometer norms about 450-530 N for men of 20-39
+  and 270-310 N for women, Mathiowetz et al. 1985, Arch. Phys. Med. Rehabil. 66:69; from memory), not
+  of the arm's pull: roofbeat's own default, to be replaced by the pair's rehearsed figure.
+- Reach: an arm from the shoulder to the fingertips is about 0.44 of stature (upper arm 0.186, forearm
+  0.146, hand 0.108; Drillis & Contini segment proportions as tabled by Winter, from memory), plus
+  0.15 m for the partner's half depth at the chest (from memory).
+- A hold's stiffness 5 kN/m and damping ratio 0.5, a catch's 3 kN/m and 1.0: roofbeat's own (an arm
+  held straight gives a little, a catch is taken on bent arms).
+"""
+
+from __future__ import annotations
+
+import math
+
+import numpy as np
+
+from physics.records import LINK, LINK_OUT, LinkCode
+
+SHOVE_FORCE = 450.0
+PULL_FORCE = 400.0
+THROW_FORCE = 600.0
+THROW_ANGLE = math.radians(30.0)
+CONTACT_TIME = 0.02          # s a contact punch's fist stays on the target (from memory: about 10-20 ms)
+PUNCH_IMPULSE_MAX = 30.0     # N s, above an Olympic boxer's straight punch (see above)
+HOLD_BREAKING = 600.0
+ARM_FRACTION = 0.44
+CHEST_HALF_DEPTH = 0.15
+HOLD_STIFFNESS = 5000.0
+HOLD_DAMPING = 0.5
+CATCH_STIFFNESS = 3000.0
+CATCH_DAMPING = 1.0
+STEADY_RAMP = 0.2            # s a steady push takes to build up and to ease off (roofbeat's own)
+DEFAULT_FORCE = {"shove": SHOVE_FORCE, "pull": PULL_FORCE, "throw": THROW_FORCE}
+DIRECTIONS = ("toward", "front", "rear", "left", "right")
+FIXED = {"front": (1.0, 0.0), "rear": (-1.0, 0.0), "left": (0.0, 1.0), "right": (0.0, -1.0)}
+INTERACTION_POSTURES = ("stand", "brace", "crouch", "kneel", "prone")
+
+
+def default_reach(stature: float) -> float:
+    return ARM_FRACTION * stature + CHEST_HALF_DEPTH
+
+
+def punch_force(impulse: float) -> float:
+    """Peak force (N) of a half-sine pulse of `impulse` (N s) over CONTACT_TIME: J pi / (2 T)."""
+    return impulse * math.pi / (2.0 * CONTACT_TIME)
+
+
+def link_table(scene) -> np.ndarray:
+    """The scene's interactions as the kernel reads them (records.LINK)."""
+    table = np.zeros(len(scene.interactions), LINK)
+    for row, it in zip(table, scene.interactions):
+        code = {"push": LinkCode.PUSH, "hold": LinkCode.HOLD, "catch": LinkCode.CATCH}[it.link_code]
+        row["code"] = int(code)
+        row["actor"] = it.actor
+        row["start"], row["end"] = it.start, it.end
+        row["force"] = it.force if it.contact else 0.0
+        row["steady"] = it.steady
+        row["ramp"] = STEADY_RAMP
+        row["toward"] = (-1 if it.kind == "pull" else 1) if it.direction == "toward" else 0
+        row["dir_x"], row["dir_y"] = FIXED.get(it.direction, (0.0, 0.0))
+        row["up"] = it.up
+        row["reach"] = it.reach
+        row["breaking"] = it.breaking
+        row["stiffness"] = it.stiffness
+        row["damping"] = it.damping
+        row["facing"] = scene.cast[it.actor].performer.facing
+    return table
+
+
+def link_out_row(links: int) -> np.ndarray:
+    from physics.records import empty_link_out
+    return empty_link_out(1, links)[0]
+
+
+def interaction_summary(scene, link_out: np.ndarray) -> list[dict]:
+    """What each interaction did (JSON-ready): who did what to whom, whether the hands reached, the
+    peak force between them and the impulse given, and whether a hold let go."""
+    out = []
+    names = [p.name for p in scene.cast]
+    for it, o in zip(scene.interactions, link_out):
+        engaged = float(o["engaged"])
+        row = {"kind": it.kind, "actor": names[it.actor], "partner": names[it.partner], "start_s": it.start,
+               "end_s": it.end, "reached": math.isfinite(engaged),
+               "contact_s": engaged if math.isfinite(engaged) else None,
+               "peak_force_n": float(o["peak"]), "impulse_ns": float(o["impulse"]),
+               "let_go_s": float(o["lost"]) if math.isfinite(float(o["lost"])) else None,
+               "breaking_force_n": it.breaking if it.link_code != "push" else None,
+               "pulled_short": it.kind == "punch" and not it.contact}
+        out.append(row)
+    return out
+
+
+__all__ = ["LINK_OUT", "link_table", "interaction_summary", "default_reach", "punch_force"]
