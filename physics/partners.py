@@ -20,8 +20,12 @@ force the performers actually use.
 - Reach: an arm from the shoulder to the fingertips is about 0.44 of stature (upper arm 0.186, forearm
   0.146, hand 0.108; Drillis & Contini segment proportions as tabled by Winter, from memory), plus
   0.15 m for the partner's half depth at the chest (from memory).
-- A hold's stiffness 5 kN/m and damping ratio 0.5, a catch's 3 kN/m and 1.0: roofbeat's own (an arm
-  held straight gives a little, a catch is taken on bent arms).
+- A hold's stiffness 5 kN/m and damping ratio 0.5: roofbeat's own (an arm held straight gives a little).
+- A catch is taken on bent arms round the body, not in one grip: 1.5 kN/m, damping ratio 0.5 and a
+  breaking force of 1200 N, roofbeat's own. A flyer of reduced mass mu arriving at relative speed v
+  meets at first the damper's c v = 2 zeta sqrt(k mu) v (about 700 N for 37 kg at 3 m/s) and is
+  stopped over about v sqrt(mu / k), half a metre of arm travel: about what a rehearsed catch gives
+  (from memory).
 """
 
 from __future__ import annotations
@@ -43,8 +47,9 @@ ARM_FRACTION = 0.44
 CHEST_HALF_DEPTH = 0.15
 HOLD_STIFFNESS = 5000.0
 HOLD_DAMPING = 0.5
-CATCH_STIFFNESS = 3000.0
-CATCH_DAMPING = 1.0
+CATCH_STIFFNESS = 1500.0
+CATCH_DAMPING = 0.5
+CATCH_BREAKING = 1200.0
 STEADY_RAMP = 0.2            # s a steady push takes to build up and to ease off (roofbeat's own)
 DEFAULT_FORCE = {"shove": SHOVE_FORCE, "pull": PULL_FORCE, "throw": THROW_FORCE}
 DIRECTIONS = ("toward", "front", "rear", "left", "right")

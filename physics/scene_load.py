@@ -430,7 +430,8 @@ def _interaction(item: dict, path: str, r: _Reader, action: Action, actor: int, 
     reach = r.quantity(item, "reach", path, "length", default=partners.default_reach(body.stature), minimum=0.2,
                        maximum=2.0)
     catch = kind == "catch"
-    breaking = r.quantity(item, "breaking_force", path, "force", default=partners.HOLD_BREAKING, minimum=50.0,
+    breaking = r.quantity(item, "breaking_force", path, "force",
+                          default=partners.CATCH_BREAKING if catch else partners.HOLD_BREAKING, minimum=50.0,
                           maximum=5000.0)
     stiffness = r.quantity(item, "stiffness", path, "stiffness",
                            default=partners.CATCH_STIFFNESS if catch else partners.HOLD_STIFFNESS, minimum=100.0,

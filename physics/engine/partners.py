@@ -96,7 +96,7 @@ def link_force(link, lout, t, actor, partner, mass_a, mass_p):
     dx, dy, dz = partner.x - actor.x, partner.y - actor.y, partner.z - actor.z
     dist = math.sqrt(dx * dx + dy * dy + dz * dz)
     if link.code == LinkCode.PUSH:
-        if dist > link.reach:
+        if dist > link.reach or link.force <= 0.0:
             return 0.0, 0.0, 0.0, False
         if math.isnan(lout.engaged):
             lout.engaged = t
