@@ -3,7 +3,8 @@
 After a failure the engine goes on with the physics (a slide runs out, a
 topple goes down, a fall ends on the ground); this module turns the record of
 that into phases a person can read: sliding so far, down on the roof, in the
-air, on the ground beside or between the cars, struck.
+air, on the ground beside or between the cars, struck. With two performers
+each one's phases run from its own first failure (`cast_phases`).
 """
 
 from __future__ import annotations
@@ -42,6 +43,11 @@ def phases(trajectory) -> list[dict]:
     for a, b in zip(cuts[:-1], cuts[1:]):
         out.append(_phase(trajectory, k0 + a, k0 + b - 1, int(mode[a])))
     return out
+
+
+def cast_phases(trajectory) -> list[list[dict]]:
+    """Each performer's phases from its own first failure (cast order; one list for one performer)."""
+    return [phases(tr) for tr in (trajectory,) + tuple(trajectory.partners)]
 
 
 def _phase(tr, first: int, last: int, mode: int) -> dict:

@@ -93,7 +93,7 @@ def rigging_summary(trajectory) -> list[dict]:
     """Per tether: restraint or arrest, peaks, travel, free fall, deceleration distance and where the
     body hangs, each against its limit with the limit's source."""
     scene = trajectory.scene
-    if not scene.rigging:
+    if not scene.rigging or scene.pair:   # the loader refuses rigging with two performers
         return []
     safety = scene.safety
     path = harness_path(trajectory)

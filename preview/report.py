@@ -43,10 +43,74 @@ def wind_words(speed: float, system: str) -> str:
 def text_report(scene, summary: dict) -> str:
     system = scene.units
     lines = [f"roofbeat check: {scene.title}", f"scene file: {scene.source}", ""]
+    pair = summary.get("performers")
+    if pair:
+        lines.append(f"two performers, {pair[0]['name']} and {pair[1]['name']}: the beat's verdict is the worse of "
+                     "the two, its first failure the earlier")
+        for part in pair:
+            lines += ["", f"{part['name'].upper()}: {part['verdict'].upper()}"]
+            lines += action_lines(part["actions"], system)
+            first = part["first_failure"]
+            lines.append(f"{part['name']}'s first failure: " + (failure_words(first, scene, system) if first
+                                                                 else "none"))
+            for phase in part.get("aftermath", []):
+                lines.append(f"  then, {phase['from_s']:.2f}-{phase['to_s']:.2f} s: {phase_words(phase, system)}")
+        lines += [""] + interaction_lines(summary.get("interactions", []), system)
+    else:
+        lines += action_lines(summary["actions"], system)
+    lines.append("")
+    lines.append("required: " + required_words(summary["required_factors"], system))
+    lines.append("grip = roof friction available / needed (min); balance = margin of stability, the smaller of "
+                 "along and across the track (min); lift = normal force / weight (min); lean = lean needed to "
+                 "balance the load (max); side edge = support to the nearer side edge (min)")
+    lines.append(apparent_wind_line(summary, system))
+    storm = storm_words(summary)
+    if storm:
+        lines.append(storm)
+    lines.append("")
+    for duck in summary.get("ducks", []):
+        if duck.get("not_searched"):
+            lines.append(f"duck '{duck['name']}' ({duck['performer']}'s action {duck['action']}): not searched: "
+                         f"{duck['not_searched']}")
+        elif duck["latest_start_s"] is None:
+            lines.append(f"duck '{duck['name']}' ({duck_whose(duck)}action {duck['action']}): no start time clears "
+                         "the structure")
+        else:
+            spare = duck.get("spare_s")
+            words = f", {spare:+.2f} s from the planned start" if spare is not None else ""
+            latest = duck["latest_start_s"]
+            lines.append(f"duck '{duck['name']}' ({duck_whose(duck)}action {duck['action']}): latest start that "
+                         "still clears "
+                         f"{timecode(latest, scene.frame_rate)} ({latest:.2f} s){words}")
+    lines.append(f"verdict: {summary['verdict'].upper()}"
+                 + (f" (the worse of {pair_verdicts(pair)})" if pair else ""))
+    bound = uniform_air_words(summary)
+    if bound:
+        lines.append(bound)
+    first = summary["first_failure"]
+    if first:
+        who = f"{first['performer']}, " if pair else ""
+        lines.append(f"first failure: {who}{failure_words(first, scene, system)}")
+        if pair and summary.get("aftermath"):
+            lines.append(f"  then: what became of {first['performer']} is under {first['performer'].upper()} above")
+    for phase in ([] if pair else summary.get("aftermath", [])):
+        lines.append(f"  then, {phase['from_s']:.2f}-{phase['to_s']:.2f} s: {phase_words(phase, system)}")
+    others = [e for e in summary["events"] if e is not first]
+    for e in others:
+        who = f"{e['performer']}: " if pair else ""
+        lines.append(f"  also: {who}{e['kind']} at {e['time_s']:.2f} s: {e['detail']}")
+    if summary.get("rigging"):
+        lines += [""] + rigging_lines(summary["rigging"], system)
+    lines += ["", "CAUTION: " + CAUTION]
+    return "\n".join(lines)
+
+
+def action_lines(actions: list[dict], system: str) -> list[str]:
+    """The table of actions with their verdicts and margins, and why each is marginal."""
     header = (f"{'action':<16}{'time (s)':>12}  {'verdict':<9}{'grip':>6}{'balance':>10}{'lift':>6}"
               f"{'lean':>7}{'wind':>13}{'Bft':>4}{'drag':>9}")
-    lines += [header, "-" * len(header)]
-    for row in summary["actions"]:
+    lines = [header, "-" * len(header)]
+    for row in actions:
         if not row["assessed"]:
             lines.append(f"{row['name'][:15]:<16}{row['start_s']:5.1f}-{row['end_s']:<6.1f} {'fails':<9}"
                          "not assessed: the beat failed before this action")
@@ -80,46 +144,73 @@ def text_report(scene, summary: dict) -> str:
         if row.get("recovery_steps"):
             n = row["recovery_steps"]
             lines.append(" " * 16 + f"{n} recovery step{'s' if n > 1 else ''}: the performer had to step to stay up")
-    lines.append("")
-    lines.append("required: " + required_words(summary["required_factors"], system))
-    lines.append("grip = roof friction available / needed (min); balance = margin of stability, the smaller of "
-                 "along and across the track (min); lift = normal force / weight (min); lean = lean needed to "
-                 "balance the load (max); side edge = support to the nearer side edge (min)")
-    lines.append(apparent_wind_line(summary, system))
-    storm = storm_words(summary)
-    if storm:
-        lines.append(storm)
-    lines.append("")
-    for duck in summary.get("ducks", []):
-        if duck["latest_start_s"] is None:
-            lines.append(f"duck '{duck['name']}' (action {duck['action']}): no start time clears the structure")
+    return lines
+
+
+def failure_words(first: dict, scene, system: str) -> str:
+    """'slip at 00:00:02:02 (2.07 s) on box car, car frame x = ..., ground frame x = ...: detail'."""
+    x_car, unit = to_display(first["x_car_m"], "length", system)
+    x_ground, _ = to_display(first["x_ground_m"], "length", system)
+    where = f"on {first['car_name']}" if first["car_name"] else "off the roof"
+    return (f"{first['kind']} at {timecode(first['time_s'], scene.frame_rate)} ({first['time_s']:.2f} s) {where}, "
+            f"car frame x = {x_car:.2f} {unit}, ground frame x = {x_ground:.1f} {unit}: {first['detail']}")
+
+
+def impulse_words(value: float, system: str) -> str:
+    """An impulse in the scene's force unit times seconds: '35.6 N s', '8.0 lbf s'."""
+    return f"{display(value, 'force', system, '.1f')} s"
+
+
+def interaction_rows(interactions: list[dict], system: str) -> list[dict]:
+    """Per interaction, the words of its row: who did what to whom, when, whether the hands reached,
+    the peak force and the impulse between them, and what became of a hold."""
+    rows = []
+    for it in interactions:
+        if it["pulled_short"]:
+            reached = "pulled short"
+        elif it["reached"]:
+            reached = f"yes, at {it['contact_s']:.2f} s"
         else:
-            spare = duck.get("spare_s")
-            words = f", {spare:+.2f} s from the planned start" if spare is not None else ""
-            latest = duck["latest_start_s"]
-            lines.append(f"duck '{duck['name']}' (action {duck['action']}): latest start that still clears "
-                         f"{timecode(latest, scene.frame_rate)} ({latest:.2f} s){words}")
-    lines.append(f"verdict: {summary['verdict'].upper()}")
-    bound = uniform_air_words(summary)
-    if bound:
-        lines.append(bound)
-    first = summary["first_failure"]
-    if first:
-        x_car, unit = to_display(first["x_car_m"], "length", system)
-        x_ground, _ = to_display(first["x_ground_m"], "length", system)
-        where = f"on {first['car_name']}" if first["car_name"] else "off the roof"
-        lines.append(f"first failure: {first['kind']} at {timecode(first['time_s'], scene.frame_rate)} "
-                     f"({first['time_s']:.2f} s) {where}, car frame x = {x_car:.2f} {unit}, "
-                     f"ground frame x = {x_ground:.1f} {unit}: {first['detail']}")
-    for phase in summary.get("aftermath", []):
-        lines.append(f"  then, {phase['from_s']:.2f}-{phase['to_s']:.2f} s: {phase_words(phase, system)}")
-    others = [e for e in summary["events"] if e is not first]
-    for e in others:
-        lines.append(f"  also: {e['kind']} at {e['time_s']:.2f} s: {e['detail']}")
-    if summary.get("rigging"):
-        lines += [""] + rigging_lines(summary["rigging"], system)
-    lines += ["", "CAUTION: " + CAUTION]
-    return "\n".join(lines)
+            reached = "no: out of reach"
+        if it["breaking_force_n"] is None:
+            hold = "-"
+        elif it["let_go_s"] is not None:
+            hold = (f"LET GO at {it['let_go_s']:.2f} s (breaking force "
+                    f"{display(it['breaking_force_n'], 'force', system, '.0f')})")
+        elif it["reached"]:
+            hold = f"held (breaking force {display(it['breaking_force_n'], 'force', system, '.0f')})"
+        else:
+            hold = "never took hold"
+        rows.append({"who": it["actor"], "did": it["kind"], "to": it["partner"],
+                     "time": f"{it['start_s']:.1f}-{it['end_s']:.1f}", "reached": reached,
+                     "peak": display(it["peak_force_n"], "force", system, ".0f"),
+                     "impulse": impulse_words(it["impulse_ns"], system), "hold": hold})
+    return rows
+
+
+def interaction_lines(interactions: list[dict], system: str) -> list[str]:
+    """The interactions table of `roofbeat check` for two performers."""
+    lines = ["interactions (who did what to whom):"]
+    if not interactions:
+        return lines + ["  none: the two performers do not act on each other in this scene"]
+    head = (f"  {'who':<12}{'did':<7}{'to whom':<12}{'time (s)':<10}{'reached':<16}{'peak force':>11}"
+            f"{'impulse':>12}  hold")
+    lines += [head, "  " + "-" * (len(head) - 2)]
+    for r in interaction_rows(interactions, system):
+        lines.append(f"  {r['who'][:11]:<12}{r['did']:<7}{r['to'][:11]:<12}{r['time']:<10}{r['reached']:<16}"
+                     f"{r['peak']:>11}{r['impulse']:>12}  {r['hold']}")
+    lines.append("  peak force: the largest force between their hands and the partner; impulse: that force over "
+                 "the time it acted")
+    return lines
+
+
+def pair_verdicts(performers: list[dict]) -> str:
+    """"Dana's MARGINAL and Eli's FAILS"."""
+    return " and ".join(f"{p['name']}'s {p['verdict'].upper()}" for p in performers)
+
+
+def duck_whose(duck: dict) -> str:
+    return f"{duck['performer']}'s " if duck.get("performer") else ""
 
 
 def apparent_wind_line(summary: dict, system: str) -> str:

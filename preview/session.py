@@ -89,6 +89,8 @@ def make_playback(scene, variant=None) -> Playback:
     trajectory = simulate(scene, variant)
     summary = beat_summary(trajectory)
     summary["aftermath"] = phases(trajectory)
+    if scene.pair:
+        pair_aftermath(trajectory, summary)
     summary["arrivals"] = structure_arrivals(trajectory)
     summary["ducks"] = latest_duck_starts(scene) if variant is None else []
     summary["apparent_wind_whole_beat_ms"] = whole_beat_wind(trajectory)
@@ -97,6 +99,18 @@ def make_playback(scene, variant=None) -> Playback:
         from physics.rigging import rigging_summary
         summary["rigging"] = rigging_summary(trajectory)
     return Playback(trajectory, summary)
+
+
+def pair_aftermath(trajectory, summary: dict) -> None:
+    """Two performers: each one's phases after its own first failure (in its `performers` entry), and
+    the beat's `aftermath` those of the performer whose failure came first."""
+    from physics.aftermath import cast_phases
+    per = cast_phases(trajectory)
+    for entry, steps in zip(summary["performers"], per):
+        entry["aftermath"] = steps
+    first = summary["first_failure"]
+    names = [p["name"] for p in summary["performers"]]
+    summary["aftermath"] = per[names.index(first["performer"])] if first else []
 
 
 def uniform_air_verdict(scene, variant=None) -> dict | None:
@@ -118,7 +132,8 @@ def whole_beat_wind(trajectory) -> float:
     """The highest apparent wind the body met anywhere in the run, after a failure too (m/s, horizontal);
     the actions' own maxima stop at the first failure."""
     import numpy as np
-    wind = np.concatenate([np.hypot(tr.field("app_x"), tr.field("app_y")) for tr in (trajectory,) + trajectory.partners])
+    wind = np.concatenate([np.hypot(tr.field("app_x"), tr.field("app_y"))
+                           for tr in (trajectory,) + trajectory.partners])
     return float(np.nanmax(wind)) if np.isfinite(wind).any() else 0.0
 
 
