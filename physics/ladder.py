@@ -8,6 +8,10 @@ sweep and root finding over stated ranges (so `roofbeat envelope` over the same 
 numbers): the highest top speed, and the highest ambient wind at the scene's wind direction, at which
 the beat still holds with the required factors. For a rehearsal on a stationary vehicle, the wind
 machine's air speed that gives the performer the planned speed's apparent wind.
+
+With two performers every margin is the worse of the two, a rung's verdict the
+worse of theirs (each one's own is kept beside it) and a first failure names
+its performer.
 """
 
 from __future__ import annotations
@@ -17,11 +21,11 @@ import math
 import numpy as np
 
 from physics.air import wind_vector
-from physics.roof_air import without_roof_air
 from physics.scene import Scene
 from physics.scene_load import LIMITS
-from physics.sweep import SweepError, _run, base_value, limits, sweep_1d
-from physics.verdict import FACTORS, NAMES, first_failure_kinds, shortfalls, verdict_codes
+from physics.sweep import (SweepError, _run, base_value, first_failures, free_stream, limits, pair_words,
+                           performer_verdicts, sweep_1d)
+from physics.verdict import FACTORS, NAMES, shortfalls, verdict_codes
 
 # The first rung: walking pace, 5 km/h (common practice, no source: build up from a walk).
 WALKING_PACE = 5 / 3.6
@@ -53,7 +57,8 @@ def build_ladder(scene: Scene, rungs: int = 5) -> dict:
     speeds = rung_speeds(scene, rungs)
     result = _run(scene, "speed", speeds)
     codes = verdict_codes(scene, result.events, result.outcomes)
-    kinds = first_failure_kinds(result.events)
+    kinds = first_failures(scene, result)
+    each = performer_verdicts(scene, result)
     rows = []
     for i, speed in enumerate(speeds):
         worst = _worst(result.outcomes[i])
@@ -62,16 +67,22 @@ def build_ladder(scene: Scene, rungs: int = 5) -> dict:
                      "margins": {words: (float(worst[field]) if math.isfinite(worst[field]) else None)
                                  for field, _, words, _ in FACTORS},
                      "below_required": shortfalls(scene.safety, worst)})
+        if each:
+            rows[-1]["performers"] = {name: NAMES[codes_of[i]] for name, codes_of in each.items()}
     if scene.air.roof_flow is not None:
         # Each rung's verdict with the free stream at every height beside the profile's (the bound).
-        uniform = without_roof_air(scene)
+        uniform = free_stream(scene)
         bound = _run(uniform, "speed", speeds)
         for row, code in zip(rows, verdict_codes(uniform, bound.events, bound.outcomes)):
             row["uniform_air_verdict"] = NAMES[code]
     short = next((r["rung"] for r in rows if r["verdict"] != "holds"), None)
-    return {"scene": scene.title, "units": "SI", "rungs": rows, "first_rung_short": short,
-            "scaling_note": scaling_note(scene),
-            "abort_limits": abort_limits(scene), "wind_machine": wind_machine(scene)}
+    out = {"scene": scene.title, "units": "SI", "rungs": rows, "first_rung_short": short,
+           "scaling_note": scaling_note(scene),
+           "abort_limits": abort_limits(scene), "wind_machine": wind_machine(scene)}
+    if scene.pair:
+        out["performers"] = [part.name for part in scene.cast]
+        out["margins_are"] = pair_words(scene)
+    return out
 
 
 def _worst(outcomes):
@@ -110,7 +121,7 @@ def abort_limits(scene: Scene) -> dict:
     if scene.air.roof_flow is not None:
         # The air over the roof's coefficients are soft: the same limits with the free stream at every
         # height (the bound) stand beside them.
-        bound = abort_limits(without_roof_air(scene))
+        bound = abort_limits(free_stream(scene))
         out["uniform_air"] = {name: bound[name]["holds_with_factors"] for name in ("speed", "wind_speed")}
     return out
 

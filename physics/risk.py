@@ -6,6 +6,11 @@ the scene has it, gets its own seed per sample. Samples run in batches on the
 engine's batch axis. Failure probabilities carry a 95 % Wilson score interval
 (Wilson 1927, J. Am. Stat. Assoc. 22:209-212). Which inputs drive failure is
 ranked by Spearman rank correlation with the failure outcome.
+
+With two performers a sample fails when either fails, each margin is the worse
+of the two, and each performer's own share of failing runs is kept beside the
+beat's (`by_performer`). The loader keeps spreads off a pair's performer
+values, so every uncertain input is the beat's (speed, wind, roof friction).
 """
 
 from __future__ import annotations
@@ -20,8 +25,8 @@ from physics.records import EVENT_WORDS, FAILURES
 from physics.scene import Scene
 from physics.scene_load import ROOF_STATIC
 from physics.simulation import Variants, simulate_batch, variants
-from physics.sweep import apply, base_value
-from physics.verdict import verdict_codes
+from physics.sweep import apply, base_value, pair_words
+from physics.verdict import first_failure_time, verdict_codes
 
 Z95 = 1.959963984540054  # two-sided 95 % standard normal quantile
 
@@ -46,6 +51,8 @@ class RiskResult:
     failed_kind: dict       # failure kind -> boolean array
     margins: dict           # margin name -> per-sample minimum (or maximum) over the beat
     drivers: list           # (name, rho with failure, rho with grip ratio) sorted by |rho|
+    performers: dict = None  # two performers: name -> {"fails": bool per sample, "first": bool per sample,
+    #                          "kinds": failure kind -> bool per sample}
 
 
 # How an uncertain input is shown: its display dimension (physics.units) or None for a plain number.
@@ -68,6 +75,11 @@ def sample_variants(scene: Scene, samples: int, seed: int) -> tuple[Variants, di
     """
     rng = np.random.default_rng(seed)
     v = variants(scene, samples)
+    if scene.pair:
+        own = sorted(k for k, spread in scene.uncertain.items() if spread > 0 and k in PER_PERFORMER)
+        if own:
+            raise ValueError(f"a spread on {', '.join(own)} is one performer's; with two performers roofbeat "
+                             "draws only the beat's values (speed, wind, roof friction)")
     inputs = {}
     for key, spread in sorted(scene.uncertain.items()):
         if spread <= 0:
@@ -91,6 +103,8 @@ def sample_variants(scene: Scene, samples: int, seed: int) -> tuple[Variants, di
     return v, inputs
 
 
+PER_PERFORMER = ("mass", "drag_area", "reaction_time", "effort")
+
 # Per-sample minima kept from each batch (the rest of a batch's events and outcomes is let go).
 SUMMARY_MARGINS = {"grip_ratio_min": "grip_ratio_min", "balance_margin_min_m": "balance_margin_min",
                    "lift_ratio_min": "lift_ratio_min", "landing_margin_min_m": "landing_margin_min",
@@ -113,6 +127,9 @@ def run_risk(scene: Scene, samples: int, seed: int = 0, batch: int = 2000, progr
     codes = np.empty(samples, dtype=int)
     failed_kind = {EVENT_WORDS[k]: np.zeros(samples, dtype=bool) for k in FAILURES}
     margins = {name: np.empty(samples) for name in SUMMARY_MARGINS}
+    per = ({part.name: {"fails": np.zeros(samples, dtype=bool), "first": np.zeros(samples, dtype=bool),
+                        "kinds": {EVENT_WORDS[k]: np.zeros(samples, dtype=bool) for k in FAILURES}}
+            for part in scene.cast} if scene.pair else None)
     for start in range(0, samples, batch):
         stop = min(samples, start + batch)
         chunk = simulate_batch(scene, Variants(v.params[start:stop], v.roof_scale[start:stop]))
@@ -121,10 +138,25 @@ def run_risk(scene: Scene, samples: int, seed: int = 0, batch: int = 2000, progr
             failed_kind[EVENT_WORDS[k]][start:stop] = ~np.isnan(chunk.events["time"][:, k])
         for name, field in SUMMARY_MARGINS.items():
             margins[name][start:stop] = chunk.outcomes[field].min(axis=1)
+        if per:
+            _pair_chunk(scene, chunk, per, start, stop)
         if progress:
             progress(stop, samples)
     drivers = _drivers(inputs, codes == 2, margins["grip_ratio_min"])
-    return RiskResult(samples, seed, inputs, codes, failed_kind, margins, drivers)
+    return RiskResult(samples, seed, inputs, codes, failed_kind, margins, drivers, per)
+
+
+def _pair_chunk(scene: Scene, chunk, per: dict, start: int, stop: int) -> None:
+    """Each performer's own failures in one batch of a pair: whether it failed, whether its failure was
+    the beat's first, and by kind."""
+    times = np.stack([first_failure_time(e) for e in chunk.pair.events])
+    first = np.argmin(times, axis=0)
+    for who, (part, events) in enumerate(zip(scene.cast, chunk.pair.events)):
+        row = per[part.name]
+        row["fails"][start:stop] = np.isfinite(times[who])
+        row["first"][start:stop] = np.isfinite(times[who]) & (first == who)
+        for k in FAILURES:
+            row["kinds"][EVENT_WORDS[k]][start:stop] = ~np.isnan(events["time"][:, k])
 
 
 def _drivers(inputs: dict, failed: np.ndarray, grip: np.ndarray) -> list:
@@ -159,6 +191,13 @@ def summarise_risk(scene: Scene, result: RiskResult) -> dict:
         "drivers": [{"input": name, "rank_correlation_with_failure": _clean(rf),
                      "rank_correlation_with_grip_ratio": _clean(rg)} for name, rf, rg in result.drivers],
     }
+    if result.performers:
+        out["margins_are"] = pair_words(scene)
+        out["by_performer"] = {name: {"failure_probability": _prob(int(row["fails"].sum()), n),
+                                      "fails_first": _prob(int(row["first"].sum()), n),
+                                      "by_kind": {k: _prob(int(v.sum()), n) for k, v in row["kinds"].items()
+                                                  if v.any()}}
+                               for name, row in result.performers.items()}
     for name, values in result.margins.items():
         finite = values[np.isfinite(values)]
         if finite.size:

@@ -5,6 +5,13 @@ A parameter here is a quantity a coordinator varies: the consist's top speed,
 the ambient wind speed or direction, roof friction, performer mass or drag
 area, gust size, take-off effort. Each maps onto one column of the engine's
 per-variant parameters, so a whole sweep is one batch.
+
+Two performers run as one beat (physics.simulation.pair_batch): a verdict is
+the worse of the two, a margin the smaller, a first failure the earlier (named
+with its performer, `first_failures`). Mass, drag area and effort are one
+performer's and are refused for a pair: the engine's rows keep each
+performer's own (simulation.PERFORMER_FIELDS), so a sweep of them would vary
+the first performer alone under a name that reads as both.
 """
 
 from __future__ import annotations
@@ -19,7 +26,7 @@ from physics.air import wind_vector
 from physics.scene import Scene
 from physics.scene_load import LIMITS
 from physics.simulation import BatchResult, Variants, drag_calibration, simulate_batch, variants
-from physics.verdict import NAMES, first_failure_kinds, verdict_codes
+from physics.verdict import NAMES, action_codes, first_failure_kinds, verdict_codes
 
 # name -> (dimension for parsing and display, description)
 PARAMETERS = {
@@ -56,8 +63,34 @@ def check_range(name: str, start: float, stop: float) -> None:
                              "a scene may give")
 
 
+# Sweep parameters that are one performer's own: refused for two performers.
+PER_PERFORMER = ("mass", "drag_area", "effort")
+
+
+def pair_words(scene: Scene) -> str:
+    """'worse of Dana and Eli' (what a pair's margins and verdicts are); '' for one performer."""
+    return f"worse of {scene.cast[0].name} and {scene.cast[1].name}" if scene.pair else ""
+
+
+def free_stream(scene: Scene) -> Scene:
+    """The scene with the air over the roof off (roof_air.without_roof_air), for each performer of a
+    pair too: the pair runs from its cast's own scenes."""
+    import dataclasses
+
+    from physics.roof_air import without_roof_air
+    if not scene.pair:
+        return without_roof_air(scene)
+    cast = tuple(without_roof_air(part) for part in scene.cast)
+    return dataclasses.replace(without_roof_air(scene), cast=cast)
+
+
 def base_value(scene: Scene, name: str) -> float:
     """The scene's own value of a sweep parameter (SI)."""
+    if scene.pair and name in PER_PERFORMER:
+        raise SweepError(f"{name} is one performer's own value; with two performers "
+                         f"({scene.cast[0].name}, {scene.cast[1].name}) roofbeat does not sweep it: vary speed, "
+                         "wind_speed, wind_from, friction or gust, or change each performer's value in the "
+                         "scene file")
     if name == "speed":
         return max(k.speed for k in scene.keyframes)
     if name == "wind_speed":
@@ -107,6 +140,29 @@ def apply(scene: Scene, v: Variants, name: str, values: np.ndarray) -> None:
         p["gust_scale"] = values / base
     elif name == "effort":
         p["takeoff_scale"] = np.sqrt(values / base)
+
+
+def first_failures(scene: Scene, result: BatchResult) -> list[str | None]:
+    """The earliest failure kind per variant, or None; with two performers the kind of the earlier of the
+    two with its performer's name, "slip (Eli)" (the one whose failure came first; the first on a tie)."""
+    if not scene.pair:
+        return first_failure_kinds(result.events)
+    from physics.verdict import first_failure_time
+    kinds = [first_failure_kinds(e) for e in result.pair.events]
+    times = np.stack([first_failure_time(e) for e in result.pair.events])
+    out = []
+    for b in range(times.shape[1]):
+        who = int(np.argmin(times[:, b]))
+        out.append(None if not np.isfinite(times[who, b]) else f"{kinds[who][b]} ({scene.cast[who].name})")
+    return out
+
+
+def performer_verdicts(scene: Scene, result: BatchResult) -> dict:
+    """Two performers: each one's own verdict code per variant, by name ({} for one performer)."""
+    if not scene.pair:
+        return {}
+    return {part.name: action_codes(part, events, outcomes).max(axis=-1)
+            for part, events, outcomes in zip(scene.cast, result.pair.events, result.pair.outcomes)}
 
 
 def health(scene: Scene, result: BatchResult, level: int) -> np.ndarray:
@@ -201,7 +257,7 @@ def _refine(scene, name, a, b, level, label, tol) -> Threshold:
         value = brentq(f, a, b, xtol=tol)
     just = _run(scene, name, np.array([value - tol, value + tol]))
     codes = verdict_codes(scene, just.events, just.outcomes)
-    kinds = first_failure_kinds(just.events)
+    kinds = first_failures(scene, just)
     return Threshold(label, value, tol, NAMES[codes[0]], NAMES[codes[1]], kinds[1] or kinds[0])
 
 

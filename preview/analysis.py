@@ -52,9 +52,13 @@ def display(name: str, value: float, system: str) -> str:
 
 
 def envelope_summary(scene, sweep) -> dict:
-    from physics.sweep import limits
-    from physics.verdict import NAMES, first_failure_kinds
-    kinds = first_failure_kinds(sweep.result.events)
+    """The sweep's rows, thresholds and limits (JSON-ready, SI). With two performers every verdict and
+    margin is the worse of the two (`margins_are`), each row keeps each one's own verdict
+    (`performers`) and a first failure names its performer."""
+    from physics.sweep import first_failures, limits, pair_words, performer_verdicts
+    from physics.verdict import NAMES
+    kinds = first_failures(scene, sweep.result)
+    each = performer_verdicts(scene, sweep.result)
     m = sweep.result.outcomes
     rows = []
     for i, value in enumerate(sweep.values):
@@ -63,8 +67,11 @@ def envelope_summary(scene, sweep) -> dict:
                      "balance_margin_min_m": _f(m[i]["balance_margin_min"].min()),
                      "lift_ratio_min": _f(m[i]["lift_ratio_min"].min()),
                      "apparent_wind_max_ms": float(m[i]["apparent_wind_max"].max())})
+        if each:
+            rows[-1]["performers"] = {name: NAMES[codes[i]] for name, codes in each.items()}
+    pair = {"performers": [part.name for part in scene.cast], "margins_are": pair_words(scene)} if scene.pair else {}
     return {
-        "scene": scene.title, "parameter": sweep.name, "units": "SI", "rows": rows,
+        "scene": scene.title, "parameter": sweep.name, "units": "SI", **pair, "rows": rows,
         "range": [float(sweep.values[0]), float(sweep.values[-1])], "planned": _planned(scene, sweep.name),
         "thresholds": [{"kind": t.kind, "value": t.value, "tolerance": t.tolerance, "below": t.below,
                         "above": t.above, "failure_beyond": t.failure_beyond} for t in sweep.thresholds],
@@ -120,14 +127,22 @@ def envelope_text(scene, summary: dict) -> str:
     name, system = summary["parameter"], scene.units
     planned = summary["planned"]
     lines = [f"roofbeat envelope: {scene.title}",
-             f"varying {name}" + (f" (planned: {display(name, planned, system)})" if planned is not None else ""), "",
-             f"{'value':>14}  {'verdict':<9}{'grip':>7}{'balance':>12}{'lift':>7}  first failure"]
+             f"varying {name}" + (f" (planned: {display(name, planned, system)})" if planned is not None else "")]
+    names = summary.get("performers")
+    if names:
+        lines.append(f"two performers: every verdict and margin is the {summary['margins_are']}; each one's own "
+                     "verdict in the last columns")
+    lines += ["", f"{'value':>14}  {'verdict':<9}{'grip':>7}{'balance':>12}{'lift':>7}  "
+              + ("".join(f"{n[:11]:<12}" for n in names or []) + "first failure")]
     for row in summary["rows"]:
         bal = row["balance_margin_min_m"]
         bal_text = "n/a" if bal is None else "{:.2f} {}".format(*to_display(bal, "length", system))
+        each = "".join(f"{row['performers'][n]:<12}" for n in names or [])
         lines.append(f"{display(name, row['value'], system):>14}  {row['verdict']:<9}"
                      f"{_fmt(row['grip_ratio_min'], '.2f'):>7}{bal_text:>12}{_fmt(row['lift_ratio_min'], '.2f'):>7}  "
-                     f"{row['first_failure'] or ''}")
+                     f"{each}{row['first_failure'] or ''}")
+        if names:
+            lines[-1] = lines[-1].rstrip()
     lines.append("")
     for t in summary["thresholds"]:
         tol = display(name, t["tolerance"], system)
@@ -161,9 +176,8 @@ def cmd_envelope(args) -> int:
     summary = envelope_summary(scene, sweep)
     if scene.air.roof_flow is not None:
         # The air over the roof's coefficients are soft: the limit with the free stream at every height beside it.
-        from physics.roof_air import without_roof_air
-        from physics.sweep import limits
-        bound = limits(sweep_1d(without_roof_air(scene), *varies[0], points=args.points))[0]
+        from physics.sweep import free_stream, limits
+        bound = limits(sweep_1d(free_stream(scene), *varies[0], points=args.points))[0]
         summary["uniform_air"] = {summary["parameter"]: bound.value}
     print(json.dumps(summary, indent=2) if args.json else envelope_text(scene, summary))
     if args.plot:
@@ -176,15 +190,24 @@ def cmd_envelope(args) -> int:
 def _map(scene, varies, args) -> int:
     from physics.sweep import sweep_2d
     from physics.verdict import NAMES
-    v1, v2, codes, result = sweep_2d(scene, varies[0], varies[1], points=min(args.points, 41))
+    from physics.sweep import SweepError
+    from preview.session import UsageError
+    try:
+        v1, v2, codes, result = sweep_2d(scene, varies[0], varies[1], points=min(args.points, 41))
+    except SweepError as exc:
+        raise UsageError(f"--vary {exc}") from None
     summary = {"scene": scene.title, "parameters": [varies[0][0], varies[1][0]], "units": "SI",
                "values_1": v1.tolist(), "values_2": v2.tolist(),
                "verdicts": [[NAMES[c] for c in row] for row in codes], "caution": CAUTION}
+    if scene.pair:
+        from physics.sweep import pair_words
+        summary["margins_are"] = pair_words(scene)
     if args.json:
         print(json.dumps(summary, indent=2))
     else:
         name1, name2 = summary["parameters"]
-        print(f"roofbeat envelope map: {scene.title}\nrows: {name2}; columns: {name1}; H holds, m marginal, X fails")
+        print(f"roofbeat envelope map: {scene.title}\nrows: {name2}; columns: {name1}; H holds, m marginal, X fails"
+              + (f"\ntwo performers: each verdict is the {summary['margins_are']}" if scene.pair else ""))
         for j in range(len(v2) - 1, -1, -1):
             print(f"{display(name2, v2[j], scene.units):>14} " + "".join("Hm X"[c if c < 2 else 3] for c in codes[j]))
         print(f"{'':>14} {display(name1, v1[0], scene.units)} .. {display(name1, v1[-1], scene.units)}")
@@ -229,11 +252,18 @@ def risk_text(scene, summary: dict) -> str:
     lines += ["", f"  {'verdict':<12}{'samples':>9}   share"]
     for name, count in summary["verdicts"].items():
         lines.append(f"  {name:<12}{count:>9,}   {100 * count / summary['samples']:5.1f} %")
-    lines += ["", f"the beat fails in {_share(summary['failure_probability'])}"]
+    lines += ["", f"the beat fails in {_share(summary['failure_probability'])}"
+              + (" (a run fails when either performer fails)" if summary.get("by_performer") else "")]
     for kind, q in summary["by_kind"].items():
         lines.append(f"  with a {kind}: {_share(q)}")
+    for who, row in summary.get("by_performer", {}).items():
+        lines.append(f"  {who} fails in {_share(row['failure_probability'])}; {who}'s failure comes first in "
+                     f"{_share(row['fails_first'])}")
+        for kind, q in row["by_kind"].items():
+            lines.append(f"    {who}, with a {kind}: {_share(q)}")
     if summary["margins"]:
-        lines += ["", f"  {'margin over the samples':<30}{'5 %':>12}{'median':>12}{'95 %':>12}"]
+        lines += [""] + ([f"  margins: the {summary['margins_are']} in each sample"] if summary.get("margins_are")
+                         else []) + [f"  {'margin over the samples':<30}{'5 %':>12}{'median':>12}{'95 %':>12}"]
         for key, m in summary["margins"].items():
             words, dimension = MARGIN_WORDS[key]
             lines.append(f"  {words:<30}" + "".join(f"{_value(m[p], dimension, system):>12}"
@@ -258,8 +288,12 @@ def cmd_risk(args) -> int:
     except ValueError as exc:
         raise UsageError(f"--samples {args.samples}: {exc}") from None
     bar = Progress(args.samples, "sampling")
-    result = run_risk(scene, args.samples, args.seed, progress=lambda done, total: bar.update(done))
-    bar.close()
+    try:
+        result = run_risk(scene, args.samples, args.seed, progress=lambda done, total: bar.update(done))
+    except ValueError as exc:
+        raise UsageError(f"risk: {exc}") from None
+    finally:
+        bar.close()
     summary = summarise_risk(scene, result)
     summary["scene"] = scene.title
     summary["caution"] = CAUTION
@@ -273,9 +307,12 @@ def ladder_text(scene, ladder: dict) -> str:
     from preview.report import factor_value
     system = scene.units
     words = [w for _, _, w, _ in FACTORS_WORDS]
+    names = ladder.get("performers") or []
     lines = [f"roofbeat ladder: {scene.title}", "rehearsal rungs from walking pace to the planned top speed "
-             "(the whole speed profile scaled); margins are the worst over the beat", "",
-             f"{'rung':<5}{'speed':>12}  {'verdict':<9}" + "".join(f"{w[:14]:>16}" for w in words)]
+             "(the whole speed profile scaled); margins are the worst over the beat"
+             + (f", the {ladder['margins_are']}; each one's own verdict after the margins" if names else ""), "",
+             f"{'rung':<5}{'speed':>12}  {'verdict':<9}" + "".join(f"{w[:14]:>16}" for w in words)
+             + "".join(f"  {n[:11]:<11}" for n in names).rstrip()]
     for row in ladder["rungs"]:
         cells = []
         for w, unit in zip(words, (u for _, _, _, u in FACTORS_WORDS)):
@@ -284,8 +321,9 @@ def ladder_text(scene, ladder: dict) -> str:
         bound = row.get("uniform_air_verdict")
         lines.append(f"{row['rung']:<5}{show(row['speed_ms'], 'speed', system, '.1f'):>12}  {row['verdict']:<9}"
                      + "".join(f"{c:>16}" for c in cells)
+                     + "".join(f"  {row['performers'][n]:<11}" for n in names)
                      + (f"  {row['first_failure']}" if row["first_failure"] else "")
-                     + (f"  free stream: {bound}" if bound else ""))
+                     + (f"  free stream: {bound}" if bound else "")).rstrip()
     lines.append("required: " + ", ".join(f"{w} {factor_value(getattr(scene.safety, f), u, system, False)}"
                                           for _, f, w, u in FACTORS_WORDS))
     short = ladder["first_rung_short"]
@@ -297,7 +335,8 @@ def ladder_text(scene, ladder: dict) -> str:
             f"{s['margin']} {factor_value(s['value'], s['unit'], system)}" for s in row["below_required"])
         lines.append(f"first rung short of the factors: rung {short} at "
                      f"{show(row['speed_ms'], 'speed', system, '.1f')} ({row['verdict']}: {why})")
-    lines += ["", "ABORT LIMITS (watch on set; found by the envelope's sweeps over the ranges given)"]
+    lines += ["", "ABORT LIMITS (watch on set; found by the envelope's sweeps over the ranges given)"
+              + (f": the {ladder['margins_are']}" if names else "")]
     for name, head in (("speed", "top speed"), ("wind_speed", "ambient wind at the scene's direction "
                                                               f"({ladder['abort_limits']['wind_from_deg']:.0f}°)")):
         lim = ladder["abort_limits"][name]

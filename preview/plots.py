@@ -123,7 +123,8 @@ def draw_envelope(ax, scene, sweep, summary) -> None:
     ax.scatter(x, np.full(len(x), -0.19), c=[VERDICT_COLORS[c] for c in codes], s=12, marker="s",
                transform=ax.get_xaxis_transform(), clip_on=False)
     ax.set_xlabel(label + "   (squares: the verdict at each swept value)", labelpad=24)
-    ax.set_ylabel(f"margin ÷ required (drawn up to {CLIP:g})")
+    worse = summary.get("margins_are")
+    ax.set_ylabel(f"margin ÷ required (drawn up to {CLIP:g})" + (f"\n{worse}" if worse else ""))
     ax.set_ylim(min(0.0, lowest - 0.05), CLIP + 0.1)
     ax.legend(handles=handles, loc="upper left", bbox_to_anchor=(1.02, 1.0), fontsize=6.5)
 
@@ -164,7 +165,8 @@ def envelope_plot(scene, sweep, summary, path: Path) -> None:
     plt = _mpl()
     fig, ax = plt.subplots(figsize=(10, 4.8))
     draw_envelope(ax, scene, sweep, summary)
-    ax.set_title(f"{scene.title}: margins against {sweep.name.replace('_', ' ')}", fontsize=10, loc="left")
+    worse = f" ({summary['margins_are']})" if summary.get("margins_are") else ""
+    ax.set_title(f"{scene.title}: margins against {sweep.name.replace('_', ' ')}{worse}", fontsize=10, loc="left")
     _caution(fig)
     fig.tight_layout(rect=(0, 0.05, 1, 1))
     _save(fig, path)
@@ -185,7 +187,8 @@ def map_plot(scene, summary, codes, path: Path) -> None:
     ax.grid(False)
     ax.set_xlabel(xl)
     ax.set_ylabel(yl)
-    ax.set_title(f"{scene.title}: verdict over {name1.replace('_', ' ')} and {name2.replace('_', ' ')}",
+    worse = f" ({summary['margins_are']})" if summary.get("margins_are") else ""
+    ax.set_title(f"{scene.title}: verdict over {name1.replace('_', ' ')} and {name2.replace('_', ' ')}{worse}",
                  fontsize=10, loc="left")
     ax.legend(handles=[Patch(color=VERDICT_COLORS[c], label=VERDICT_WORDS[c]) for c in (0, 1, 2)],
               loc="upper left", bbox_to_anchor=(1.01, 1.0))

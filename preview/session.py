@@ -116,12 +116,12 @@ def pair_aftermath(trajectory, summary: dict) -> None:
 def uniform_air_verdict(scene, variant=None) -> dict | None:
     """With the air over the roof on: the same beat with the free stream at every height, the bound the
     profile's coefficients (from memory, or fitted to one published band) relax; None when it is off."""
-    from physics.roof_air import without_roof_air
     from physics.simulation import simulate
+    from physics.sweep import free_stream
     from physics.verdict import beat_summary
     if scene.air.roof_flow is None:
         return None
-    uniform = without_roof_air(scene)
+    uniform = free_stream(scene)
     s = beat_summary(simulate(uniform, variant))
     first = s["first_failure"]
     return {"verdict": s["verdict"], "first_failure": first["kind"] if first else None,
