@@ -39,11 +39,12 @@ from physics.units import display
 from preview import air_layer, curves
 from preview.layout import Box, fit
 from preview.report import floor_to
-from preview.palette import (AERO, CAR_BODY, CAR_EDGE, CURVE, FAILURE, FAINT, FAR_LIMB, GROUND_TONE, HOLDS, INK,
-                             LINE_ZONE, PANEL, PSEUDO, REACTION, ROOF_AIR, ROOF_AIR_ZONE, SKY, SOFT_INK, STRUCTURE,
-                             TRAIL, WEIGHT, WIND)
+from preview.palette import (AERO, CAR_BODY, CAR_EDGE, CURVE, FAILURE, FAINT, FIGURE_TONES, GROUND_TONE, HOLDS,
+                             INK, LINE_ZONE, PANEL, PSEUDO, REACTION, ROOF_AIR, ROOF_AIR_ZONE, SKY, SOFT_INK,
+                             STRUCTURE, TOUCH, TRAIL, WEIGHT, WIND)
 from preview.world import (FORCE_PER_METRE, REACTION_OFFSET, WIND_ABOVE, WIND_PER_METRE, _label_size, canvas_measure,
-                           draw_failure_callout, draw_free_label, force_arrow, label_size)
+                           cast_of, draw_failure_callout, draw_free_label, draw_touch, followed, force_arrow,
+                           label_size, name_label, touch_at)
 
 DEFAULT_ZOOM = 1.5     # ViewSettings' default zoom: the fitted picture
 GAUGE = 1.435          # m between the rails (standard gauge), drawing value
@@ -83,17 +84,19 @@ class EndCamera:
         return replace(self, tilt=tilt)
 
 
-def camera(tr, t: float, size, region: Box, zoom: float = DEFAULT_ZOOM) -> EndCamera:
+def camera(tr, t: float, size, region: Box, zoom: float = DEFAULT_ZOOM, follow=None) -> EndCamera:
     """The end view's camera: one scale for the whole beat, fitted to the region so the widest roof,
-    the farthest the body goes across and the head above the highest roof all fit; zoom keeps the
-    highest roof's centre where it is."""
+    the farthest any performer's body goes across and the tallest one's head above the highest roof
+    all fit; zoom keeps the highest roof's centre where it is. (`follow`: the performer followed; the
+    framing is the whole beat's, the same for each.)"""
     scene = tr.scene
+    runs = (tr,) + tuple(tr.partners)
     half = max(c.width for c in scene.cars) / 2
-    across = np.abs(tr.com_path3[:, 1])
+    across = np.abs(np.concatenate([one.com_path3[:, 1] for one in runs]))
     reach = float(np.nanmax(across)) if np.isfinite(across).any() else 0.0
     y_half = max(half + 2.2, reach + 1.0)
     roof = max(c.roof_height for c in scene.cars)
-    z_head = roof + 1.2 * scene.performer.stature + 0.3
+    z_head = roof + 1.2 * max(one.scene.performer.stature for one in runs) + 0.3
     overhead = [s.soffit + DECK + 0.3 for s in scene.structures] + [w.wire_height + w.exclusion + 0.3
                                                                      for w in scene.lines]
     z_hi = max([z_head] + [min(z, z_head + 5.0) for z in overhead])
@@ -105,11 +108,11 @@ def camera(tr, t: float, size, region: Box, zoom: float = DEFAULT_ZOOM) -> EndCa
 
 
 def draw(canvas, playback, t: float, view, cam: EndCamera, layout, area: Box) -> None:
-    """The end view at time t."""
-    tr, scene = playback.trajectory, playback.scene
+    """The end view at time t: the section at the performer followed (with two, the other one drawn
+    where it is across the track, named with how far ahead or behind the section it stands)."""
+    cast = cast_of(playback)
+    tr, scene = cast[followed(playback, view)].trajectory, playback.scene
     i = tr.index_at(t)
-    failure = playback.summary.get("first_failure")
-    failed = failure is not None and t >= failure["time_s"] - 1e-9
     x = section_x(tr, i)
     near = nearby_overhead(scene, x + float(tr.field("distance")[i]))
     car, ahead = section_car(scene, x)
@@ -124,14 +127,34 @@ def draw(canvas, playback, t: float, view, cam: EndCamera, layout, area: Box) ->
         draw_track(canvas, cam.turned(cant))
     draw_zone_edges(canvas, cam, near)
     keep_clear(layout, tr, i, view, cam, car if ahead == 0 else None)
+    for other in cast:
+        pts = other.trajectory.ends3(i).reshape(-1, 3)
+        if other.trajectory is not tr and np.isfinite(pts).all():
+            pose = pose_camera(other.trajectory, i, cam)
+            _reserve_around(layout, [pose.to_screen(y, z) for _, y, z in pts], 0.2 * cam.scale)
     draw_roof_air(canvas, tr, i, view, cam, car if ahead == 0 else None, layout, area)
-    draw_trail(canvas, tr, i, view, cam)
-    if failed:
-        draw_failure(canvas, playback, failure, cam, layout, area)
+    for one in cast:
+        draw_trail(canvas, one.trajectory, i, view, cam)
+    for one in cast:
+        if one.failure is not None and t >= one.failure["time_s"] - 1e-9:
+            draw_failure(canvas, playback, one.failure, cam, layout, area, one.trajectory)
     if scene.rigging and ahead == 0:
         draw_tethers(canvas, playback, i, cam.turned(cant + roll), pose_camera(tr, i, cam), car, layout, area)
-    draw_figure(canvas, tr, i, cam)
+    # Looking forward: the performer farther ahead first, the one nearer the camera over it.
+    for one in sorted(cast, key=lambda c: -_along(c.trajectory, i)):
+        draw_figure(canvas, one.trajectory, i, cam, tone=one.tone)
     draw_vectors(canvas, tr, i, view, cam)
+    if len(cast) > 1:
+        for one in cast:
+            draw_touch_across(canvas, one.trajectory, i, pose_camera(one.trajectory, i, cam))
+        for one in cast:
+            head = head_point(one.trajectory, i, cam)
+            if head is not None:
+                d = _along(one.trajectory, i) - x
+                units = scene.units
+                words = ("" if one.trajectory is tr or abs(d) < 0.05 else
+                         f", {display(abs(d), 'length', units, '.1f')} {'ahead' if d > 0 else 'behind'}")
+                name_label(canvas, layout, area, one._replace(name=one.name + words), head)
     draw_side_words(canvas, cam, car, layout, area)
     draw_car_name(canvas, cam.turned(cant + roll), car, ahead, scene.units, layout, area)
     draw_track_words(canvas, tr, i, cam, car, layout, area)
@@ -397,10 +420,12 @@ def draw_tethers(canvas, playback, i: int, car_cam: EndCamera, pose: EndCamera, 
             tension_label(canvas, layout, area, anchor, end, display(force, "force", scene.units, ".0f"), colour, ts)
 
 
-def draw_figure(canvas, tr, i: int, cam: EndCamera, ghost: bool = False) -> None:
+def draw_figure(canvas, tr, i: int, cam: EndCamera, ghost: bool = False, tone: int = 0) -> None:
     """The stick figure seen from behind (or the front), limbs of the left side lighter as in the side
-    view; shoulders and hips joined across. A body struck out of the run is shown by its ghost only."""
-    canvas.tag = "ghost" if ghost else "figure"
+    view; shoulders and hips joined across; `tone`: the performer's (palette.FIGURE_TONES, the second
+    tagged "partner"). A body struck out of the run is shown by its ghost only."""
+    canvas.tag = "ghost" if ghost else ("partner" if tone else "figure")
+    near_ink, far_ink = FIGURE_TONES[tone]
     if not np.isfinite(tr.ends3(i)).all():
         return
     if not ghost and struck_out(tr, i):
@@ -408,9 +433,9 @@ def draw_figure(canvas, tr, i: int, cam: EndCamera, ghost: bool = False) -> None
     pts = screen_ends(tr, i, cam)
     stature_px = tr.scene.performer.stature * cam.scale
     thin, thick = max(2, int(stature_px * 0.02)), max(2, int(stature_px * 0.035))
-    ink = FAINT if ghost else INK
+    ink = FAINT if ghost else near_ink
     for s in list(FAR) + [s for s in range(body.N_SEGMENTS) if s not in FAR and s != body.HEAD]:
-        colour = FAINT if ghost else (FAR_LIMB if s in FAR else INK)
+        colour = FAINT if ghost else (far_ink if s in FAR else near_ink)
         canvas.line(pts[s, 0], pts[s, 1], colour, thick if s == body.TRUNK else thin)
     canvas.line(pts[body.UARM_N, 0], pts[body.UARM_F, 0], ink, thin)     # shoulders
     canvas.line(pts[body.THIGH_N, 0], pts[body.THIGH_F, 0], ink, thin)   # hips
@@ -422,7 +447,41 @@ def draw_figure(canvas, tr, i: int, cam: EndCamera, ghost: bool = False) -> None
     if not ghost and tr.field("mode")[i] == Mode.GONE:   # lying along the track it is small end-on: ringed
         com = tr.com_path3[i]
         canvas.circle(pose_camera(tr, i, cam).to_screen(float(com[1]), float(com[2])), max(12.0, 0.5 * cam.scale),
-                      INK, 1)
+                      near_ink, 1)
+
+
+def draw_touch_across(canvas, tr, i: int, cam: EndCamera) -> None:
+    """The push or pull between the performers on this body at its touch point, seen along the track: its
+    part across and up as an arrow (the side views' scale), and its part along the track, when that is
+    most of it, as a ring with a cross (into the picture, toward the front) or a dot (out of it)."""
+    found = touch_at(tr, i)
+    if found is None:
+        return
+    (fx, fy, fz), (x, y, z) = found
+    draw_touch(canvas, tr, i, cam, lambda a, b, c: (b, c))
+    if abs(fx) >= 0.5 * math.hypot(fx, fy, fz):
+        canvas.tag = "touch"
+        px, py = cam.to_screen(y, z)
+        canvas.circle((px, py), 7, TOUCH, 2)
+        if fx > 0:
+            canvas.line((px - 4, py - 4), (px + 4, py + 4), TOUCH, 2)
+            canvas.line((px - 4, py + 4), (px + 4, py - 4), TOUCH, 2)
+        else:
+            canvas.circle((px, py), 2, TOUCH)
+
+
+def _along(tr, i: int) -> float:
+    """Car-frame x of the body at step i (its last known place if it has none now), m."""
+    return section_x(tr, i)
+
+
+def head_point(tr, i: int, cam: EndCamera) -> tuple[float, float] | None:
+    """The top of the figure's head in pixels, or None with no body in the picture."""
+    if not np.isfinite(tr.ends3(i)).all() or struck_out(tr, i):
+        return None
+    pts = screen_ends(tr, i, cam)
+    n = int(np.argmin(pts[..., 1].ravel()))
+    return float(pts.reshape(-1, 2)[n, 0]), float(pts[..., 1].min())
 
 
 def draw_trail(canvas, tr, i: int, view, cam: EndCamera) -> None:
@@ -520,10 +579,11 @@ def draw_balance(canvas, r, com, cam: EndCamera) -> None:
         canvas.polygon([(px, py - 2), (px - 6, py + 10), (px + 6, py + 10)], colour)
 
 
-def draw_failure(canvas, playback, failure, cam: EndCamera, layout, area: Box) -> None:
+def draw_failure(canvas, playback, failure, cam: EndCamera, layout, area: Box, tr=None) -> None:
     """The figure's ghost at the first failure and the side view's marker and callout, placed across
-    at the contact (or, in the air, the centre of mass) and up at the centre of mass."""
-    tr = playback.trajectory
+    at the contact (or, in the air, the centre of mass) and up at the centre of mass (`tr`: the
+    performer who failed, the first by default)."""
+    tr = playback.trajectory if tr is None else tr
     k = tr.index_at(failure["time_s"])
     draw_figure(canvas, tr, k, cam, ghost=True)
     com = tr.com_path3[k]
@@ -716,9 +776,11 @@ def draw_facts(canvas, tr, i: int, cam: EndCamera, car, layout, area: Box) -> No
 
 def legend_rows(view, units: str, px_per_m: float | None, scene=None) -> list[tuple]:
     """The end view's legend: the vector keys it draws, its paths and zones, the scale bars, the timeline."""
-    from preview.panels import VECTOR_LEGEND, bar_row, rigging_legend_rows, timeline_legend_rows
+    from preview.panels import VECTOR_LEGEND, bar_row, pair_legend_rows, rigging_legend_rows, timeline_legend_rows
     rows = [("vector", (key, colour if name in view.vectors else FAINT, words))
             for key, name, colour, words in VECTOR_LEGEND if name != "segments"]
+    if pair_legend_rows(scene):
+        rows.append(("force", (TOUCH, "push or pull between performers; along the track: ⊗ to the front, ⊙ to the rear")))
     rows.append(("trail", (TRAIL, f"centre of mass, last {view.trail_seconds:g} s")))
     rows.append(bar_row(FORCE_PER_METRE, "force", INK, "(every force)", units, px_per_m))
     rows.append(bar_row(WIND_PER_METRE, "wind", WIND, "(apparent wind)", units, px_per_m))

@@ -38,6 +38,7 @@ class ViewSettings:
     message: str = ""                # e.g. a scene error while the last good run keeps playing
     what_if: str = ""                # e.g. "speed +10 km/h"
     text_boost: int = 0              # px added to every text size (the brief's key frames, for print)
+    follow: int = 0                  # two performers: which one (cast order) the readout and the cameras follow
 
     def toggled(self, key: str) -> "ViewSettings":
         return replace(self, vectors=self.vectors ^ {key})
@@ -60,10 +61,11 @@ def drawing_region(size, view: ViewSettings, units: str, scene=None) -> Box:
 def cameras(playback: Playback, t: float, view: ViewSettings, size) -> list:
     """One camera per view: the side views' (two for split), or the end or plan view's."""
     width, height = main_area(size, view, playback.scene.units, playback.scene)
-    tr = playback.trajectory
+    tr = world.cast_of(playback)[world.followed(playback, view)].trajectory
     if view.frame in ACROSS:
+        # Framed for the whole beat over every performer (the first's run holds the other's in `partners`).
         region = drawing_region(size, view, playback.scene.units, playback.scene)
-        return [ACROSS[view.frame].camera(tr, t, (width, height), region, view.zoom)]
+        return [ACROSS[view.frame].camera(playback.trajectory, t, (width, height), region, view.zoom, follow=tr)]
     if view.frame == "split":
         half = height // 2
         return [camera_for(tr, t, GROUND, (width, half), view.zoom, 0, view.trackside),

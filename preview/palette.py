@@ -33,3 +33,9 @@ FACT = (110, 118, 126)
 CURVE = (52, 96, 150)
 ROOF_AIR = (128, 170, 204)       # the air over the roof by height: a softer WIND, drawn behind the figure
 ROOF_AIR_ZONE = (203, 215, 226)  # a low-speed zone of that air, a faint band
+# Two performers: the second one's figure in a calm umber beside the first one's ink (same style, far limbs
+# lighter), and the push or pull between them, on each body at its touch point.
+PARTNER = (122, 82, 56)
+PARTNER_FAR = (184, 158, 140)
+TOUCH = (176, 62, 138)
+FIGURE_TONES = ((INK, FAR_LIMB), (PARTNER, PARTNER_FAR))   # (near limbs, far limbs) by performer, in cast order

@@ -32,9 +32,10 @@ from preview import curves
 from preview.end_view import FAR, struck_out
 from preview.layout import Box, Layout, fit, wrap
 from preview.road import way
-from preview.palette import (CAR_BODY, CAR_EDGE, CURVE, FAILURE, FAINT, FAR_LIMB, GROUND_TONE, HOLDS, INK, LANDING_ZONE,
-                             LINE_ZONE, PANEL, SOFT_INK, STRUCTURE, TRAIL)
-from preview.world import (canvas_measure, draw_failure_callout, draw_landing_mark, draw_takeoff_mark, label_size)
+from preview.palette import (CAR_BODY, CAR_EDGE, CURVE, FAILURE, FAINT, FIGURE_TONES, GROUND_TONE, HOLDS, INK,
+                             LANDING_ZONE, LINE_ZONE, PANEL, SOFT_INK, STRUCTURE, TRAIL)
+from preview.world import (canvas_measure, cast_of, draw_failure_callout, draw_landing_mark, draw_takeoff_mark,
+                           draw_touch, followed, label_size, name_label)
 
 DEFAULT_ZOOM = 1.5     # ViewSettings' default zoom: the fitted picture
 GAUGE = 1.435          # m between the rails, drawing value
@@ -101,16 +102,18 @@ def ground_index(tr) -> int | None:
 
 # ---------------------------------------------------------------- camera
 
-def camera(tr, t: float, size, region: Box, zoom: float = DEFAULT_ZOOM) -> PlanCamera:
-    """The plan's camera: the whole path (and where the body came down) with a margin, at least
-    MIN_SPAN of track, and room across for the widest roof and the farthest the body goes; zoomed
-    in, it keeps the body in the picture."""
+def camera(tr, t: float, size, region: Box, zoom: float = DEFAULT_ZOOM, follow=None) -> PlanCamera:
+    """The plan's camera: the whole path (and where the body came down) of every performer with a
+    margin, at least MIN_SPAN of track, and room across for the widest roof and the farthest a body
+    goes; zoomed in, it keeps the body followed (`follow`, the first by default) in the picture."""
     scene = tr.scene
-    pts = path_points(tr)
+    runs = (tr,) + tuple(tr.partners)
+    pts = np.vstack([path_points(one) for one in runs])
     pts = pts[np.isfinite(pts).all(axis=-1)]
-    g = ground_index(tr)
-    if g is not None:
-        pts = np.vstack([pts, tr.com_path3[g, :2]])
+    for one in runs:
+        g = ground_index(one)
+        if g is not None:
+            pts = np.vstack([pts, one.com_path3[g, :2]])
     if not pts.size:
         pts = np.array([[scene.start_x, scene.start_y]])
     x_lo, x_hi = float(pts[:, 0].min()) - 3.0, float(pts[:, 0].max()) + 3.0
@@ -120,7 +123,8 @@ def camera(tr, t: float, size, region: Box, zoom: float = DEFAULT_ZOOM) -> PlanC
     s0 = min(region.w / span, region.h / (2 * y_half))
     scale = s0 * zoom / DEFAULT_ZOOM
     room = max(0.0, region.w / 2 / scale - 2.0)
-    now = _current_point(tr, tr.index_at(t), pts)
+    follow = tr if follow is None else follow
+    now = _current_point(follow, follow.index_at(t), pts)
     centre = min(max(mid, now[0] - room), now[0] + room) if scale > s0 else mid
     return PlanCamera("plan", scale, size[0], size[1], 0, centre, region.x + region.w / 2,
                       region.y + region.h / 2, region.x)
@@ -139,11 +143,10 @@ def _current_point(tr, i: int, fallback: np.ndarray) -> tuple[float, float]:
 # ------------------------------------------------------------------ draw
 
 def draw(canvas, playback, t: float, view, cam: PlanCamera, layout, area: Box) -> None:
-    """The plan view at time t."""
-    tr, scene = playback.trajectory, playback.scene
+    """The plan view at time t (with two performers, each one's path, marks and figure, named)."""
+    cast = cast_of(playback)
+    tr, scene = cast[followed(playback, view)].trajectory, playback.scene
     i = tr.index_at(t)
-    failure = playback.summary.get("first_failure")
-    failed = failure is not None and t >= failure["time_s"] - 1e-9
     if scene.road:
         from preview.road import draw_road_plan
         draw_road_plan(canvas, cam, float(tr.field("distance")[i]))
@@ -151,15 +154,35 @@ def draw(canvas, playback, t: float, view, cam: PlanCamera, layout, area: Box) -
         draw_bed(canvas, cam)
     draw_cars(canvas, scene, cam)
     draw_overhead(canvas, scene, cam, float(tr.field("distance")[i]))   # over the roofs, see-through
-    keep_clear(layout, tr, i, scene, cam, area)
-    draw_landing_zones(canvas, scene, t, cam)
-    draw_path(canvas, tr, i, cam)
-    draw_jumps(canvas, playback, t, cam, layout, area)
-    draw_off_side(canvas, tr, t, failure, cam, layout, area)
-    draw_ground(canvas, tr, i, cam, layout, area)
-    if failed:
-        draw_failure(canvas, tr, failure, cam, layout, area)
-    draw_figure(canvas, tr, i, cam)
+    for one in cast:
+        keep_clear(layout, one.trajectory, i, scene, cam, area)
+        draw_landing_zones(canvas, one.trajectory.scene, t, cam)
+    for one in cast:
+        draw_path(canvas, one.trajectory, i, cam, one.tone)
+    for one in cast:
+        draw_jumps(canvas, playback, t, cam, layout, area, one.trajectory)
+        draw_off_side(canvas, one.trajectory, t, one.failure, cam, layout, area)
+        draw_ground(canvas, one.trajectory, i, cam, layout, area)
+        if one.failure is not None and t >= one.failure["time_s"] - 1e-9:
+            draw_failure(canvas, one.trajectory, one.failure, cam, layout, area)
+    for one in sorted(cast, key=lambda c: c.trajectory is tr):   # the followed one on top
+        draw_figure(canvas, one.trajectory, i, cam, one.tone)
+    if len(cast) > 1:
+        for one in cast:
+            draw_touch(canvas, one.trajectory, i, cam, lambda x, y, z: (x, y))
+        for one in cast:
+            pts = one.trajectory.ends3(i)
+            if np.isfinite(pts).all() and not struck_out(one.trajectory, i):
+                # Off the roof (kept clear of labels), above or below it, with a leader to the ring.
+                x, y = _current_point(one.trajectory, i, pts[:, 0, :2])
+                here = cam.to_screen(x, y)
+                k = scene.car_at(x)
+                roof = roof_box(scene.cars[k], cam) if k is not None else Box(here[0], here[1], 0, 0)
+                h = canvas_measure(one.name, label_size(canvas), True)[1] + 4
+                r = max(10.0, 0.6 * cam.scale)
+                above, below = (roof.y - h - 6, roof.bottom + 6) if y >= 0 else (roof.bottom + 6, roof.y - h - 6)
+                spots = [(here[0] + dx, yy) for yy in (above, below) for dx in (0.0, 40.0, -40.0)]
+                name_label(canvas, layout, area, one, here, spots, leader=(here[0], here[1], r))
     draw_car_words(canvas, scene, cam, layout, area)
     draw_overhead_labels(canvas, scene, cam, float(tr.field("distance")[i]), layout, area)
     draw_track_inset(canvas, tr, i, cam, layout, area)      # last: it goes where nothing else is
@@ -246,12 +269,14 @@ def draw_landing_zones(canvas, scene, t: float, cam: PlanCamera) -> None:
             canvas.line((x, b.y - 6), (x, b.bottom + 6), HOLDS, 2)
 
 
-def draw_path(canvas, tr, i: int, cam: PlanCamera) -> None:
-    """The path still to come faint, then the path so far over it: a line on the roof, dots in the air."""
+def draw_path(canvas, tr, i: int, cam: PlanCamera, tone: int = 0) -> None:
+    """The path still to come faint, then the path so far over it: a line on the roof, dots in the air
+    (`tone` 1: the second of two performers, its path so far in its own lighter tone)."""
     canvas.tag = "path"
     pts, kinds = path_points(tr), path_kinds(tr)
     dot_every = max(1, int(0.05 / tr.scene.step))
-    for lo, hi, colour, width in ((i, kinds.size, SOFT_INK, 1), (0, i + 1, TRAIL, 3)):
+    done = FIGURE_TONES[tone][1] if tone else TRAIL
+    for lo, hi, colour, width in ((i, kinds.size, SOFT_INK, 1), (0, i + 1, done, 3)):
         for kind, a, b in runs(kinds, lo, hi):
             seg = pts[a:b]
             if kind == ROOF:
@@ -274,9 +299,11 @@ def _y_near(tr, time: float, forward: bool) -> float:
     return 0.0
 
 
-def draw_jumps(canvas, playback, t: float, cam: PlanCamera, layout, area: Box) -> None:
-    """Each jump under way or done: the side view's take-off mark and where it came down."""
-    scene, tr = playback.scene, playback.trajectory
+def draw_jumps(canvas, playback, t: float, cam: PlanCamera, layout, area: Box, tr=None) -> None:
+    """Each jump under way or done: the side view's take-off mark and where it came down (`tr`: the
+    performer whose jumps, the first by default)."""
+    tr = playback.trajectory if tr is None else tr
+    scene = tr.scene
     canvas.tag = "jump"
     for a, action in enumerate(scene.actions):
         if action.kind != "jump" or action.takeoff_x is None or action.start > t:
@@ -352,23 +379,25 @@ def draw_failure(canvas, tr, failure, cam: PlanCamera, layout, area: Box) -> Non
     draw_failure_callout(canvas, failure, px, py, layout, area, beside=True)
 
 
-def draw_figure(canvas, tr, i: int, cam: PlanCamera) -> None:
+def draw_figure(canvas, tr, i: int, cam: PlanCamera, tone: int = 0) -> None:
     """The figure from above (limbs of the left side lighter, as in the side view), the head as a ring,
-    and a thin ring round where it is."""
-    canvas.tag = "figure"
+    and a thin ring round where it is; `tone`: the performer's (palette.FIGURE_TONES, the second
+    tagged "partner")."""
+    canvas.tag = "partner" if tone else "figure"
+    near_ink, far_ink = FIGURE_TONES[tone]
     ends = tr.ends3(i)
     if not np.isfinite(ends).all() or struck_out(tr, i):
         return
     pts = np.array([[cam.to_screen(p[0], p[1]) for p in seg] for seg in ends])
     width = max(2, int(0.03 * cam.scale))
     for s in list(FAR) + [s for s in range(body.N_SEGMENTS) if s not in FAR and s != body.HEAD]:
-        canvas.line(pts[s, 0], pts[s, 1], FAR_LIMB if s in FAR else INK, width)
-    canvas.line(pts[body.UARM_N, 0], pts[body.UARM_F, 0], INK, width)
-    canvas.line(pts[body.THIGH_N, 0], pts[body.THIGH_F, 0], INK, width)
+        canvas.line(pts[s, 0], pts[s, 1], far_ink if s in FAR else near_ink, width)
+    canvas.line(pts[body.UARM_N, 0], pts[body.UARM_F, 0], near_ink, width)
+    canvas.line(pts[body.THIGH_N, 0], pts[body.THIGH_F, 0], near_ink, width)
     head = pts[body.HEAD].mean(axis=0)
-    canvas.circle(head, max(3.0, 0.1 * cam.scale), INK, 2)
+    canvas.circle(head, max(3.0, 0.1 * cam.scale), near_ink, 2)
     here = _current_point(tr, i, ends[:, 0, :2])
-    canvas.circle(cam.to_screen(*here), max(10.0, 0.6 * cam.scale), INK, 1)
+    canvas.circle(cam.to_screen(*here), max(10.0, 0.6 * cam.scale), near_ink, 1)
 
 
 # ---------------------------------------------------------------- inset
@@ -555,7 +584,8 @@ def draw_overhead_labels(canvas, scene, cam: PlanCamera, distance: float, layout
 
 def legend_rows(view, units: str, px_per_m: float | None, scene=None) -> list[tuple]:
     """The plan's legend: its paths and marks, a length bar, and the timeline's marks."""
-    from preview.panels import bar_row, timeline_legend_rows
+    from preview.panels import bar_row, pair_legend_rows, timeline_legend_rows
+    from preview.world import FORCE_PER_METRE
     rows = [("trail", (TRAIL, "contact on the roof, up to now")),
             ("dots", (TRAIL, "centre of mass in the air")),
             ("trail", (SOFT_INK, "path still to come")),
@@ -564,4 +594,8 @@ def legend_rows(view, units: str, px_per_m: float | None, scene=None) -> list[tu
             bar_row(1.0, "length", SOFT_INK, "(lengths)", units, px_per_m),
             ("zone", (STRUCTURE, f"structure over the {way(scene)}")),
             ("zone", (LINE_ZONE, "overhead line exclusion zone"))]
+    if scene is not None and getattr(scene, "pair", False):   # two performers: the second's path, their force
+        rows[1:1] = [("trail", (FIGURE_TONES[1][1], f"{scene.cast[1].name}'s contact on the roof, up to now"))]
+        rows += pair_legend_rows(scene) + [bar_row(FORCE_PER_METRE, "force", INK, "(force between them)", units,
+                                                   px_per_m)]
     return rows + timeline_legend_rows(scene)

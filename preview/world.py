@@ -11,6 +11,7 @@ through the frame's Layout.
 from __future__ import annotations
 
 import math
+from typing import NamedTuple
 
 import numpy as np
 
@@ -21,9 +22,9 @@ from preview import air_layer
 from preview.camera import CAR, GROUND, Camera
 from preview.canvas import measure
 from preview.layout import Box, fit
-from preview.palette import (AERO, CAR_BODY, CAR_EDGE, FAILURE, FAINT, FAR_LIMB, GROUND_TONE, HOLDS, INK,
+from preview.palette import (AERO, CAR_BODY, CAR_EDGE, FAILURE, FAINT, FIGURE_TONES, GROUND_TONE, HOLDS, INK,
                              LANDING_ZONE, LINE_ZONE, MARGINAL, PANEL, PAPER, PSEUDO, REACTION, ROOF_AIR,
-                             ROOF_AIR_ZONE, SEGMENT_AERO, SKY, SOFT_INK, STRUCTURE, TRAIL, WEIGHT, WIND)
+                             ROOF_AIR_ZONE, SEGMENT_AERO, SKY, SOFT_INK, STRUCTURE, TOUCH, TRAIL, WEIGHT, WIND)
 
 FORCE_PER_METRE = 800.0         # N drawn as 1 m, every whole-body force: a standing body's weight reaches its roof
 SEGMENT_FORCE_PER_METRE = 80.0  # the per-segment air loads, drawn ten times larger, with a bar of their own
@@ -36,33 +37,148 @@ GROUND_FIXED = ("strike", "line")
 
 
 def draw_view(canvas, playback, t: float, view, cam: Camera, layout, area: Box) -> None:
-    tr = playback.trajectory
+    cast = cast_of(playback)
+    k = followed(playback, view)
+    tr = cast[k].trajectory   # the performer the readout follows: its vectors, drift and air over the roof
     scene = playback.scene
     i = tr.index_at(t)
-    failure = playback.summary.get("first_failure")
-    failed = failure is not None and t >= failure["time_s"] - 1e-9
     draw_backdrop(canvas, cam)
     draw_scenery(canvas, cam, scene.units, road=scene.road)
     keep_clear(layout, tr, i, cam, view)
+    for other in cast:
+        if other.trajectory is not tr:
+            keep_figure_clear(layout, other.trajectory, i, cam)
     draw_structures(canvas, scene, cam)
     draw_consist(canvas, scene, cam)
-    draw_jumps(canvas, playback, t, cam, layout, area)
+    for one in cast:
+        draw_jumps(canvas, playback, t, cam, layout, area, one.trajectory)
     draw_roof_air(canvas, tr, i, view, cam, layout, area)
-    draw_trail(canvas, tr, i, view, cam)
-    if failed:
-        # Under the figure: the body as it is now stays in sight over the marker of where it failed.
-        draw_failure_marker(canvas, playback, failure, cam, layout, area)
-        draw_figure(canvas, tr, tr.index_at(failure["time_s"]), cam, ghost=True,
-                    pinned=failure["kind"] in GROUND_FIXED)
+    for one in cast:
+        draw_trail(canvas, one.trajectory, i, view, cam)
+    for one in cast:
+        failure = one.failure
+        if failure is not None and t >= failure["time_s"] - 1e-9:
+            # Under the figure: the body as it is now stays in sight over the marker of where it failed.
+            draw_failure_marker(canvas, playback, failure, cam, layout, area, one.trajectory)
+            draw_figure(canvas, one.trajectory, one.trajectory.index_at(failure["time_s"]), cam, ghost=True,
+                        pinned=failure["kind"] in GROUND_FIXED)
     if scene.rigging:   # under the figure; their labels last, in the places the others leave free
         draw_rigging(canvas, playback, t, cam, layout, area, labels=False)
-    draw_figure(canvas, tr, i, cam)
+    for one in sorted(cast, key=lambda c: c.trajectory is tr):   # the followed one on top
+        draw_figure(canvas, one.trajectory, i, cam, tone=one.tone)
     draw_vectors(canvas, tr, i, view, cam)
+    if len(cast) > 1:
+        for one in cast:
+            draw_touch(canvas, one.trajectory, i, cam, lambda x, y, z: (x, z))
+        for one in cast:
+            head = head_point(one.trajectory, i, cam)
+            if head is not None:
+                name_label(canvas, layout, area, one, head)
     draw_structure_labels(canvas, scene, cam, layout, area)
     if cam.frame == GROUND:
         draw_drift(canvas, tr, i, cam, layout, area)
     if scene.rigging:
         draw_rigging(canvas, playback, t, cam, layout, area, labels=True)
+
+
+# ------------------------------------------------------------ two performers
+
+class Performer(NamedTuple):
+    """One performer in the picture: its recorded run, its name ("" for a one-performer scene), its own
+    first failure (or None) and its tone (palette.FIGURE_TONES, in cast order)."""
+
+    trajectory: object
+    name: str
+    failure: dict | None
+    tone: int
+
+
+def cast_of(playback) -> list[Performer]:
+    """The performers in the picture, in cast order: one for a one-performer scene (the beat's first
+    failure), two for a pair (each with its own first failure, labelled with its name)."""
+    tr = playback.trajectory
+    if not tr.partners:
+        return [Performer(tr, "", playback.summary.get("first_failure"), 0)]
+    per = playback.summary.get("performers") or []
+    tracks = (tr,) + tuple(tr.partners)
+    return [Performer(one, one.scene.name, per[k]["first_failure"] if k < len(per) else None, min(k, 1))
+            for k, one in enumerate(tracks)]
+
+
+def followed(playback, view) -> int:
+    """The index in the cast of the performer the readout follows (the view's `follow`, cycled by a key)."""
+    count = 1 + len(playback.trajectory.partners)
+    return int(getattr(view, "follow", 0)) % count
+
+
+def touch_at(tr, i: int):
+    """The other performer's force on this body at step i, (fx, fy, fz) N and where it acts (x, y, z),
+    car frame; None while no force acts."""
+    r = tr.record[i]
+    where = (float(r["touch_x"]), float(r["touch_y"]), float(r["touch_z"]))
+    force = (float(r["touch_fx"]), float(r["touch_fy"]), float(r["touch_fz"]))
+    if not all(map(math.isfinite, where + force)) or math.hypot(*force) < 0.5:
+        return None
+    return force, where
+
+
+def draw_touch(canvas, tr, i: int, cam, plane) -> None:
+    """The push or pull between the performers on this body at its touch point, on the side views' force
+    scale: a push (the force pointing away from the other body) drawn ending at the point it pushes on, a
+    pull starting from it. `plane(x, y, z)` picks the view's two axes of a car-frame point or force."""
+    found = touch_at(tr, i)
+    if found is None:
+        return
+    force, where = found
+    com = tr.com_path3[i]
+    toward_body = (force[0] * (com[0] - where[0]) + force[1] * (com[1] - where[1]) + force[2] * (com[2] - where[2]))
+    push = not (np.isfinite(com).all() and toward_body < 0.0)
+    force_arrow(canvas, cam, plane(*where), plane(*force), TOUCH, "touch", push=push)
+
+
+def head_point(tr, i: int, cam) -> tuple[float, float] | None:
+    """The top of the figure's head in pixels (side views), or None with no body in the picture."""
+    ends = tr.ends(i)
+    if not np.isfinite(ends).all() or (tr.field("mode")[i] == Mode.GONE and _struck_by(tr, i)):
+        return None
+    pts = _screen_ends(tr, i, cam).reshape(-1, 2)
+    n = int(np.argmin(pts[:, 1]))
+    return float(pts[n, 0]), float(pts[n, 1])
+
+
+NAME_REACH = 130.0   # px: a name label stands at most this far from its figure's head (else it is left out)
+
+
+def name_label(canvas, layout, area: Box, one: Performer, head, spots=None, leader=None) -> Box | None:
+    """The performer's name in its tone on a small panel just above its head (else beside it), or centred
+    on the first free one of `spots` (top-centre points), where it covers no other label; failing those,
+    the free place nearest above the head within NAME_REACH, with a thin leader in its tone to the head
+    (to the ring `leader` = (x, y, r) when given). Left out (None) when nothing near is free."""
+    canvas.tag = "names"
+    ts = label_size(canvas)
+    w, h = canvas_measure(one.name, ts, True)
+    w, h = w + 8, h + 4
+    x, y = head
+    if spots is None:
+        spots = [(x, y - h - 8), (x + 10 + w / 2, y - h - 4), (x - w / 2 - 10, y - h - 4)]
+    box = next((b for b in (Box(sx - w / 2, sy, w, h) for sx, sy in spots) if b.inside(area) and layout.free(b)),
+               None)
+    if box is None:
+        box = layout.nearest_free(w, h, area, x - w / 2, y - h - 8, step=6.0)
+        if box is None or math.hypot(box.x + w / 2 - x, box.bottom - y) > NAME_REACH:
+            return None
+        leader = leader or (x, y, 0.0)
+    layout.reserve(box)
+    tone = FIGURE_TONES[one.tone][0]
+    if leader is not None:   # to the edge of the ring of radius r round (x, y) that faces the box
+        lx, ly, r = leader
+        up = box.bottom <= ly
+        canvas.line((min(max(lx, box.x + 4), box.right - 4), box.bottom if up else box.y),
+                    (lx, ly - r if up else ly + r), tone, 1)
+    canvas.rect(box.x, box.y, box.w, box.h, PANEL)
+    canvas.rect(box.x, box.y, box.w, box.h, tone, width=1)
+    canvas.text((box.x + 4, box.y + 2), one.name, tone, ts, bold=True)
+    return box
 
 
 def keep_clear(layout, tr, i: int, cam: Camera, view) -> None:
@@ -83,6 +199,17 @@ def keep_clear(layout, tr, i: int, cam: Camera, view) -> None:
     pad = 0.15 * cam.scale
     x0, y0 = pts.min(axis=0) - pad
     x1, y1 = pts.max(axis=0) + pad
+    layout.reserve(Box(x0, y0, x1 - x0, y1 - y0))
+
+
+def keep_figure_clear(layout, tr, i: int, cam: Camera) -> None:
+    """Another performer's figure (with a head's room around it) is kept free of labels."""
+    ends = tr.ends(i)
+    if not np.isfinite(ends).all():
+        return
+    pts = np.array([cam.to_screen(x, z) for x, z in ends.reshape(-1, 2)])
+    pad = 0.15 * cam.scale
+    (x0, y0), (x1, y1) = pts.min(axis=0) - pad, pts.max(axis=0) + pad
     layout.reserve(Box(x0, y0, x1 - x0, y1 - y0))
 
 
@@ -207,10 +334,12 @@ def draw_consist(canvas, scene, cam: Camera) -> None:
             canvas.text(((seen0 + seen1) / 2, (roof + floor) / 2), name, CAR_EDGE, ts, anchor="center")
 
 
-def draw_jumps(canvas, playback, t: float, cam: Camera, layout, area: Box) -> None:
+def draw_jumps(canvas, playback, t: float, cam: Camera, layout, area: Box, tr=None) -> None:
     """For each jump under way or done: the take-off mark, the declared landing car's roof as the
-    landing zone with its edges, and where the body came down with its margin or shortfall."""
-    scene, tr = playback.scene, playback.trajectory
+    landing zone with its edges, and where the body came down with its margin or shortfall (`tr`: the
+    performer whose jumps, the first by default)."""
+    tr = playback.trajectory if tr is None else tr
+    scene = tr.scene
     canvas.tag = "jump"
     for a, action in enumerate(scene.actions):
         if action.kind != "jump" or action.takeoff_x is None or not (action.start <= t):
@@ -277,13 +406,15 @@ def _struck_by(tr, i: int) -> bool:
     return math.isfinite(strike) and tr.times[i] >= strike
 
 
-def draw_figure(canvas, tr, i: int, cam: Camera, ghost: bool = False, pinned: bool = False) -> None:
-    """Stick figure: far limbs lighter and thinner, near limbs in ink, head as a ring.
+def draw_figure(canvas, tr, i: int, cam: Camera, ghost: bool = False, pinned: bool = False, tone: int = 0) -> None:
+    """Stick figure: far limbs lighter and thinner, near limbs in ink, head as a ring; `tone`: the
+    performer's (palette.FIGURE_TONES: the second of two in umber, tagged "partner").
 
     A body out of the run is drawn where it lies on the ground; a struck body
     is shown by its ghost at the strike only.
     """
-    canvas.tag = "ghost" if ghost else "figure"
+    canvas.tag = "ghost" if ghost else ("partner" if tone else "figure")
+    near_ink, far_ink = FIGURE_TONES[tone]
     if not np.isfinite(tr.ends(i)).all():
         return
     if not ghost and tr.field("mode")[i] == Mode.GONE and _struck_by(tr, i):
@@ -293,14 +424,14 @@ def draw_figure(canvas, tr, i: int, cam: Camera, ghost: bool = False, pinned: bo
     far = (body.UARM_F, body.FARM_F, body.THIGH_F, body.SHANK_F, body.FOOT_F)
     order = list(far) + [s for s in range(body.N_SEGMENTS) if s not in far and s != body.HEAD]
     for s in order:
-        color = FAINT if ghost else (FAR_LIMB if s in far else INK)
+        color = FAINT if ghost else (far_ink if s in far else near_ink)
         width = max(2, int(stature_px * (0.035 if s == body.TRUNK else 0.02)))
         canvas.line(pts[s, 0], pts[s, 1], color, width)
     neck, top = pts[body.HEAD, 0], pts[body.HEAD, 1]
     head_c = (neck[0] + 0.6 * (top[0] - neck[0]), neck[1] + 0.6 * (top[1] - neck[1]))
     radius = 0.4 * math.hypot(top[0] - neck[0], top[1] - neck[1])
-    canvas.line(neck, head_c, FAINT if ghost else INK, max(2, int(stature_px * 0.02)))
-    canvas.circle(head_c, radius, FAINT if ghost else INK, max(2, int(stature_px * 0.015)))
+    canvas.line(neck, head_c, FAINT if ghost else near_ink, max(2, int(stature_px * 0.02)))
+    canvas.circle(head_c, radius, FAINT if ghost else near_ink, max(2, int(stature_px * 0.015)))
 
 
 def draw_trail(canvas, tr, i: int, view, cam: Camera) -> None:
@@ -555,10 +686,11 @@ def draw_rigging(canvas, playback, t: float, cam: Camera, layout, area: Box, lab
             canvas.text((box.x + 6, box.y + 4), fit(label, ts, box.w - 12, bold=True), colour, ts, bold=True)
 
 
-def draw_failure_marker(canvas, playback, failure, cam: Camera, layout, area: Box) -> None:
-    """A ringed cross where the failure happened, and a callout with its kind, time and numbers."""
+def draw_failure_marker(canvas, playback, failure, cam: Camera, layout, area: Box, tr=None) -> None:
+    """A ringed cross where the failure happened, and a callout with its kind, time and numbers (`tr`:
+    the performer who failed, the first by default)."""
     canvas.tag = "failure"
-    tr = playback.trajectory
+    tr = playback.trajectory if tr is None else tr
     i = tr.index_at(failure["time_s"])
     z = tr.com_path[i, 1]
     z = z if math.isfinite(z) else playback.scene.cars[0].roof_height + 1.0
@@ -574,7 +706,9 @@ def draw_failure_marker(canvas, playback, failure, cam: Camera, layout, area: Bo
 
 
 def failure_label(failure: dict) -> str:
-    return f"{failure['kind'].upper()}  {failure['time_s']:.2f} s"
+    """A failure's kind and time; with two performers, whose it is first."""
+    who = f"{failure['performer']}: " if failure.get("performer") else ""
+    return f"{who}{failure['kind'].upper()}  {failure['time_s']:.2f} s"
 
 
 def draw_failure_callout(canvas, failure: dict, px: float, py: float, layout, area: Box,
