@@ -24,15 +24,15 @@ from preview.caution import CAUTION_SHORT
 from preview.layout import Box, Layout, fit, wrap
 from preview.report import floor_to
 from preview import air_layer, curves
-from preview.palette import (AERO, CURVE, FACT, FAILURE, FAINT, HOLDS, INK, LANDING_ZONE, MARGINAL, PANEL, PSEUDO,
-                             REACTION,
-                             SEGMENT_AERO, SOFT_INK, STRUCTURE, TRAIL, WEIGHT, WIND)
+from preview.palette import (AERO, CURVE, FACT, FAILURE, FAINT, FIGURE_TONES, HOLDS, INK, LANDING_ZONE, MARGINAL,
+                             PANEL, PSEUDO, REACTION, SEGMENT_AERO, SOFT_INK, STRUCTURE, TOUCH, TRAIL, WEIGHT, WIND)
 from preview.report import marginal_words, phase_words
 from preview.road import beside, way
 from preview.timecode import timecode
 
 MARGIN = 10
 TIMELINE_H = 26
+LANE_H = 19         # two performers: the timeline has a lane of this height for each
 TICK_H = 8          # room above the timeline for the structure and duck-by marks
 CAUTION_SIZE = 11
 
@@ -57,6 +57,9 @@ HELP = (
     ("0", "clear what-if"), ("Home", "restart"), ("P", "screenshot to PNG"), ("H", "this help"),
     ("Esc", "quit"), ("mouse", "click or drag the timeline to scrub"),
 )
+FOLLOW_KEY = "tab"   # two performers: the readout (and the cameras) follow the other one
+FOLLOW_HELP = ("Tab", "two performers: the readout and the cameras follow the other one")
+VERDICT_ORDER = ("holds", "marginal", "fails")
 
 
 def text_size(size, boost: int = 0) -> int:
@@ -75,7 +78,7 @@ def caution_height(size, boost: int = 0) -> int:
 def bottom_height(size, view=None, units: str = "metric", scene=None) -> int:
     """Height under the views: the legend strip (when shown), the timeline with its marks and the caution
     (`scene`: its curves add a row to the legend)."""
-    base = TICK_H + TIMELINE_H + 6 + caution_height(size, _boost(view))
+    base = TICK_H + timeline_height(scene) + 6 + caution_height(size, _boost(view))
     return base + (legend_strip(size, view, units, scene) if legend_shown(size, view, units, scene) else 0)
 
 
@@ -91,13 +94,25 @@ def legend_shown(size, view, units: str, scene=None) -> bool:
     """The legend when asked for and the views keep at least 45 % of the height."""
     if view is None or not view.legend:
         return False
-    base = TICK_H + TIMELINE_H + 6 + caution_height(size, _boost(view))
+    base = TICK_H + timeline_height(scene) + 6 + caution_height(size, _boost(view))
     return size[1] - base - legend_strip(size, view, units, scene) >= 0.45 * size[1]
 
 
-def timeline_rect(size, boost: int = 0) -> tuple[int, int, int, int]:
+def lanes(scene=None) -> int:
+    """The timeline's lanes: one per performer."""
+    return len(scene.cast) if scene is not None and getattr(scene, "pair", False) else 1
+
+
+def timeline_height(scene=None) -> int:
+    """The timeline bar's height: one lane, or a lane per performer with a 2 px seam between them."""
+    n = lanes(scene)
+    return TIMELINE_H if n == 1 else n * LANE_H + (n - 1) * 2
+
+
+def timeline_rect(size, boost: int = 0, scene=None) -> tuple[int, int, int, int]:
     width, height = size
-    return MARGIN, height - caution_height(size, boost) - TIMELINE_H - 4, width - 2 * MARGIN, TIMELINE_H
+    h = timeline_height(scene)
+    return MARGIN, height - caution_height(size, boost) - h - 4, width - 2 * MARGIN, h
 
 
 @dataclass
@@ -127,18 +142,25 @@ class Panels:
 # ------------------------------------------------------------------- readout
 
 def readout_rows(playback, t: float, view) -> tuple[list, tuple, list]:
-    """The readout's rows, the verdict bar and the lines saying why, at time t."""
-    tr = playback.trajectory
+    """The readout's rows, the verdict bar and the lines saying why, at time t. With two performers it
+    follows one (the view's `follow`, named in its own row); the verdict is the worse of the two."""
+    from preview.world import cast_of, followed
+    cast = cast_of(playback)
+    one = cast[followed(playback, view)]
+    tr = one.trajectory
     scene = tr.scene
     units = scene.units
     i = tr.index_at(t)
     f = lambda name: float(tr.record[name][i])  # noqa: E731
     rows = [("timecode", f"{timecode(t, scene.frame_rate)}   {t:6.2f} s", INK)]
+    if len(cast) > 1:
+        rows.append(("following", f"{one.name} ({cast.index(one) + 1} of {len(cast)}; Tab: the other)",
+                     FIGURE_TONES[one.tone][0]))
     after = state_at(tr, i)
     if after is None:
         rows.append(("action", scene.actions[int(tr.timeline.steps["action"][i])].label, INK))
     else:
-        first = playback.summary["first_failure"]
+        first = one.failure or playback.summary["first_failure"]
         rows.append(("action", f"plan stopped at the {first['kind']}", FAILURE))
     rows.append(("vehicle speed", display(f("speed"), "speed", units, ".1f"), INK))
     app = math.hypot(f("app_x"), f("app_y"))
@@ -174,19 +196,19 @@ def readout_rows(playback, t: float, view) -> tuple[list, tuple, list]:
         if over is not None:
             colour = FAILURE if gap < 0 else (MARGINAL if gap < scene.safety.clearance else INK)
             rows.append(("overhead clearance", f"{display(gap, 'length', units, '+.2f')} to {over}", colour))
-    name, because = verdict_so_far(scene, tr.events, tr.outcomes, t)
+    name, because = running_verdict(playback, t)
     colour = {"holds": HOLDS, "marginal": MARGINAL, "fails": FAILURE}[name]
     why = []
     if name == "marginal":
         why = [f"{b['action']}: {marginal_words([b], units)}" for b in because]
     elif name == "fails":
         first = playback.summary["first_failure"]
-        why = [f"{first['kind']} at {first['time_s']:.2f} s: {first['detail']}"]
+        why = [f"{whose(first)}{first['kind']} at {first['time_s']:.2f} s: {first['detail']}"]
     whole = playback.summary["verdict"]
     first = playback.summary["first_failure"]
     if name != "fails" and whole != "holds":
         # A still must not look safer than the beat: say how the whole beat ends.
-        ends = f" ({first['kind']} at {first['time_s']:.2f} s)" if first else ""
+        ends = f" ({whose(first)}{first['kind']} at {first['time_s']:.2f} s)" if first else ""
         why.insert(0, f"whole beat: {whole.upper()}{ends}")
     bound = playback.summary.get("uniform_air")
     if bound and bound["verdict"] != whole:
@@ -196,6 +218,26 @@ def readout_rows(playback, t: float, view) -> tuple[list, tuple, list]:
     if view.what_if:
         why.append(f"what-if: {view.what_if}")
     return rows, (f"verdict so far: {name.upper()}", colour), why
+
+
+def running_verdict(playback, t: float) -> tuple[str, list[dict]]:
+    """physics.verdict.verdict_so_far at time t; with two performers the worse of the two, each judged with
+    its own scene (Scene.cast) and its own run, the shortfalls' actions named with the performer's name."""
+    tr = playback.trajectory
+    scene = tr.scene
+    if not scene.pair:
+        return verdict_so_far(scene, tr.events, tr.outcomes, t)
+    worst, because = "holds", []
+    for part, run in zip(scene.cast, (tr,) + tuple(tr.partners)):
+        name, why = verdict_so_far(part, run.events, run.outcomes, t)
+        worst = max(worst, name, key=VERDICT_ORDER.index)
+        because += [dict(b, action=f"{part.name}, {b['action']}") for b in why]
+    return worst, because
+
+
+def whose(failure: dict | None) -> str:
+    """'Eli: ' for a failure of one of two performers, '' for a one-performer beat's."""
+    return f"{failure['performer']}: " if failure and failure.get("performer") else ""
 
 
 def state_words(phase: dict, units: str) -> str:
@@ -244,6 +286,7 @@ def legend_rows(view, units: str, px_per_m: float | None, scene=None) -> list[tu
     rows = []
     for key, name, colour, words in VECTOR_LEGEND:
         rows.append(("vector", (key, colour if name in view.vectors else FAINT, words)))
+    rows += pair_legend_rows(scene)
     rows.append(("trail", (TRAIL, f"centre of mass path, last {view.trail_seconds:g} s")))
     rows.append(bar_row(FORCE_PER_METRE, "force", INK, "(every force)", units, px_per_m))
     if "segments" in view.vectors:
@@ -253,6 +296,14 @@ def legend_rows(view, units: str, px_per_m: float | None, scene=None) -> list[tu
     rows.append(("zone", (LANDING_ZONE, "landing zone (a jump's landing roof)")))
     rows += air_layer.legend_row(view, scene)
     return rows + rigging_legend_rows(scene) + timeline_legend_rows(scene)
+
+
+def pair_legend_rows(scene=None) -> list[tuple]:
+    """With two performers: what the colour of the force between them means (drawn on each body at its
+    touch point while it acts, equal and opposite, on the force scale)."""
+    if scene is None or not getattr(scene, "pair", False):
+        return []
+    return [("force", (TOUCH, "push or pull between performers (on each, at its touch point)"))]
 
 
 def rigging_legend_rows(scene=None) -> list[tuple]:
@@ -357,11 +408,12 @@ def plan(layout: Layout, size, playback, t: float, view, cams) -> Panels:
                                                (MARGIN, readout.bottom + MARGIN)], area)
         panels.message_lines = lines
     if view.show_help:
-        kw = max(measure(k, ts + 1, mono=True)[0] for k, _ in HELP) + 24
-        hw = min(width - 2 * MARGIN, kw + max(measure(w, ts + 1)[0] for _, w in HELP) + 32)
-        hh = min(height - 2 * MARGIN, 44 + line_height(ts + 1) * len(HELP))
+        keys = help_rows(playback.scene)
+        kw = max(measure(k, ts + 1, mono=True)[0] for k, _ in keys) + 24
+        hw = min(width - 2 * MARGIN, kw + max(measure(w, ts + 1)[0] for _, w in keys) + 32)
+        hh = min(height - 2 * MARGIN, 44 + line_height(ts + 1) * len(keys))
         panels.help = Box((width - hw) / 2, max(MARGIN, (height - hh) / 2), hw, hh)
-        panels.help_rows = help_rows(playback.scene)
+        panels.help_rows = keys
     return panels
 
 
@@ -456,6 +508,9 @@ def draw_legend(canvas, panels: Panels, ts: int) -> None:
             key, colour, words = payload
             canvas.arrow((x, mid), (x + 22, mid), colour, 3, head=7)
             words = f"{key} {words}"
+        elif kind == "force":       # two performers: arrows meeting at a touch point, equal and opposite
+            canvas.arrow((x, mid), (x + 11, mid), payload[0], 3, head=6)
+            canvas.arrow((x + 22, mid), (x + 11, mid), payload[0], 3, head=6)
         elif kind == "trail":
             canvas.line((x, mid), (x + 22, mid), payload[0], 2)
         elif kind == "bar":
@@ -491,25 +546,26 @@ def draw_legend(canvas, panels: Panels, ts: int) -> None:
 
 
 def draw_timeline(canvas, playback, t: float, ts: int, boost: int = 0) -> None:
-    """Action blocks, event ticks, structure and duck-by marks and the playhead; click or drag to scrub."""
+    """Action blocks, event ticks, structure and duck-by marks and the playhead; click or drag to scrub.
+    With two performers each one's actions and events on its own lane, named at its left end."""
     canvas.tag = "timeline"
-    x, y, w, h = timeline_rect(canvas.size, boost)
-    duration = playback.scene.duration
+    scene = playback.scene
+    x, y, w, h = timeline_rect(canvas.size, boost, scene)
+    duration = scene.duration
     at = lambda s: x + w * min(max(s, 0.0), duration) / duration  # noqa: E731
     canvas.rect(x, y, w, h, PANEL)
-    for k, a in enumerate(playback.summary["actions"]):
-        x0, x1 = at(a["start_s"]), at(a["end_s"])
-        canvas.rect(x0, y, x1 - x0, h, (214, 219, 224) if k % 2 == 0 else (200, 207, 214))
-        label = fit(a["name"], ts, x1 - x0 - 8)
-        if label:
-            canvas.text((x0 + 4, y + (h - measure(label, ts)[1]) / 2), label, INK, ts)
-    facts = (EVENT_WORDS[Event.TAKEOFF], EVENT_WORDS[Event.TOUCHDOWN], EVENT_WORDS[Event.RECOVERY_STEP])
-    for e in playback.summary["events"]:
-        px = at(e["time_s"])
-        if e["failure"]:
-            canvas.line((px, y - 3), (px, y + h), FAILURE, 3)
-        elif e["kind"] in facts:
-            canvas.line((px, y), (px, y + h), FACT, 2)
+    if lanes(scene) == 1:
+        draw_lane(canvas, at, y, h, ts, playback.summary["actions"], playback.summary["events"])
+    else:
+        for k, one in enumerate(playback.summary.get("performers", [])):
+            top = y + k * (LANE_H + 2)
+            tone = FIGURE_TONES[min(k, 1)][0]
+            name = fit(one["name"], ts, w / 4, bold=True)
+            nw = measure(name, ts, True)[0] + 10
+            draw_lane(canvas, at, top, LANE_H, ts, one["actions"], one["events"], skip=x + nw)
+            canvas.rect(x, top, nw, LANE_H, PANEL)
+            canvas.rect(x, top, 3, LANE_H, tone)
+            canvas.text((x + 6, top + (LANE_H - measure(name, ts, True)[1]) / 2), name, tone, ts, bold=True)
     for arrival in playback.summary.get("arrivals", []):
         px = at(arrival["time_s"])
         canvas.rect(px - 4, y - TICK_H, 8, TICK_H - 1, STRUCTURE)
@@ -520,6 +576,24 @@ def draw_timeline(canvas, playback, t: float, ts: int, boost: int = 0) -> None:
     draw_curve_marks(canvas, playback, at, y)
     px = at(t)
     canvas.line((px, y - TICK_H), (px, y + h + 2), INK, 3)
+
+
+def draw_lane(canvas, at, y: float, h: float, ts: int, actions, events, skip: float = 0.0) -> None:
+    """One performer's action blocks (labelled where the label fits, right of `skip`) and event ticks."""
+    for k, a in enumerate(actions):
+        x0, x1 = at(a["start_s"]), at(a["end_s"])
+        canvas.rect(x0, y, x1 - x0, h, (214, 219, 224) if k % 2 == 0 else (200, 207, 214))
+        left = max(x0, skip)
+        label = fit(a["name"], ts, x1 - left - 8)
+        if label:
+            canvas.text((left + 4, y + (h - measure(label, ts)[1]) / 2), label, INK, ts)
+    facts = (EVENT_WORDS[Event.TAKEOFF], EVENT_WORDS[Event.TOUCHDOWN], EVENT_WORDS[Event.RECOVERY_STEP])
+    for e in events:
+        px = at(e["time_s"])
+        if e["failure"]:
+            canvas.line((px, y - 3), (px, y + h), FAILURE, 3)
+        elif e["kind"] in facts:
+            canvas.line((px, y), (px, y + h), FACT, 2)
 
 
 def curve_marks(playback) -> list[tuple[float, float, bool, bool]]:
@@ -558,9 +632,11 @@ def draw_caution(canvas, size, boost: int = 0) -> None:
 
 def help_rows(scene=None) -> tuple:
     """The help's keys and words, in the scene's words (a road consist's camera stands at the roadside)."""
-    if scene is None or way(scene) == "track":
-        return HELP
-    return tuple((key, words.replace("trackside", beside(scene))) for key, words in HELP)
+    rows = HELP if scene is None or way(scene) == "track" else tuple(
+        (key, words.replace("trackside", beside(scene))) for key, words in HELP)
+    if scene is not None and getattr(scene, "pair", False):
+        rows = rows[:4] + (FOLLOW_HELP,) + rows[4:]
+    return rows
 
 
 def draw_help(canvas, b: Box, ts: int, rows: tuple = HELP) -> None:

@@ -16,7 +16,7 @@ from dataclasses import dataclass, replace
 from pathlib import Path
 
 from preview.frame import ViewSettings, draw_frame
-from preview.panels import timeline_rect
+from preview.panels import FOLLOW_KEY, timeline_rect
 from preview.road import beside
 from preview.session import Playback, make_playback
 
@@ -108,6 +108,8 @@ def handle_key(state: PlayerState, key: str, screenshot_dir: Path | None = None,
         state.t, state.playing = 0.0, True
     elif key == "h":
         state.view = replace(v, show_help=not v.show_help)
+    elif key == FOLLOW_KEY:
+        state.view = follow_next(state)
     elif key in ("up", "down"):
         step = STEPS[scene.units][0]
         state.speed_delta += step if key == "up" else -step
@@ -131,12 +133,21 @@ def handle_key(state: PlayerState, key: str, screenshot_dir: Path | None = None,
         state.running = False
 
 
+def follow_next(state: PlayerState) -> ViewSettings:
+    """Two performers: the readout and the cameras follow the next one (cast order, round); one: as it was."""
+    scene, v = state.playback.scene, state.view
+    if not scene.pair:
+        return v
+    return replace(v, follow=(v.follow + 1) % len(scene.cast))
+
+
 def trackside_toggled(state: PlayerState) -> ViewSettings:
     """A trackside camera fixed where the performer is now (ground frame), or back to following."""
     v = state.view
     if v.trackside is not None:
         return replace(v, trackside=None)
-    tr = state.playback.trajectory
+    from preview.world import cast_of, followed
+    tr = cast_of(state.playback)[followed(state.playback, v)].trajectory
     i = tr.index_at(state.t)
     x = float(tr.com_path[i, 0] + tr.field("distance")[i])
     if x != x:  # no body position (NaN): nothing to stand beside
@@ -175,13 +186,13 @@ def save_screenshot(state: PlayerState, surface, folder: Path) -> Path:
 
 
 def scrub_to(state: PlayerState, x: float, size) -> None:
-    left, _, width, _ = timeline_rect(size)
+    left, _, width, _ = timeline_rect(size, scene=state.playback.scene)
     fraction = min(1.0, max(0.0, (x - left) / width))
     state.t = fraction * state.playback.scene.duration
 
 
-def on_timeline(pos, size) -> bool:
-    x, y, w, h = timeline_rect(size)
+def on_timeline(pos, size, scene=None) -> bool:
+    x, y, w, h = timeline_rect(size, scene=scene)
     return x <= pos[0] <= x + w and y - 8 <= pos[1] <= y + h + 8
 
 
@@ -270,7 +281,8 @@ def _handle_event(state, event, screen, screenshot_dir) -> None:
         state.running = False
     elif event.type == pygame.KEYDOWN:
         handle_key(state, pygame.key.name(event.key), screenshot_dir, screen)
-    elif event.type == pygame.MOUSEBUTTONDOWN and event.button == 1 and on_timeline(event.pos, screen.get_size()):
+    elif (event.type == pygame.MOUSEBUTTONDOWN and event.button == 1
+          and on_timeline(event.pos, screen.get_size(), state.playback.scene)):
         state.scrubbing = True
         scrub_to(state, event.pos[0], screen.get_size())
     elif event.type == pygame.MOUSEMOTION and state.scrubbing:
