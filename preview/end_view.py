@@ -44,7 +44,7 @@ from preview.palette import (AERO, CAR_BODY, CAR_EDGE, CURVE, FAILURE, FAINT, FI
                              STRUCTURE, TOUCH, TRAIL, WEIGHT, WIND)
 from preview.world import (FORCE_PER_METRE, REACTION_OFFSET, WIND_ABOVE, WIND_PER_METRE, _label_size, canvas_measure,
                            cast_of, draw_failure_callout, draw_free_label, draw_touch, followed, force_arrow,
-                           label_size, name_label, touch_at)
+                           label_size, name_label, partner_of, touch_at)
 
 DEFAULT_ZOOM = 1.5     # ViewSettings' default zoom: the fitted picture
 GAUGE = 1.435          # m between the rails (standard gauge), drawing value
@@ -135,9 +135,10 @@ def draw(canvas, playback, t: float, view, cam: EndCamera, layout, area: Box) ->
     draw_roof_air(canvas, tr, i, view, cam, car if ahead == 0 else None, layout, area)
     for one in cast:
         draw_trail(canvas, one.trajectory, i, view, cam)
-    for one in cast:
+    for one in sorted(cast, key=lambda c: c.trajectory is not tr):   # the followed one's callout placed first
         if one.failure is not None and t >= one.failure["time_s"] - 1e-9:
-            draw_failure(canvas, playback, one.failure, cam, layout, area, one.trajectory)
+            draw_failure(canvas, playback, one.failure, cam, layout, area, one.trajectory,
+                         compact=one.trajectory is not tr)
     if scene.rigging and ahead == 0:
         draw_tethers(canvas, playback, i, cam.turned(cant + roll), pose_camera(tr, i, cam), car, layout, area)
     # Looking forward: the performer farther ahead first, the one nearer the camera over it.
@@ -146,7 +147,7 @@ def draw(canvas, playback, t: float, view, cam: EndCamera, layout, area: Box) ->
     draw_vectors(canvas, tr, i, view, cam)
     if len(cast) > 1:
         for one in cast:
-            draw_touch_across(canvas, one.trajectory, i, pose_camera(one.trajectory, i, cam))
+            draw_touch_across(canvas, one.trajectory, i, pose_camera(one.trajectory, i, cam), partner_of(cast, one))
         for one in cast:
             head = head_point(one.trajectory, i, cam)
             if head is not None:
@@ -450,7 +451,7 @@ def draw_figure(canvas, tr, i: int, cam: EndCamera, ghost: bool = False, tone: i
                       near_ink, 1)
 
 
-def draw_touch_across(canvas, tr, i: int, cam: EndCamera) -> None:
+def draw_touch_across(canvas, tr, i: int, cam: EndCamera, other=None) -> None:
     """The push or pull between the performers on this body at its touch point, seen along the track: its
     part across and up as an arrow (the side views' scale), and its part along the track, when that is
     most of it, as a ring with a cross (into the picture, toward the front) or a dot (out of it)."""
@@ -458,7 +459,7 @@ def draw_touch_across(canvas, tr, i: int, cam: EndCamera) -> None:
     if found is None:
         return
     (fx, fy, fz), (x, y, z) = found
-    draw_touch(canvas, tr, i, cam, lambda a, b, c: (b, c))
+    draw_touch(canvas, tr, i, cam, lambda a, b, c: (b, c), other)
     if abs(fx) >= 0.5 * math.hypot(fx, fy, fz):
         canvas.tag = "touch"
         px, py = cam.to_screen(y, z)
@@ -579,7 +580,7 @@ def draw_balance(canvas, r, com, cam: EndCamera) -> None:
         canvas.polygon([(px, py - 2), (px - 6, py + 10), (px + 6, py + 10)], colour)
 
 
-def draw_failure(canvas, playback, failure, cam: EndCamera, layout, area: Box, tr=None) -> None:
+def draw_failure(canvas, playback, failure, cam: EndCamera, layout, area: Box, tr=None, compact=False) -> None:
     """The figure's ghost at the first failure and the side view's marker and callout, placed across
     at the contact (or, in the air, the centre of mass) and up at the centre of mass (`tr`: the
     performer who failed, the first by default)."""
@@ -594,7 +595,7 @@ def draw_failure(canvas, playback, failure, cam: EndCamera, layout, area: Box, t
         return
     px, py = pose_camera(tr, k, cam).to_screen(y, z)
     px, py = min(max(px, area.x + 20), area.right - 20), min(max(py, area.y + 20), area.bottom - 20)
-    draw_failure_callout(canvas, failure, px, py, layout, area, beside=True)
+    draw_failure_callout(canvas, failure, px, py, layout, area, beside=True, compact=compact)
 
 
 # ---------------------------------------------------------------- labels
@@ -780,7 +781,8 @@ def legend_rows(view, units: str, px_per_m: float | None, scene=None) -> list[tu
     rows = [("vector", (key, colour if name in view.vectors else FAINT, words))
             for key, name, colour, words in VECTOR_LEGEND if name != "segments"]
     if pair_legend_rows(scene):
-        rows.append(("force", (TOUCH, "push or pull between performers; along the track: ⊗ to the front, ⊙ to the rear")))
+        rows.append(("force", (TOUCH, "push or pull between performers; along the track: ⊗ to the front, "
+                                      "⊙ to the rear")))
     rows.append(("trail", (TRAIL, f"centre of mass, last {view.trail_seconds:g} s")))
     rows.append(bar_row(FORCE_PER_METRE, "force", INK, "(every force)", units, px_per_m))
     rows.append(bar_row(WIND_PER_METRE, "wind", WIND, "(apparent wind)", units, px_per_m))

@@ -35,7 +35,7 @@ from preview.road import way
 from preview.palette import (CAR_BODY, CAR_EDGE, CURVE, FAILURE, FAINT, FIGURE_TONES, GROUND_TONE, HOLDS, INK,
                              LANDING_ZONE, LINE_ZONE, PANEL, SOFT_INK, STRUCTURE, TRAIL)
 from preview.world import (canvas_measure, cast_of, draw_failure_callout, draw_landing_mark, draw_takeoff_mark,
-                           draw_touch, followed, label_size, name_label)
+                           draw_touch, followed, label_size, name_label, partner_of)
 
 DEFAULT_ZOOM = 1.5     # ViewSettings' default zoom: the fitted picture
 GAUGE = 1.435          # m between the rails, drawing value
@@ -159,17 +159,17 @@ def draw(canvas, playback, t: float, view, cam: PlanCamera, layout, area: Box) -
         draw_landing_zones(canvas, one.trajectory.scene, t, cam)
     for one in cast:
         draw_path(canvas, one.trajectory, i, cam, one.tone)
-    for one in cast:
+    for one in sorted(cast, key=lambda c: c.trajectory is not tr):   # the followed one's labels placed first
         draw_jumps(canvas, playback, t, cam, layout, area, one.trajectory)
         draw_off_side(canvas, one.trajectory, t, one.failure, cam, layout, area)
         draw_ground(canvas, one.trajectory, i, cam, layout, area)
         if one.failure is not None and t >= one.failure["time_s"] - 1e-9:
-            draw_failure(canvas, one.trajectory, one.failure, cam, layout, area)
+            draw_failure(canvas, one.trajectory, one.failure, cam, layout, area, compact=one.trajectory is not tr)
     for one in sorted(cast, key=lambda c: c.trajectory is tr):   # the followed one on top
         draw_figure(canvas, one.trajectory, i, cam, one.tone)
     if len(cast) > 1:
         for one in cast:
-            draw_touch(canvas, one.trajectory, i, cam, lambda x, y, z: (x, y))
+            draw_touch(canvas, one.trajectory, i, cam, lambda x, y, z: (x, y), partner_of(cast, one))
         for one in cast:
             pts = one.trajectory.ends3(i)
             if np.isfinite(pts).all() and not struck_out(one.trajectory, i):
@@ -365,7 +365,7 @@ def draw_ground(canvas, tr, i: int, cam: PlanCamera, layout, area: Box) -> None:
                "plan-labels")
 
 
-def draw_failure(canvas, tr, failure, cam: PlanCamera, layout, area: Box) -> None:
+def draw_failure(canvas, tr, failure, cam: PlanCamera, layout, area: Box, compact: bool = False) -> None:
     """The side view's failure marker and callout, at the failure's place on the plan: over the side
     edge for a fall off the side, else where the body was across the roof."""
     k = tr.index_at(failure["time_s"])
@@ -376,7 +376,7 @@ def draw_failure(canvas, tr, failure, cam: PlanCamera, layout, area: Box) -> Non
         point = (failure["x_car_m"], float(y) if math.isfinite(y) else 0.0)
     px, py = cam.to_screen(*point)
     px, py = min(max(px, area.x + 20), area.right - 20), min(max(py, area.y + 20), area.bottom - 20)
-    draw_failure_callout(canvas, failure, px, py, layout, area, beside=True)
+    draw_failure_callout(canvas, failure, px, py, layout, area, beside=True, compact=compact)
 
 
 def draw_figure(canvas, tr, i: int, cam: PlanCamera, tone: int = 0) -> None:

@@ -55,11 +55,12 @@ def draw_view(canvas, playback, t: float, view, cam: Camera, layout, area: Box) 
     draw_roof_air(canvas, tr, i, view, cam, layout, area)
     for one in cast:
         draw_trail(canvas, one.trajectory, i, view, cam)
-    for one in cast:
+    for one in sorted(cast, key=lambda c: c.trajectory is not tr):   # the followed one's callout placed first
         failure = one.failure
         if failure is not None and t >= failure["time_s"] - 1e-9:
             # Under the figure: the body as it is now stays in sight over the marker of where it failed.
-            draw_failure_marker(canvas, playback, failure, cam, layout, area, one.trajectory)
+            draw_failure_marker(canvas, playback, failure, cam, layout, area, one.trajectory,
+                                compact=one.trajectory is not tr)
             draw_figure(canvas, one.trajectory, one.trajectory.index_at(failure["time_s"]), cam, ghost=True,
                         pinned=failure["kind"] in GROUND_FIXED)
     if scene.rigging:   # under the figure; their labels last, in the places the others leave free
@@ -69,7 +70,7 @@ def draw_view(canvas, playback, t: float, view, cam: Camera, layout, area: Box) 
     draw_vectors(canvas, tr, i, view, cam)
     if len(cast) > 1:
         for one in cast:
-            draw_touch(canvas, one.trajectory, i, cam, lambda x, y, z: (x, z))
+            draw_touch(canvas, one.trajectory, i, cam, lambda x, y, z: (x, z), partner_of(cast, one))
         for one in cast:
             head = head_point(one.trajectory, i, cam)
             if head is not None:
@@ -111,6 +112,11 @@ def followed(playback, view) -> int:
     return int(getattr(view, "follow", 0)) % count
 
 
+def partner_of(cast: list, one: Performer):
+    """The other performer's run, or None."""
+    return next((c.trajectory for c in cast if c.trajectory is not one.trajectory), None)
+
+
 def touch_at(tr, i: int):
     """The other performer's force on this body at step i, (fx, fy, fz) N and where it acts (x, y, z),
     car frame; None while no force acts."""
@@ -122,17 +128,18 @@ def touch_at(tr, i: int):
     return force, where
 
 
-def draw_touch(canvas, tr, i: int, cam, plane) -> None:
+def draw_touch(canvas, tr, i: int, cam, plane, other=None) -> None:
     """The push or pull between the performers on this body at its touch point, on the side views' force
-    scale: a push (the force pointing away from the other body) drawn ending at the point it pushes on, a
-    pull starting from it. `plane(x, y, z)` picks the view's two axes of a car-frame point or force."""
+    scale: a push (the force pointing away from the other body, `other`'s run) drawn ending at the point it
+    pushes on, a pull starting from it. `plane(x, y, z)` picks the view's two axes of a car-frame point
+    or force."""
     found = touch_at(tr, i)
     if found is None:
         return
     force, where = found
-    com = tr.com_path3[i]
-    toward_body = (force[0] * (com[0] - where[0]) + force[1] * (com[1] - where[1]) + force[2] * (com[2] - where[2]))
-    push = not (np.isfinite(com).all() and toward_body < 0.0)
+    ref = other.com_path3[i] if other is not None else np.full(3, np.nan)
+    away = sum(f * (w - r) for f, w, r in zip(force, where, ref))
+    push = not (math.isfinite(away) and away < 0.0)
     force_arrow(canvas, cam, plane(*where), plane(*force), TOUCH, "touch", push=push)
 
 
@@ -686,9 +693,10 @@ def draw_rigging(canvas, playback, t: float, cam: Camera, layout, area: Box, lab
             canvas.text((box.x + 6, box.y + 4), fit(label, ts, box.w - 12, bold=True), colour, ts, bold=True)
 
 
-def draw_failure_marker(canvas, playback, failure, cam: Camera, layout, area: Box, tr=None) -> None:
+def draw_failure_marker(canvas, playback, failure, cam: Camera, layout, area: Box, tr=None,
+                        compact: bool = False) -> None:
     """A ringed cross where the failure happened, and a callout with its kind, time and numbers (`tr`:
-    the performer who failed, the first by default)."""
+    the performer who failed, the first by default; `compact`: the callout without its numbers)."""
     canvas.tag = "failure"
     tr = playback.trajectory if tr is None else tr
     i = tr.index_at(failure["time_s"])
@@ -702,7 +710,7 @@ def draw_failure_marker(canvas, playback, failure, cam: Camera, layout, area: Bo
     if not (area.x <= px <= area.right and area.y <= py <= area.bottom):
         draw_failure_pointer(canvas, label, px, py, cam, layout, area, playback.scene.units)
         return
-    draw_failure_callout(canvas, failure, px, py, layout, area)
+    draw_failure_callout(canvas, failure, px, py, layout, area, compact=compact)
 
 
 def failure_label(failure: dict) -> str:
@@ -712,9 +720,10 @@ def failure_label(failure: dict) -> str:
 
 
 def draw_failure_callout(canvas, failure: dict, px: float, py: float, layout, area: Box,
-                         beside: bool = False) -> None:
+                         beside: bool = False, compact: bool = False) -> None:
     """The ringed cross at a failure's place (pixels) and its callout: kind, time and the numbers behind
-    it; `beside`: the callout may also stand level with the marker, to its left or right."""
+    it; `beside`: the callout may also stand level with the marker, to its left or right; `compact`: the
+    kind and time only (two performers: the one not followed, whose numbers the readout does not say)."""
     canvas.tag = "failure"
     label = failure_label(failure)
     r = 16
@@ -723,14 +732,21 @@ def draw_failure_callout(canvas, failure: dict, px: float, py: float, layout, ar
     canvas.line((px - r * 0.7, py + r * 0.7), (px + r * 0.7, py - r * 0.7), FAILURE, 3)
     ts = label_size(canvas)
     (lw, lh), (dw, dh) = canvas_measure(label, ts + 3, True), canvas_measure(failure["detail"], ts)
-    width = min(area.w - 12, max(lw, dw) + 16)
+
+    def spots_for(width: float, h: float) -> list:
+        spots = [(px + 30, py - r - 38 - h), (px - 30 - width, py - r - 38 - h), (px + 30, py + r + 20),
+                 (px - 30 - width, py + r + 20), (px - width / 2, py - r - 64 - h)]
+        if beside:
+            spots[2:2] = [(px - 60 - width, py - h / 2), (px + 60, py - h / 2)]
+        return spots
+
+    width, h = min(area.w - 12, max(lw, dw) + 16), lh + dh + 12
+    if not compact and free_spot(layout, width, h, spots_for(width, h), area) is None:
+        compact = True   # no free place for the numbers too: the kind and time (the readout says the numbers)
+    if compact:
+        width, h = min(area.w - 12, lw + 16), lh + 8
     detail = fit(failure["detail"], ts, width - 16)
-    h = lh + dh + 12
-    spots = [(px + 30, py - r - 38 - h), (px - 30 - width, py - r - 38 - h), (px + 30, py + r + 20),
-             (px - 30 - width, py + r + 20), (px - width / 2, py - r - 64 - h)]
-    if beside:
-        spots[2:2] = [(px - 60 - width, py - h / 2), (px + 60, py - h / 2)]
-    box = layout.place(width, h, spots, area)
+    box = layout.place(width, h, spots_for(width, h), area)
     anchor = (box.x, box.bottom) if box.x > px else (box.right, box.bottom)
     if box.x + 8 <= px <= box.right - 8:
         anchor = (px, box.bottom)     # the box straddles the marker: a straight leader
@@ -742,7 +758,18 @@ def draw_failure_callout(canvas, failure: dict, px: float, py: float, layout, ar
     canvas.rect(box.x, box.y, box.w, box.h, PANEL)
     canvas.rect(box.x, box.y, box.w, box.h, FAILURE, width=2)
     canvas.text((box.x + 8, box.y + 4), fit(label, ts + 3, box.w - 16, bold=True), FAILURE, ts + 3, bold=True)
-    canvas.text((box.x + 8, box.y + 6 + lh), detail, INK, ts)
+    if not compact:
+        canvas.text((box.x + 8, box.y + 6 + lh), detail, INK, ts)
+
+
+def free_spot(layout, w: float, h: float, spots, area: Box) -> Box | None:
+    """Where Layout.place would put a w x h box among `spots` when that place is free, else None (nothing
+    reserved)."""
+    for x, y in spots:
+        box = Box(x, y, w, h).clamped(area)
+        if layout.free(box):
+            return box
+    return layout.nearest_free(w, h, area, *spots[0])
 
 
 def draw_failure_pointer(canvas, label: str, px: float, py: float, cam: Camera, layout, area: Box,
