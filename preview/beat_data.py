@@ -15,6 +15,12 @@ animated in the car frame as children of the consist, so they sit right in the
 ground frame too. The model is planar: near limbs are set 0.1 m to one side of
 the centreline and far limbs 0.1 m to the other, for the eye only. Lateral
 widths of the boxes (CAR_WIDTH, DECK_WIDTH) are drawing values, not physics.
+
+Two performers: the CSV has the shared columns (time, timecode, the consist's travel and speed) once,
+then each performer's columns in cast order, each prefixed with its name (`dana_mode`, `dana_com_x_car_m`,
+...), with the force from the other performer (`dana_touch_force_x_N`, ..., car axes) and where it acts
+(`dana_touch_x_car_m`, ...), empty while none acts. The glTF has a figure node for each, named
+`performer: <name>`, the second in its own tone; a one-performer beat's files are as before.
 """
 
 from __future__ import annotations
@@ -22,6 +28,7 @@ from __future__ import annotations
 import csv
 import json
 import math
+import re
 import struct
 from pathlib import Path
 
@@ -31,6 +38,7 @@ from physics import body
 from physics.records import Mode
 from physics.units import to_display
 from preview.caution import CAUTION
+from preview.palette import PARTNER
 from preview.timecode import timecode
 
 # Named joints: (name, segment, end 0 = proximal / 1 = distal).
@@ -52,9 +60,20 @@ FAR = (body.UARM_F, body.FARM_F, body.THIGH_F, body.SHANK_F, body.FOOT_F)
 NEAR = (body.UARM_N, body.FARM_N, body.THIGH_N, body.SHANK_N, body.FOOT_N)
 
 
-def sample(playback, times: np.ndarray) -> dict:
-    """The recorded run at the given times (nearest recorded step), car frame, SI."""
-    tr = playback.trajectory
+def performers(playback) -> list:
+    """Each performer's recorded run, in cast order (one for a one-performer beat)."""
+    return [playback.trajectory] + list(playback.trajectory.partners)
+
+
+def slug(name: str) -> str:
+    """A performer's name as a column prefix: lower case, runs of anything but letters and digits as '_'."""
+    return re.sub(r"[^0-9a-z]+", "_", name.lower()).strip("_") or "performer"
+
+
+def sample(playback, times: np.ndarray, tr=None) -> dict:
+    """The recorded run at the given times (nearest recorded step), car frame, SI (`tr`: the performer's,
+    the first by default)."""
+    tr = playback.trajectory if tr is None else tr
     idx = np.array([tr.index_at(t) for t in times])
     ends = tr.ends(idx)                                  # (N, 12, 2, 2)
     com = tr.com_path[idx]
@@ -65,45 +84,72 @@ def sample(playback, times: np.ndarray) -> dict:
 
 # ----------------------------------------------------------------------- CSV
 
-def csv_columns(units: str) -> tuple[list[str], dict]:
+def csv_columns(units: str, names=None) -> tuple[list[str], dict]:
+    """The CSV's header and its units; `names`: two performers' names, each one's columns prefixed with
+    its slug and followed by the force from the other one."""
     length = to_display(1.0, "length", units)[1]
     force = to_display(1.0, "force", units)[1]
     speed = to_display(1.0, "wind", units)[1].replace("/", "")
-    names = ["time_s", "timecode", "mode", "action", f"consist_travel_{length}", f"consist_speed_{speed}"]
+    shared = ["time_s", "timecode", f"consist_travel_{length}", f"consist_speed_{speed}"]
+    body_cols = []
     for joint, _, _ in JOINTS + (("com", None, None),):
-        names += [f"{joint}_x_car_{length}", f"{joint}_x_ground_{length}", f"{joint}_z_{length}"]
-    names += [f"weight_{force}", f"air_load_x_{force}", f"air_load_z_{force}", f"roof_normal_{force}",
-              f"roof_friction_{force}", f"pseudo_force_{force}", f"apparent_wind_x_{speed}"]
-    return names, {"length": length, "force": force, "speed": speed}
+        body_cols += [f"{joint}_x_car_{length}", f"{joint}_x_ground_{length}", f"{joint}_z_{length}"]
+    body_cols += [f"weight_{force}", f"air_load_x_{force}", f"air_load_z_{force}", f"roof_normal_{force}",
+                  f"roof_friction_{force}", f"pseudo_force_{force}", f"apparent_wind_x_{speed}"]
+    units_of = {"length": length, "force": force, "speed": speed}
+    if not names:
+        return shared[:2] + ["mode", "action"] + shared[2:] + body_cols, units_of
+    touch = [f"touch_force_{a}_{force}" for a in "xyz"] + [f"touch_{a}_car_{length}" for a in "xyz"]
+    out = list(shared)
+    for name in names:
+        out += [f"{slug(name)}_{c}" for c in ["mode", "action"] + body_cols + touch]
+    return out, units_of
 
 
 def write_csv(playback, times: np.ndarray, path: Path) -> None:
     scene = playback.scene
-    tr = playback.trajectory
     units = scene.units
-    d = sample(playback, times)
-    names, _ = csv_columns(units)
+    runs = performers(playback)
+    pair = len(runs) > 1
+    samples = [sample(playback, times, tr) for tr in runs]
+    names, _ = csv_columns(units, [tr.scene.name for tr in runs] if pair else None)
     L = lambda v: to_display(v, "length", units)[0]  # noqa: E731
     F = lambda v: to_display(v, "force", units)[0]  # noqa: E731
     V = lambda v: to_display(v, "wind", units)[0]  # noqa: E731
-    actions = tr.timeline.steps["action"]
+
+    def body_row(tr, d, n) -> list:
+        r = d["rec"][n]
+        s = float(d["distance"][n])
+        on_roof = int(r["mode"]) in (Mode.PLANTED, Mode.SLIDING, Mode.DOWN)
+        action = tr.scene.actions[int(tr.timeline.steps["action"][d["index"][n]])].label
+        row = [MODE_WORDS[Mode(int(r["mode"]))], action]
+        points = [d["ends"][n, seg, end] for _, seg, end in JOINTS] + [d["com"][n]]
+        for x, z in points:
+            row += [_num(L(x)), _num(L(x + s)), _num(L(z))]
+        row += [_num(F(tr.weight)), _num(F(float(r["aero_x"]))), _num(F(float(r["aero_z"]))),
+                _num(F(float(r["normal"])) if on_roof else 0.0), _num(F(float(r["need_x"])) if on_roof else 0.0),
+                _num(F(float(d["pseudo"][n]))), _num(V(float(r["app_x"])))]
+        if pair:   # the other performer's force on this body, and where it acts (empty while none does)
+            acts = math.isfinite(float(r["touch_x"]))
+            row += [_num(F(float(r[f"touch_f{a}"]))) if acts else "" for a in "xyz"]
+            row += [_num(L(float(r[f"touch_{a}"]))) for a in "xyz"]
+        return row
+
     with open(path, "w", newline="", encoding="utf-8") as f:
-        f.write(f"# roofbeat beat data: {scene.title}; {len(times)} rows at the video frame rate; "
+        who = f" ({' and '.join(tr.scene.name for tr in runs)})" if pair else ""
+        f.write(f"# roofbeat beat data: {scene.title}{who}; {len(times)} rows at the video frame rate; "
                 f"CAUTION: {CAUTION}\n")
         w = csv.writer(f)
         w.writerow(names)
+        first = samples[0]
         for n, t in enumerate(times):
-            r = d["rec"][n]
-            s = float(d["distance"][n])
-            on_roof = int(r["mode"]) in (Mode.PLANTED, Mode.SLIDING, Mode.DOWN)
-            row = [f"{t:.4f}", timecode(t, scene.frame_rate), MODE_WORDS[Mode(int(r["mode"]))],
-                   scene.actions[int(actions[d["index"][n]])].label, _num(L(s)), _num(V(float(r["speed"])))]
-            points = [d["ends"][n, seg, end] for _, seg, end in JOINTS] + [d["com"][n]]
-            for x, z in points:
-                row += [_num(L(x)), _num(L(x + s)), _num(L(z))]
-            row += [_num(F(tr.weight)), _num(F(float(r["aero_x"]))), _num(F(float(r["aero_z"]))),
-                    _num(F(float(r["normal"])) if on_roof else 0.0), _num(F(float(r["need_x"])) if on_roof else 0.0),
-                    _num(F(float(d["pseudo"][n]))), _num(V(float(r["app_x"])))]
+            s = float(first["distance"][n])
+            shared = [_num(L(s)), _num(V(float(first["rec"][n]["speed"])))]
+            parts = [body_row(tr, d, n) for tr, d in zip(runs, samples)]
+            if pair:
+                row = [f"{t:.4f}", timecode(t, scene.frame_rate)] + shared + [v for p in parts for v in p]
+            else:
+                row = [f"{t:.4f}", timecode(t, scene.frame_rate)] + parts[0][:2] + shared + parts[0][2:]
             w.writerow(row)
 
 
@@ -207,6 +253,7 @@ def write_glb(playback, times: np.ndarray, path: Path) -> None:
                                       "frame_rate": scene.frame_rate, "duration_s": float(times[-1])}})
     car_m, deck_m, line_m = g.material("car", CAR_BODY), g.material("structure", STRUCTURE), g.material("line", FAILURE)
     body_m, joint_m = g.material("performer", INK), g.material("joint", TRAIL)
+    runs = performers(playback)
     t = np.asarray(times, np.float32)
     t_acc = g.accessor(t, "SCALAR", bounds=True)
     channels, samplers = [], []
@@ -232,26 +279,46 @@ def write_glb(playback, times: np.ndarray, path: Path) -> None:
         mesh = g.box_mesh(car.name, (car.rear_x, car.body_bottom, -CAR_WIDTH / 2),
                           (car.front_x, car.roof_height, CAR_WIDTH / 2), car_m)
         g.node(f"car: {car.name}", mesh, parent=consist)
-    figure = g.node("performer", parent=consist)
-    cube = g.box_mesh("joint", (-0.03, -0.03, -0.03), (0.03, 0.03, 0.03), joint_m)
+    if len(runs) > 1:   # two performers: a figure node each, the second's segments in its own tone
+        cube = bone = None
+        for k, tr in enumerate(runs):
+            figure = g.node(f"performer: {tr.scene.name}", parent=consist)
+            if k == 1:
+                bone = g.box_mesh("segment", (-0.025, 0.0, -0.025), (0.025, 1.0, 0.025),
+                                  g.material("second performer", PARTNER))
+            cube, _ = _figure(g, animate, figure, sample(playback, times, tr), len(t), body_m, joint_m,
+                              f"{tr.scene.name} ", cube, bone)
+    else:
+        _figure(g, animate, g.node("performer", parent=consist), d, len(t), body_m, joint_m, "")
+    g.doc["animations"].append({"name": "beat", "channels": channels, "samplers": samplers})
+    Path(path).write_bytes(g.glb())
+
+
+def _figure(g, animate, figure: int, d: dict, count: int, body_m: int, joint_m: int, prefix: str, cube=None,
+            bone=None) -> tuple[int, int]:
+    """One performer's joints (cubes) and segments (boxes from joint to joint) under its figure node,
+    animated from the sampled run `d`; `prefix` goes before each node's name. The joint and segment meshes
+    are made here unless given (as the one-performer file always made them); returned for the next."""
+    if cube is None:
+        cube = g.box_mesh("joint", (-0.03, -0.03, -0.03), (0.03, 0.03, 0.03), joint_m)
     side = {s: (LIMB_SIDE if s in NEAR else -LIMB_SIDE if s in FAR else 0.0) for s in range(body.N_SEGMENTS)}
     for name, seg, end in JOINTS:
-        node = g.node(name, cube, parent=figure)
+        node = g.node(f"{prefix}{name}", cube, parent=figure)
         xz = _held(d["ends"][:, seg, end])
-        animate(node, "translation", np.stack([xz[:, 0], xz[:, 1], np.full(len(t), side[seg])], -1), "VEC3")
-    bone = g.box_mesh("segment", (-0.025, 0.0, -0.025), (0.025, 1.0, 0.025), body_m)
+        animate(node, "translation", np.stack([xz[:, 0], xz[:, 1], np.full(count, side[seg])], -1), "VEC3")
+    if bone is None:
+        bone = g.box_mesh("segment", (-0.025, 0.0, -0.025), (0.025, 1.0, 0.025), body_m)
     for seg, name in enumerate(body.SEGMENTS):
-        node = g.node(f"segment: {name}", bone, parent=figure)
+        node = g.node(f"{prefix}segment: {name}", bone, parent=figure)
         a, b = _held(d["ends"][:, seg, 0]), _held(d["ends"][:, seg, 1])
         dx, dz = b[:, 0] - a[:, 0], b[:, 1] - a[:, 1]
         length = np.maximum(np.hypot(dx, dz), 1e-4)
         theta = np.arctan2(-dx, dz)   # turns +Y onto the segment's direction about Z
-        animate(node, "translation", np.stack([a[:, 0], a[:, 1], np.full(len(t), side[seg])], -1), "VEC3")
-        animate(node, "rotation", np.stack([np.zeros(len(t)), np.zeros(len(t)), np.sin(theta / 2),
+        animate(node, "translation", np.stack([a[:, 0], a[:, 1], np.full(count, side[seg])], -1), "VEC3")
+        animate(node, "rotation", np.stack([np.zeros(count), np.zeros(count), np.sin(theta / 2),
                                             np.cos(theta / 2)], -1), "VEC4")
-        animate(node, "scale", np.stack([np.ones(len(t)), length, np.ones(len(t))], -1), "VEC3")
-    g.doc["animations"].append({"name": "beat", "channels": channels, "samplers": samplers})
-    Path(path).write_bytes(g.glb())
+        animate(node, "scale", np.stack([np.ones(count), length, np.ones(count)], -1), "VEC3")
+    return cube, bone
 
 
 def beat_times(scene, fps: float, t_from: float | None, t_to: float | None) -> np.ndarray:
