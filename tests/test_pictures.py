@@ -26,9 +26,10 @@ from tests.conftest import REPO, SCENES
 
 # Texts that must never cover one another: the panels and the labels that are placed.
 PLACED = {"readout", "banner", "legend", "timeline", "caution", "message", "structures", "jump", "failure",
-          "drift", "rigging"}
-WORLD_LABELS = {"structures", "jump", "failure", "drift", "rigging"}   # placed in the views: they keep off the figure
-BOXED = {"readout", "banner", "legend", "caution", "message", "failure", "drift", "rigging"}  # on a background box
+          "drift", "rigging", "names"}
+# Placed in the views: they keep off the figure (two performers' name labels too).
+WORLD_LABELS = {"structures", "jump", "failure", "drift", "rigging", "names"}
+BOXED = {"readout", "banner", "legend", "caution", "message", "failure", "drift", "rigging", "names"}  # on a box
 
 
 @pytest.fixture(scope="module")
