@@ -319,11 +319,11 @@ def ladder_text(scene, ladder: dict) -> str:
             value = row["margins"][w]
             cells.append("-" if value is None else factor_value(value, unit, system))
         bound = row.get("uniform_air_verdict")
-        lines.append(f"{row['rung']:<5}{show(row['speed_ms'], 'speed', system, '.1f'):>12}  {row['verdict']:<9}"
-                     + "".join(f"{c:>16}" for c in cells)
-                     + "".join(f"  {row['performers'][n]:<11}" for n in names)
-                     + (f"  {row['first_failure']}" if row["first_failure"] else "")
-                     + (f"  free stream: {bound}" if bound else "")).rstrip()
+        lines.append((f"{row['rung']:<5}{show(row['speed_ms'], 'speed', system, '.1f'):>12}  {row['verdict']:<9}"
+                      + "".join(f"{c:>16}" for c in cells)
+                      + "".join(f"  {row['performers'][n]:<11}" for n in names)
+                      + (f"  {row['first_failure']}" if row["first_failure"] else "")
+                      + (f"  free stream: {bound}" if bound else "")).rstrip())
     lines.append("required: " + ", ".join(f"{w} {factor_value(getattr(scene.safety, f), u, system, False)}"
                                           for _, f, w, u in FACTORS_WORDS))
     short = ladder["first_rung_short"]

@@ -105,17 +105,29 @@ def key_numbers(scene) -> list[tuple[str, str]]:
     if flow is not None:
         wind += (f"; air over the roof on ({flow.lead_front} lead front, 1/{flow.power:g} power-law layer, "
                  f"{length(flow.gap_thickness)} added at each gap)")
-    p = scene.performer
+    people = [(part.name if scene.pair else "performer", performer_words(part, system, scene.pair))
+              for part in scene.performers]
+    return [("scene", scene.title), ("consist", cars), ("speed", profile), ("wind", wind),
+            ("air density", f"{scene.air.density:.3f} kg/m³"), *people,
+            ("required", required_words(_required(scene), system))]
+
+
+def performer_words(part, system: str, pair: bool = False) -> str:
+    """One performer's body in words; with two performers where it starts and which way it faces too."""
+    length = lambda v: display(v, "length", system)  # noqa: E731
+    p = part.performer
     performer = f"{length(p.stature)}, {display(p.mass, 'mass', system, '.0f')}, {p.body_model} body"
-    if scene.start_y:
-        performer += (f", starts {length(abs(scene.start_y))} {'left' if scene.start_y > 0 else 'right'} of the "
+    if pair:
+        car = part.cars[part.start_car]
+        performer += (f", starts on {car.name} {length(part.start_x - car.rear_x)} from its rear end, facing the "
+                      f"{'front' if p.facing > 0 else 'rear'}")
+    if part.start_y:
+        performer += (f", starts {length(abs(part.start_y))} {'left' if part.start_y > 0 else 'right'} of the "
                       "roof's centreline")
     if p.drag_area:
         area, unit = to_display(p.drag_area, "area", system)
         performer += f", standing drag area {area:.2f} {unit}"
-    return [("scene", scene.title), ("consist", cars), ("speed", profile), ("wind", wind),
-            ("air density", f"{scene.air.density:.3f} kg/m³"), ("performer", performer),
-            ("required", required_words(_required(scene), system))]
+    return performer
 
 
 def direction_words(angle: float) -> str:
@@ -147,6 +159,9 @@ def brief_content(scene, playback, sweep_summary) -> dict:
         "apparent_wind_whole_beat_ms": s.get("apparent_wind_whole_beat_ms", peak),
         "envelope": sweep_summary, "checklist": CHECKLIST, "caution": CAUTION, "sign_off": SIGN_OFF,
         "rigging": s.get("rigging", []),
+        **({"performers": [{k: p.get(k) for k in ("name", "verdict", "first_failure", "actions", "aftermath")}
+                           for p in s["performers"]],
+            "interactions": s.get("interactions", [])} if s.get("performers") else {}),
     }
 
 
@@ -155,10 +170,28 @@ def _limit_value(value: float, unit: str, system: str) -> str:
     return display(value, "force", system, ".0f") if unit == "N" else display(value, "length", system, ".2f")
 
 
+def focus(playback) -> int:
+    """Which performer (cast order) the key frames follow: the one whose failure comes first, else the one
+    with the worse verdict (the first on a tie); 0 for one performer."""
+    per = playback.summary.get("performers")
+    if not per:
+        return 0
+    first = playback.summary["first_failure"]
+    if first:
+        return [p["name"] for p in per].index(first["performer"])
+    order = ("holds", "marginal", "fails")
+    return max(range(len(per)), key=lambda k: (order.index(per[k]["verdict"]), -k))
+
+
+def focus_trajectory(playback):
+    return ((playback.trajectory,) + tuple(playback.trajectory.partners))[focus(playback)]
+
+
 def key_times(playback) -> list[tuple[str, float]]:
     """Two moments worth a picture: before and after the failure; in the air and landed; the
-    tightest overhead clearance and the hardest moment; or the hardest moment and the end."""
-    tr = playback.trajectory
+    tightest overhead clearance and the hardest moment; or the hardest moment and the end. With two
+    performers, of the one `focus` picks."""
+    tr = focus_trajectory(playback)
     duration = playback.scene.duration
     first = playback.summary["first_failure"]
     flying = np.nonzero(tr.field("mode") == Mode.FLIGHT)[0]
@@ -166,12 +199,14 @@ def key_times(playback) -> list[tuple[str, float]]:
     critical = ("highest grip demand", float(tr.times[int(np.nanargmax(np.where(np.isfinite(demand), demand, -1)))]))
     if first:
         before = ("just before the failure", max(0.0, first["time_s"] - 0.5))
-        over = next((e for e in playback.summary["events"] if e["kind"] == "off the side"), None)
+        over = next((e for e in playback.summary["events"] if e["kind"] == "off the side"
+                     and e.get("performer") == first.get("performer")), None)
         if over is not None and over is not first:
             # A slip or topple that ends over the side edge: show it going over.
             return [before, (f"{first['kind']} at {first['time_s']:.2f} s, then off the {over['side']} side at "
                              f"{over['time_s']:.2f} s", min(duration, over["time_s"] + 0.25))]
-        return [before, (f"{first['kind']} at {first['time_s']:.2f} s, and after", min(duration, first["time_s"] + 0.4))]
+        return [before, (f"{first['kind']} at {first['time_s']:.2f} s, and after",
+                         min(duration, first["time_s"] + 0.4))]
     if flying.size:
         return [("in the air", float(tr.times[flying[len(flying) // 2]])),
                 ("landed", float(tr.times[min(flying[-1] + 12, tr.times.size - 1)]))]
@@ -191,10 +226,11 @@ def deciding_view(playback) -> str:
     if first:
         across = first.get("side") is not None
     else:
-        across = _tightest_is_across(playback.scene, summary, _grip_mostly_across(playback.trajectory))
+        across = _tightest_is_across(playback.scene, summary, _grip_mostly_across(focus_trajectory(playback)))
     if across:
         return "end"
-    return "split" if any(a.kind == "jump" for a in playback.scene.actions) else "car"
+    jumps = any(a.kind == "jump" for part in playback.scene.performers for a in part.actions)
+    return "split" if jumps else "car"
 
 
 def _grip_mostly_across(tr) -> bool:
@@ -233,7 +269,7 @@ def frame_facts(playback, t: float) -> str:
     """What the readout would say at t, in one line beside a key frame."""
     from physics.aftermath import state_at
     from preview.panels import state_words
-    tr = playback.trajectory
+    tr = focus_trajectory(playback)
     units = playback.scene.units
     i = tr.index_at(t)
     f = lambda name: float(tr.record[name][i])  # noqa: E731
@@ -259,7 +295,8 @@ def frame_facts(playback, t: float) -> str:
     gap, over = tr.overhead_gap(i)
     if over is not None:
         parts.append(f"overhead clearance {display(gap, 'length', units, '+.2f')}")
-    return ", ".join(parts)
+    who = f"{tr.scene.name}: " if playback.scene.pair else ""
+    return who + ", ".join(parts)
 
 
 # --------------------------------------------------------------------- pages
@@ -354,18 +391,25 @@ def _page_one(page: Page, scene, content, sweep, sweep_summary):
         page.text(MARGIN_IN + 1.0, "\n".join(lines), BODY, linespacing=1.25)
         page.y -= ROW * len(lines) + 0.01
     page.rule()
+    if content.get("performers"):
+        _pair_block(page, scene, content)
+        page.rule()
     _actions_table(page, scene, content)
     page.rule()
     page.heading("what happens")
     first = content["first_failure"]
     if first:
-        where = f"on {first['car_name']}" if first["car_name"] else "off the roof"
-        start = " (at the very start: the beat cannot begin as written)" if first["time_s"] < 1e-6 else ""
-        page.para(f"First failure: {first['kind']} at {timecode(first['time_s'], scene.frame_rate)} "
-                  f"({first['time_s']:.2f} s){start} {where}: {first['detail']}.", BODY + 0.5, "bold")
+        who = f" ({first['performer']})" if first.get("performer") else ""
+        page.para(f"First failure{who}: {failure_sentence(first, scene)}.", BODY + 0.5, "bold")
         after = "; then ".join(phase_words(p, system) for p in content["aftermath"])
         if after:
-            page.para(f"After it (the plan stops; the body goes where the physics takes it): {after}.")
+            body = f"{first['performer']}'s body" if first.get("performer") else "the body"
+            page.para(f"After it (the plan stops; {body} goes where the physics takes it): {after}.")
+        for other in content.get("performers") or []:
+            if other["name"] != first.get("performer") and other.get("aftermath"):
+                then = "; then ".join(phase_words(p, system) for p in other["aftermath"])
+                page.para(f"After {other['name']}'s own first failure ({other['first_failure']['kind']} at "
+                          f"{other['first_failure']['time_s']:.2f} s): {then}.")
     else:
         page.para("No failure in the simulated beat.", BODY + 0.5, "bold")
     wind_line = apparent_wind_line(content, system)
@@ -388,7 +432,8 @@ def _page_one(page: Page, scene, content, sweep, sweep_summary):
         if note:
             page.para(note[0].upper() + note[1:] + ".", BODY, "bold")
         for limit in env["limits"]:
-            page.para(("Top speed with the air over the roof on: " if bound else "Top speed: ")
+            worse = f" ({env['margins_are']})" if env.get("margins_are") else ""
+            page.para(("Top speed with the air over the roof on" if bound else "Top speed") + worse + ": "
                       + limit_words("speed", limit, env["range"], system, env["limits"]) + ".",
                       BODY + 0.5, "bold" if limit is env["limits"][0] and not bound else "normal")
         if any(a.kind in ("duck", "prone") for a in scene.actions) and scene.structures:
@@ -406,8 +451,8 @@ def _page_one(page: Page, scene, content, sweep, sweep_summary):
         page.para(f"Duck: {words}.", BODY + 0.5, "bold")
     others = [e for e in content["events"] if e["failure"] and e != content["first_failure"]]
     if others:
-        page.para("Also failed: " + "; ".join(f"{e['kind']} at {e['time_s']:.2f} s ({e['detail']})" for e in others)
-                  + ".", BODY, "bold", color=FAIL_INK)
+        page.para("Also failed: " + "; ".join(f"{_who(e)}{e['kind']} at {e['time_s']:.2f} s ({e['detail']})"
+                                              for e in others) + ".", BODY, "bold", color=FAIL_INK)
     overs = [f"{t['name']}: {lim['what']} {_limit_value(lim['value'], lim['unit'], system)} over its limit "
              f"{_limit_value(lim['limit'], lim['unit'], system)}"
              for t in content.get("rigging") or [] for lim in t["limits"] if not lim["within"]]
@@ -416,7 +461,7 @@ def _page_one(page: Page, scene, content, sweep, sweep_summary):
                   "bold", color=FAIL_INK)
     facts = [e for e in content["events"] if not e["failure"]]
     if facts:
-        page.para("Facts of the beat: " + "; ".join(f"{e['kind']} at {e['time_s']:.2f} s"
+        page.para("Facts of the beat: " + "; ".join(f"{_who(e)}{e['kind']} at {e['time_s']:.2f} s"
                                                    + (f" ({e['detail']})" if e["kind"] == "recovery step" else "")
                                                    for e in facts) + ".")
     off = "" if scene.air.roof_flow is not None else ("the air over the roof (off in this scene: the free stream "
@@ -432,10 +477,64 @@ def _page_one(page: Page, scene, content, sweep, sweep_summary):
             _envelope(page, scene, sweep, sweep_summary, min(room, 2.8))
             sweep = None
             page.rule()
+    if page.y - CLOSING_DRAWN_IN < FOOTER_CLEAR_IN:
+        # No room left for the checklist and the sign-off (two performers fill the page): the caution stays
+        # here, they go on a page of their own right after this one.
+        page.heading("caution")
+        page.para(CAUTION)
+        page.para("The crew checklist and the sign-off lines are on the next page.", BODY, "bold")
+        content["closing_page"] = 2
+        return sweep
     _closing(page, content)
     return sweep
 
 
+def _who(row: dict) -> str:
+    """'Eli: ' before an event of one of two performers; '' for one performer."""
+    return f"{row['performer']}: " if row.get("performer") else ""
+
+
+def failure_sentence(first: dict, scene) -> str:
+    where = f"on {first['car_name']}" if first["car_name"] else "off the roof"
+    start = " (at the very start: the beat cannot begin as written)" if first["time_s"] < 1e-6 else ""
+    return (f"{first['kind']} at {timecode(first['time_s'], scene.frame_rate)} ({first['time_s']:.2f} s){start} "
+            f"{where}: {first['detail']}")
+
+
+def _pair_block(page: Page, scene, content) -> None:
+    """Two performers: each one's verdict and first failure, and what each interaction did."""
+    from preview.report import interaction_rows, pair_verdicts
+    per = content["performers"]
+    page.heading(f"two performers: the beat is the worse of {pair_verdicts(per)}")
+    for p in per:
+        first = p["first_failure"]
+        page.para(f"{p['name']}: {p['verdict'].upper()}. First failure: "
+                  + (failure_sentence(first, scene) if first else "none") + ".", BODY + 0.5, "bold")
+    page.y -= 0.04
+    page.heading("interactions: who did what to whom")
+    rows = interaction_rows(content.get("interactions", []), scene.units)
+    if not rows:
+        page.para("None: the two performers do not act on each other in this scene.")
+        return
+    heads = [("who", 0.0), ("did", 0.9), ("to whom", 1.45), ("time (s)", 2.35), ("reached", 3.0),
+             ("peak force", 4.1), ("impulse", 4.85), ("a hold", 5.6)]
+    for head, x in heads:
+        page.text(MARGIN_IN + x, head, BODY - 1.5, "bold")
+    page.y -= ROW
+    for r in rows:
+        cells = [r["who"], r["did"], r["to"], r["time"], r["reached"], r["peak"], r["impulse"], r["hold"]]
+        let_go = r["hold"].startswith("LET GO")
+        for (head, x), cell in zip(heads, cells):
+            if head == "a hold":
+                cell = fitted(cell, BODY, page.w - 2 * MARGIN_IN - x)
+            page.text(MARGIN_IN + x, cell, BODY, "bold" if let_go and head == "a hold" else "normal")
+        page.y -= ROW
+    page.para("Peak force: the largest force between the hands and the partner; impulse: that force over the time it "
+              "acted. A hold lets go when the pull on it passes its breaking force.", BODY - 1, color=SOFT)
+
+
+CLOSING_DRAWN_IN = 2.75   # in the closing takes as drawn (measured: 2.38 in of cursor and the last sign-off line)
+FOOTER_CLEAR_IN = 0.45    # in from the bottom the page's text must stay above (the footer is at 0.3 in)
 CLOSING_IN = 3.0    # in: the checklist, the caution and the sign-off lines
 MIN_PLOT_IN = 1.9   # in: the envelope plot goes on a page of its own rather than smaller than this
 
@@ -495,7 +594,13 @@ def _actions_table(page: Page, scene, content) -> None:
     length = lambda v: "-" if v is None else f"{floor_to(to_display(v, 'length', system)[0]):.2f}"  # noqa: E731
     ratio = lambda v: "-" if v is None else f"{floor_to(v):.2f}"  # noqa: E731
     length3 = lambda v: "-" if v is None else f"{floor_to(to_display(v, 'length', system)[0], 3):+.3f}"  # noqa: E731
+    whose = None
+    verdicts = {p["name"]: p["verdict"] for p in content.get("performers") or []}
     for a in content["actions"]:
+        if a.get("performer") and a["performer"] != whose:
+            whose = a["performer"]
+            page.text(MARGIN_IN, f"{whose}'s actions ({verdicts.get(whose, '').upper()})", BODY, "bold")
+            page.y -= ROW
         name = a["name"] if len(a["name"]) <= 20 else a["name"][:19] + "…"
         cells = [name, f"{a['start_s']:.1f}-{a['end_s']:.1f}"]
         if not a["assessed"]:
@@ -533,8 +638,9 @@ def _page_two(page: Page, scene, content, playback) -> None:
         page.para(frame_facts(playback, t), BODY, gap=0.06)
         ax = page.fig.add_axes((page.fx(MARGIN_IN), page.fy(page.y - height_in), page.fx(width_in),
                                 page.fy(height_in)))
+        follow = {"follow": focus(playback)} if "follow" in ViewSettings.__dataclass_fields__ else {}
         draw_frame(FigureCanvas(ax, KEY_FRAME_SIZE), playback, min(t, scene.duration),
-                   ViewSettings(frame=frame, zoom=1.6, readout=False, text_boost=KEY_FRAME_BOOST))
+                   ViewSettings(frame=frame, zoom=1.6, readout=False, text_boost=KEY_FRAME_BOOST, **follow))
         page.y -= height_in + 0.2
 
 
@@ -551,7 +657,8 @@ def _page_ladder(page: Page, scene, content, ladder) -> None:
     if ladder is None:
         page.para("No ladder: the consist does not move in this scene.", BODY + 1, "bold")
         return
-    page.heading("abort limits: stop the rehearsal above these")
+    worse = f" ({ladder['margins_are']})" if ladder.get("margins_are") else ""
+    page.heading("abort limits: stop the rehearsal above these" + worse)
     limits = ladder["abort_limits"]
     for name, head in (("speed", "TOP SPEED"),
                        ("wind_speed", f"AMBIENT WIND from {limits['wind_from_deg']:.0f}°, at the planned speed")):
@@ -586,7 +693,8 @@ def _page_ladder(page: Page, scene, content, ladder) -> None:
         note = ladder["scaling_note"]
         page.para(note[0].upper() + note[1:] + ".", BODY + 0.5, "bold")
     page.rule()
-    page.heading("rungs: build up from walking pace; margins are the worst over the beat")
+    page.heading("rungs: build up from walking pace; margins are the worst over the beat"
+                 + (f", the {ladder['margins_are']}" if worse else ""))
     heads = [("rung", 0.0), ("speed", 0.45), ("verdict", 1.3)] + [(w, 2.1 + 0.86 * i) for i, (_, _, w, _)
                                                                       in enumerate(FACTORS)]
     short_words = {"grip ratio": "grip ratio", "balance margin": "balance", "lift ratio": "lift ratio",
@@ -607,6 +715,10 @@ def _page_ladder(page: Page, scene, content, ladder) -> None:
         page.para("With the air over the roof off (the free stream at every height, the bound) the rungs read: "
                   + "; ".join(f"{row['rung']} {row['uniform_air_verdict'].upper()}" for row in ladder["rungs"])
                   + ".", BODY, "bold")
+    if worse:
+        page.para("Each one's own verdict: " + "; ".join(
+            f"rung {row['rung']} " + ", ".join(f"{n} {v.upper()}" for n, v in row["performers"].items())
+            for row in ladder["rungs"]) + ".", BODY)
     first = ladder["first_rung_short"]
     page.para("Every rung holds with the required factors." if first is None else
               f"First rung short of the factors: rung {first} "
@@ -626,6 +738,10 @@ def _rigging_table(page: Page, scene, content) -> None:
     from preview.report import rigging_rows
     page.rule()
     rigging = content.get("rigging") or []
+    if not rigging and scene.pair:
+        page.para("Rigging: roofbeat models tethers for one performer only; a scene with two performers has none "
+                  "here. The rigger's own calculation governs.", BODY, "bold")
+        return
     if not rigging:
         page.para("Rigging: this scene has no [[rigging]]; tethers, running lines and their limits are checked "
                   "when the scene gives them. The rigger's own calculation governs.", BODY, "bold")
@@ -680,8 +796,16 @@ def write_brief(scene, out: Path, paper: str = "a4") -> dict:
     out = Path(out)
     try:
         left_over = _page_one(pages[0], scene, content, sweep, sweep_summary)
+        if content.get("closing_page"):
+            pages.append(Page(plt, paper, content))
+            _header(pages[-1], scene, content, "safety meeting brief, continued: checklist and sign-off")
+            if left_over is not None:   # the envelope's plot has room here
+                _envelope(pages[-1], scene, left_over, sweep_summary, 3.2)
+                pages[-1].rule()
+                left_over = None
+            _closing(pages[-1], content)
         pages.append(Page(plt, paper, content))
-        _page_two(pages[1], scene, content, playback)
+        _page_two(pages[-1], scene, content, playback)
         if left_over is not None:
             pages.append(Page(plt, paper, content))
             _header(pages[-1], scene, content, "speed envelope")
