@@ -146,4 +146,6 @@ def without_roof_air(scene):
     """The same scene with the air over the roof off: the free stream at every height, the bound the
     profile's soft coefficients relax."""
     import dataclasses
-    return dataclasses.replace(scene, air=dataclasses.replace(scene.air, roof_flow=None))
+    air = dataclasses.replace(scene.air, roof_flow=None)
+    cast = tuple(dataclasses.replace(part, air=air) for part in scene.cast)
+    return dataclasses.replace(scene, air=air, cast=cast)

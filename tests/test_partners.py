@@ -162,13 +162,14 @@ def test_a_pulled_punch_reaches_no_one_and_a_contact_punch_gives_its_impulse():
 
 def test_a_hold_lets_go_at_its_breaking_force_and_the_event_names_it_on_both():
     text = HEAD.format(speed=0) + performer("Ivo", 8, [
-        {"do": "grab", "partner": "Jo", "breaking_force": "100 N", "duration": "1 s", "transition": "0 s"},
-        {"do": "stand", "duration": "2 s"}]) + performer("Jo", 7.4, [
+        {"do": "grab", "partner": "Jo", "breaking_force": "100 N", "duration": "2 s", "transition": "0 s"},
+        {"do": "stand", "duration": "1 s"}]) + performer("Jo", 7.4, [
             {"do": "stand", "duration": "0.5 s", "transition": "0 s"},
-            {"do": "walk", "speed": "1.5 m/s", "toward": "rear", "duration": "2.5 s"}])
+            {"do": "walk", "speed": "1.5 m/s", "toward": "front", "duration": "2.5 s"}])
     ivo = simulate(parse_scene(text, "hold.toml"))
     link = ivo.links[0]
-    assert math.isfinite(link["lost"]) and 0.5 < link["lost"] < 1.0
+    # Jo's start to walk (0.5-1 s) is a deliberate move the hold follows; walking off loads it.
+    assert math.isfinite(link["lost"]) and 1.0 <= link["lost"] < 1.5
     assert link["peak"] > 100.0
     for tr in (ivo, ivo.partners[0]):
         assert float(tr.events[Event.HOLD_LOST]["time"]) == pytest.approx(float(link["lost"]))

@@ -24,7 +24,7 @@ from physics.records import Event, Mode
 @apart
 def flight_iteration(v, inputs, env, state, act, out, touch):
     """Assess and record the body in the air at t_k, then one RK4 step with touchdown inside it; touch: the
-    other performer's force on the body (partners.Touch), held over the step."""
+    other performer's force on the body (partners.Touch; None alone), held over the step."""
     fl = state.flight
     beat = state.beat
     if beat.leaves_now:
@@ -51,7 +51,10 @@ def flight_iteration(v, inputs, env, state, act, out, touch):
         watch_tethers(v, inputs, env, True, fl.x, fl.y, fl.z, fl.vx, fl.vy, fl.vz, out)
     if beat.mode == Mode.GONE or env.last:
         return State(beat, state.slide, state.balance, fl, state.frontal)
-    push = (touch.fx / v.mass, touch.fy / v.mass, touch.fz / v.mass)
+    if touch is None:
+        push = (0.0, 0.0, 0.0)
+    else:
+        push = (touch.fx / v.mass, touch.fy / v.mass, touch.fz / v.mass)
     if inputs.tethers.shape[0] > 0:
         new = rk4_tethered(fl, posture, env.speed, env.next_speed, env.accel, env.body.ground_y, env.wind_x,
                            env.wind_y, v.drag, v.mass, v.dt, inputs.tethers, tout, flow, push)

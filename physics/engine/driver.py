@@ -22,7 +22,7 @@ from physics.engine.frontal import level
 from physics.engine.jit import entry, kernel, small
 from physics.engine.on_roof import roof_iteration
 from physics.engine.outcome import note_event
-from physics.engine.partners import hands_of, links_between, no_touch, touch_on
+from physics.engine.partners import hands_of, links_between, touch_on
 from physics.engine.recording import record_flight
 from physics.engine.roof_air import uniform_flow
 from physics.engine.sliding import Slide
@@ -104,7 +104,8 @@ def variant(p, roof_scale, inputs, b, dt, scratch):
 @kernel
 def advance(v, inputs, env, state, plan, act, out, touch):
     """One step of one body from t_k to t_(k+1): on the roof, then in the air if it is (or goes) there;
-    touch: the other performer's force on it (partners.Touch)."""
+    touch: the other performer's force on it (partners.Touch; None for a performer alone, so that kernel
+    carries none of it)."""
     beat = state.beat
     if beat.mode == Mode.GONE:
         if out.recording:
@@ -136,7 +137,6 @@ def run_variants(params, roof_scale, inputs, first, last, events, outcomes, reco
     steps = inputs.steps
     n = steps.shape[0]
     dt = steps[1].time - steps[0].time
-    alone = no_touch()
     for b in range(first, last):
         p = params[b]
         out = Outputs(events, outcomes, record, record.shape[0] > 0 and b == first, tether_out)
@@ -148,12 +148,12 @@ def run_variants(params, roof_scale, inputs, first, last, events, outcomes, reco
             env, tb = environment(p, inputs.track, step, steps[min(k + 1, n - 1)], tb, k, k == n - 1)
             act = step.action
             state, plan = planned(inputs, state, step, act)
-            state = advance(v, inputs, env, state, plan, act, out, alone)
+            state = advance(v, inputs, env, state, plan, act, out, None)
 
 
 @kernel
 def hands_now(inputs, state, plan):
-    return hands_of(inputs, state, plan.row, plan.gait_speed, plan.gait_speed_y)
+    return hands_of(inputs, state, plan.row, plan.gait_speed, plan.gait_speed_y, plan.settling)
 
 
 @small

@@ -13,8 +13,9 @@ load; in the air at the centre of mass (a rigid posture has no turning dynamics 
   pulse of its peak force over the action, or a steady force ramped in and out; away from the actor
   (a pull: toward), horizontally from shoulders to shoulders unless a fixed direction is given, and
   tilted up by its angle.
-- A hold (a grab) closes the first time the partner is within reach during the action and keeps the
-  length it closed at: slack closer in, a spring-damper beyond it (tension k x + c x', c = 2 zeta
+- A hold (a grab) closes the first time the partner is within reach during the action. During a
+  deliberate change of posture with both planted it follows unloaded; otherwise it keeps the length
+  it had: slack closer in, a spring-damper beyond it (tension k x + c x', c = 2 zeta
   sqrt(k mu) with the two bodies' reduced mass mu), never pushing.
 - A catch closes on a partner in the air within reach and takes pushes as well as pulls (the arms
   take the flyer's momentum).
@@ -41,25 +42,22 @@ Touch = namedtuple("Touch", "on fx fy fz px pz")
 
 # Where a body's hands act and take hold at t_k: whether the body can be touched (not out of the run),
 # the point (car frame, m) and its velocity relative to the roof (m/s), that point in the posture's
-# frame (m from the pivot, before the lean; 0 in the air), and whether the body is in the air.
-Hands = namedtuple("Hands", "ok x y z vx vy vz px pz airborne")
-
-
-@small
-def no_touch():
-    return Touch(False, 0.0, 0.0, 0.0, 0.0, 0.0)
+# frame (m from the pivot, before the lean; 0 in the air), whether the body is in the air, planted on
+# the roof, and in a deliberate change of posture.
+Hands = namedtuple("Hands", "ok x y z vx vy vz px pz airborne planted settling")
 
 
 @kernel
-def hands_of(inputs, state, row, gait_v, gait_vy):
+def hands_of(inputs, state, row, gait_v, gait_vy, settling):
     """Where the body's shoulders (on the roof) or centre of mass (in the air) are at t_k, and how fast
-    they move; row: the posture row on the roof; gait_v, gait_vy: the commanded gait (m/s)."""
+    they move; row: the posture row on the roof; gait_v, gait_vy: the commanded gait (m/s); settling: a
+    deliberate change of posture under way."""
     mode = state.beat.mode
     if mode == Mode.GONE:
-        return Hands(False, 0.0, 0.0, 0.0, 0.0, 0.0, 0.0, 0.0, 0.0, False)
+        return Hands(False, 0.0, 0.0, 0.0, 0.0, 0.0, 0.0, 0.0, 0.0, False, False, False)
     if mode == Mode.FLIGHT:
         fl = state.flight
-        return Hands(not fl.fallen, fl.x, fl.y, fl.z, fl.vx, fl.vy, fl.vz, 0.0, 0.0, True)
+        return Hands(not fl.fallen, fl.x, fl.y, fl.z, fl.vx, fl.vy, fl.vz, 0.0, 0.0, True, False, False)
     posture = inputs.postures[row]
     px, pz = posture.ends[TRUNK, 1, 0], posture.ends[TRUNK, 1, 1]
     bal, slide = state.balance, state.slide
@@ -70,7 +68,9 @@ def hands_of(inputs, state, row, gait_v, gait_vy):
     walking = mode == Mode.PLANTED and not bal.lying
     vx = slide.u + (gait_v if walking else 0.0) + bal.rate * rz
     vy = slide.w + (gait_vy if walking else 0.0)
-    return Hands(True, slide.x + rx, slide.y, z0 + rz, vx, vy, -bal.rate * rx, px, pz, False)
+    planted = mode == Mode.PLANTED and not bal.lying
+    return Hands(True, slide.x + rx, slide.y, z0 + rz, vx, vy, -bal.rate * rx, px, pz, False, planted,
+                 planted and settling)
 
 
 @small
@@ -115,6 +115,11 @@ def link_force(link, lout, t, actor, partner, mass_a, mass_p):
         lout.engaged = t
         lout.rest = dist
     if dist < 1e-9:
+        return 0.0, 0.0, 0.0, False
+    if actor.planted and partner.planted and (actor.settling or partner.settling):
+        # A deliberate change of posture (a rise, a crouch) with both planted: the hold follows it
+        # unloaded; it is loaded by the bodies moving apart otherwise (a slide, a fall, a step away).
+        lout.rest = dist
         return 0.0, 0.0, 0.0, False
     ux, uy, uz = dx / dist, dy / dist, dz / dist
     rate = ux * (partner.vx - actor.vx) + uy * (partner.vy - actor.vy) + uz * (partner.vz - actor.vz)

@@ -126,7 +126,7 @@ def touched(air, touch, c, s):
 @kernel
 def planted_load(posture, bal, wx, wy, mass, frame_accel, drag, g, flow, touch):
     """Loads on `posture` leaned by bal.lean in the apparent wind (wx, wy) (m/s) of the air over the roof
-    `flow`, with the other performer's force `touch` (partners.Touch).
+    `flow`, with the other performer's force `touch` (partners.Touch; None alone).
 
     frame_accel: the acceleration of the contact's frame along the track (the
     consist's plus the slide's), m/s^2, which gives the pseudo-force; g: gravity
@@ -135,7 +135,11 @@ def planted_load(posture, bal, wx, wy, mass, frame_accel, drag, g, flow, touch):
     c = math.cos(bal.lean)
     s = math.sin(bal.lean)
     wind = air_load(posture, c, s, wx, wy, 0.0, drag, flow)
-    air = touched(wind, touch, c, s) if touch.on else wind
+    air = wind
+    if touch is not None:
+        # (None for one performer: numba drops this branch from that kernel.)
+        if touch.on:
+            air = touched(wind, touch, c, s)
     cx, cz = rotate(posture.com_x, posture.com_z, c, s)
     weight = mass * g
     pseudo = -mass * frame_accel

@@ -147,6 +147,51 @@ def bench_batch_roof_air(n=20_000):
           f"off {rates['off'] / 1e6:.2f}: on/off = {rates['on'] / rates['off']:.2f}")
 
 
+def bench_batch_pair(n=10_000):
+    """A two-performer beat (a steady push between them through the whole beat) beside the same beat with
+    one performer, this run: performer-steps per second per core of each."""
+    s1 = scene()
+    text = scene_text(speed="60 km/h", body="segmented", actions=TWENTY_SECONDS, wind="4 m/s")
+    head = text[:text.index("[performer]")]
+    pair = head + """
+[[performers]]
+name = "A"
+stature = "1.8 m"
+mass = "80 kg"
+recovery_step = "0.5 m"
+start = { car = 1, position = "10 m" }
+[[performers.actions]]
+do = "brace"
+duration = "20 s"
+transition = "0 s"
+[[performers]]
+name = "B"
+stature = "1.7 m"
+mass = "70 kg"
+facing = "rear"
+recovery_step = "0.5 m"
+start = { car = 1, position = "10.6 m" }
+[[performers.actions]]
+do = "shove"
+partner = "A"
+shape = "steady"
+force = "40 N"
+posture = "brace"
+duration = "20 s"
+transition = "0 s"
+"""
+    s2 = parse_scene(pair, "<bench pair>")
+    rates = {}
+    for name, sc, per in (("one", s1, 1), ("two", s2, 2)):
+        v = variants(sc, n)
+        v.params["speed_scale"] = np.linspace(0.5, 1.5, n)
+        simulate_batch(sc, v.row(0))
+        t = best_of(lambda: simulate_batch(sc, v), repeats=2)
+        rates[name] = per * n * (int(round(sc.duration / sc.step)) + 1) / t / _threads()
+    print(f"batch of two performers: {rates['two'] / 1e6:.2f} M performer-steps/s per core, one performer "
+          f"{rates['one'] / 1e6:.2f}: two/one = {rates['two'] / rates['one']:.2f}")
+
+
 def lean_rhs(mass, height, inertia, drag, lo, hi, kp, kd, theta_ref):
     weight = mass * G
 
@@ -181,4 +226,5 @@ if __name__ == "__main__":
     bench_single()
     per_variant = bench_batch()
     bench_batch_roof_air()
+    bench_batch_pair()
     bench_peer(per_variant)
