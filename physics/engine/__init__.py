@@ -10,7 +10,9 @@
 - `overhead`: structures and line exclusion zones.
 - `outcome`: events and per-action margins as they are written.
 - `beat_state`, `recording`, `on_roof`, `airborne`: the step's pieces.
-- `driver`: the step loop and its one entry point, `run_variants`.
+- `partners`: the forces between two performers (pushes, holds, catches).
+- `driver`: the step loop and its entry points, `run_variants` (one performer) and `run_pairs`
+  (two).
 
 Every record and code that crosses into or out of the kernel is named in
 physics.records.

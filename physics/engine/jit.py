@@ -137,7 +137,7 @@ def small(fn):
 
 
 def entry(fn):
-    """The engine's one entry point from Python: compiled once, cached on disk, releases the GIL."""
+    """An entry point of the engine from Python: compiled once, cached on disk, releases the GIL."""
     _functions.append((sys.modules[fn.__module__], fn.__name__, fn))
     if _numba is None:
         return fn
