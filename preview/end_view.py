@@ -81,7 +81,7 @@ class EndCamera:
 
     def turned(self, tilt: float) -> "EndCamera":
         """This camera for axes turned by `tilt` (rad, + left side low): the track's, the car body's."""
-        return replace(self, tilt=tilt)
+        return self if tilt == self.tilt else replace(self, tilt=tilt)
 
 
 def camera(tr, t: float, size, region: Box, zoom: float = DEFAULT_ZOOM, follow=None) -> EndCamera:

@@ -86,8 +86,24 @@ def _boost(view) -> int:
     return getattr(view, "text_boost", 0) if view is not None else 0
 
 
+_STRIPS: dict = {}   # legend_strip by (size, view, units, scene): a frame asks for it several times
+
+
 def legend_strip(size, view, units: str, scene=None) -> int:
-    return legend_layout(size, legend_rows(view, units, None, scene), text_size(size, _boost(view)) - 1)[2] + 4
+    try:
+        key = (tuple(size), view, units, id(scene))
+        hash(key)
+    except TypeError:
+        key = None
+    found = _STRIPS.get(key) if key is not None else None
+    if found is not None and found[0] is scene:
+        return found[1]
+    value = legend_layout(size, legend_rows(view, units, None, scene), text_size(size, _boost(view)) - 1)[2] + 4
+    if key is not None:
+        if len(_STRIPS) > 64:
+            _STRIPS.clear()
+        _STRIPS[key] = (scene, value)
+    return value
 
 
 def legend_shown(size, view, units: str, scene=None) -> bool:

@@ -64,9 +64,24 @@ class PlanCamera:
 
 # ------------------------------------------------------------------ path
 
+_PATHS: dict = {}   # path_points by run (a frame asks for it many times)
+
+
 def path_points(tr) -> np.ndarray:
     """(T, 2) the body seen from above, car frame (m): the contact on the roof, the centre of mass in
-    the air; NaN on the ground or out of the run."""
+    the air; NaN on the ground or out of the run (read-only, remembered for the last few runs)."""
+    found = _PATHS.get(id(tr.record))
+    if found is not None and found[0] is tr.record:
+        return found[1]
+    if len(_PATHS) > 8:
+        _PATHS.clear()
+    pts = _path_points(tr)
+    pts.flags.writeable = False
+    _PATHS[id(tr.record)] = (tr.record, pts)
+    return pts
+
+
+def _path_points(tr) -> np.ndarray:
     rec = tr.record
     on = np.isfinite(rec["pivot_x"]) & np.isfinite(rec["pivot_y"])
     air = (rec["mode"] == Mode.FLIGHT) & np.isfinite(rec["flight_x"]) & np.isfinite(rec["flight_y"])
@@ -281,11 +296,17 @@ def draw_path(canvas, tr, i: int, cam: PlanCamera, tone: int = 0) -> None:
             seg = pts[a:b]
             if kind == ROOF:
                 step = max(1, seg.shape[0] // 800)
-                screen = [cam.to_screen(x, y) for x, y in seg[::step]] + [cam.to_screen(*seg[-1])]
-                canvas.polyline(screen, colour, width)
+                canvas.polyline(_screen_points(cam, np.vstack([seg[::step], seg[-1:]])), colour, width)
             else:
                 for x, y in seg[::dot_every]:
                     canvas.circle(cam.to_screen(x, y), 2 if colour == SOFT_INK else 3, colour)
+
+
+def _screen_points(cam: PlanCamera, xy: np.ndarray) -> list[tuple[float, float]]:
+    """PlanCamera.to_screen of many points (n, 2) at once, the same arithmetic."""
+    sx = cam.origin_x + (xy[:, 0] - cam.x_center) * cam.scale
+    sy = cam.origin_y - xy[:, 1] * cam.scale
+    return list(zip(sx.tolist(), sy.tolist()))
 
 
 def _y_near(tr, time: float, forward: bool) -> float:

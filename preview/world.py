@@ -74,7 +74,11 @@ def draw_view(canvas, playback, t: float, view, cam: Camera, layout, area: Box) 
         for one in cast:
             head = head_point(one.trajectory, i, cam)
             if head is not None:
-                name_label(canvas, layout, area, one, head)
+                # Also above the apparent wind arrow over the followed figure's head (kept clear of labels).
+                com = one.trajectory.com_path[i]
+                tops = ([cam.to_screen(float(com[0]), float(com[1]) + WIND_ABOVE)[1] - 8]
+                        if one.trajectory is tr and "wind" in view.vectors and np.isfinite(com).all() else [])
+                name_label(canvas, layout, area, one, head, tops=tops)
     draw_structure_labels(canvas, scene, cam, layout, area)
     if cam.frame == GROUND:
         draw_drift(canvas, tr, i, cam, layout, area)
@@ -156,9 +160,10 @@ def head_point(tr, i: int, cam) -> tuple[float, float] | None:
 NAME_REACH = 130.0   # px: a name label stands at most this far from its figure's head (else it is left out)
 
 
-def name_label(canvas, layout, area: Box, one: Performer, head, spots=None, leader=None) -> Box | None:
+def name_label(canvas, layout, area: Box, one: Performer, head, spots=None, leader=None, tops=()) -> Box | None:
     """The performer's name in its tone on a small panel just above its head (else beside it), or centred
-    on the first free one of `spots` (top-centre points), where it covers no other label; failing those,
+    on the first free one of `spots` (top-centre points) or just above one of the heights `tops` (px), where
+    it covers no other label; failing those,
     the free place nearest above the head within NAME_REACH, with a thin leader in its tone to the head
     (to the ring `leader` = (x, y, r) when given). Left out (None) when nothing near is free."""
     canvas.tag = "names"
@@ -167,11 +172,14 @@ def name_label(canvas, layout, area: Box, one: Performer, head, spots=None, lead
     w, h = w + 8, h + 4
     x, y = head
     if spots is None:
-        spots = [(x, y - h - 8), (x + 10 + w / 2, y - h - 4), (x - w / 2 - 10, y - h - 4)]
+        spots = [(x, y - h - 8), (x + 10 + w / 2, y - h - 4), (x - w / 2 - 10, y - h - 4)] + [
+            (x + dx, top - h) for top in tops for dx in (0.0, -w / 2 - 8)]
     box = next((b for b in (Box(sx - w / 2, sy, w, h) for sx, sy in spots) if b.inside(area) and layout.free(b)),
                None)
     if box is None:
-        box = layout.nearest_free(w, h, area, x - w / 2, y - h - 8, step=6.0)
+        near = Box(max(area.x, x - NAME_REACH), max(area.y, y - NAME_REACH), 0, 0)   # searched near the head only
+        near = Box(near.x, near.y, min(area.right, x + NAME_REACH) - near.x, min(area.bottom, y + NAME_REACH) - near.y)
+        box = layout.nearest_free(w, h, near, x - w / 2, y - h - 8, step=6.0) if near.w > w and near.h > h else None
         if box is None or math.hypot(box.x + w / 2 - x, box.bottom - y) > NAME_REACH:
             return None
         leader = leader or (x, y, 0.0)
