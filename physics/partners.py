@@ -34,7 +34,7 @@ import math
 
 import numpy as np
 
-from physics.records import LINK, LINK_OUT, LinkCode
+from physics.records import LINK, LinkCode
 
 SHOVE_FORCE = 450.0
 PULL_FORCE = 400.0
@@ -88,11 +88,6 @@ def link_table(scene) -> np.ndarray:
     return table
 
 
-def link_out_row(links: int) -> np.ndarray:
-    from physics.records import empty_link_out
-    return empty_link_out(1, links)[0]
-
-
 def interaction_summary(scene, link_out: np.ndarray) -> list[dict]:
     """What each interaction did (JSON-ready): who did what to whom, whether the hands reached, the
     peak force between them and the impulse given, and whether a hold let go."""
@@ -110,5 +105,3 @@ def interaction_summary(scene, link_out: np.ndarray) -> list[dict]:
         out.append(row)
     return out
 
-
-__all__ = ["LINK_OUT", "link_table", "interaction_summary", "default_reach", "punch_force"]

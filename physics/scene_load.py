@@ -405,11 +405,12 @@ def _interactions(raw: dict, r: _Reader, cast: tuple) -> tuple:
                                           f"{' or '.join(repr(n) for n in others)}")
                 continue
             partner = names.index(action.partner)
-            out.append(_interaction(item, path, r, action, actor, partner, scene.performer))
+            out.append(_interaction(item, path, r, action, index, actor, partner, scene.performer))
     return tuple(i for i in out if i is not None)
 
 
-def _interaction(item: dict, path: str, r: _Reader, action: Action, actor: int, partner: int, body) -> Interaction:
+def _interaction(item: dict, path: str, r: _Reader, action: Action, index: int, actor: int, partner: int,
+                 body) -> Interaction:
     kind = action.interaction
     pushes = kind in ("shove", "pull", "throw")
     for key in ("force", "shape", "direction", "up"):
@@ -457,7 +458,7 @@ def _interaction(item: dict, path: str, r: _Reader, action: Action, actor: int, 
                                       "contact = true for a contact punch")
     if None in (force, shape, direction, up, reach, breaking, stiffness, damping):
         return None
-    return Interaction(kind, actor, partner, 0, start, end, force, shape == "steady", direction, up, reach, breaking,
+    return Interaction(kind, actor, partner, index, start, end, force, shape == "steady", direction, up, reach, breaking,
                        stiffness, damping, impulse, contact)
 
 

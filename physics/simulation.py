@@ -428,8 +428,8 @@ PERFORMER_FIELDS = ("mass", "drag_scale", "reaction_time", "max_lean", "recovery
 
 def run_pair(scene: Scene, v: Variants, recorded: bool, chunks: int = 1) -> PairRun:
     """Run the two performers of `scene` for every variant of v, together (driver.run_pairs)."""
-    ia, ib = prepare(scene.cast[0])[1], prepare(scene.cast[1])[1]
-    ta = prepare(scene.cast[0])[0]
+    ta, ia = prepare(scene.cast[0])
+    ib = prepare(scene.cast[1])[1]
     rows = pair_params(scene, v)
     params, roof_scale = rows.params, rows.roof_scale
     count = len(v)
