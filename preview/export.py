@@ -16,7 +16,7 @@ from pathlib import Path
 import numpy as np
 
 from preview.frame import ViewSettings, draw_frame
-from preview.outputs import OutputSet, check_target
+from preview.outputs import OutputSet, check_target, stop_if_terminated
 from preview.session import OutputError, Playback, UsageError, make_playback
 
 MAX_FRAMES = 36_000  # 25 minutes at 24 fps: an export is a clip, not a feature
@@ -57,6 +57,7 @@ class Progress:
         self.live = sys.stderr.isatty()
 
     def update(self, done: int) -> None:
+        stop_if_terminated()
         if self.live:
             filled = int(30 * done / self.total)
             sys.stderr.write(f"\r{self.label} [{'#' * filled}{'.' * (30 - filled)}] {done}/{self.total}")
@@ -89,6 +90,7 @@ def write_frames(playback, times, view, size, out: Path) -> Path:
     suffix = out.suffix.lower()
     progress = Progress(len(times), f"rendering {out.name}")
     frames = (frame_pixels(playback, t, view, size) for t in times)
+    _pygame()   # imported before any temporary file exists: a SIGTERM then lands in our own code
     with OutputSet() as outs:
         if suffix == ".mp4":
             _write_mp4(frames, _fps_of(times), size, len(times), outs.file(out), progress)

@@ -27,8 +27,12 @@ class Terminated(BaseException):
     """SIGTERM, raised in the main thread so that cleanup runs as on Ctrl-C."""
 
 
+_TERMINATED = [False]   # set by the handler: the raise alone can be lost (below)
+
+
 def raise_on_sigterm() -> None:
     def handler(signum, frame):
+        _TERMINATED[0] = True
         raise Terminated()
     try:
         signal.signal(signal.SIGTERM, handler)
@@ -38,6 +42,15 @@ def raise_on_sigterm() -> None:
     # signal pending and finish its export instead of stopping and cleaning up.
     if hasattr(signal, "pthread_sigmask"):
         signal.pthread_sigmask(signal.SIG_UNBLOCK, {signal.SIGTERM})
+
+
+def stop_if_terminated() -> None:
+    """Raise Terminated if a SIGTERM came. The handler raises where the main thread happens to be, and C code
+    that clears errors (an extension module importing an optional dependency while `import pygame` runs, say)
+    can swallow that raise: an export then ran to its end and wrote its file. Exports call this every frame,
+    and nothing is moved into place after a SIGTERM."""
+    if _TERMINATED[0]:
+        raise Terminated()
 
 
 def check_target(final: Path, folder: bool) -> None:
@@ -97,6 +110,11 @@ class OutputSet:
 
     def __exit__(self, kind, value, traceback) -> bool:
         if kind is None:
+            try:
+                stop_if_terminated()
+            except Terminated:
+                self._discard()
+                raise
             self._commit()
         else:
             self._discard()

@@ -127,6 +127,26 @@ def test_sigterm_during_an_export_cleans_up_like_ctrl_c(tmp_path, blocked):
     assert sorted(p.name for p in tmp_path.iterdir()) == []
 
 
+def test_a_sigterm_whose_raise_was_swallowed_still_stops_the_export(tmp_path, capsys):
+    # C code that clears errors (an extension importing an optional module during `import pygame`) once
+    # swallowed the handler's raise and the export ran to its end. Here the raise is swallowed on purpose.
+    from preview import outputs
+    before = signal.getsignal(signal.SIGTERM)
+    try:
+        outputs.raise_on_sigterm()
+        try:
+            os.kill(os.getpid(), signal.SIGTERM)
+            time.sleep(0.5)
+        except outputs.Terminated:
+            pass
+        assert main(["render", SCENE, "-o", str(tmp_path / "clip.gif"), *SHORT]) == 143
+    finally:
+        outputs._TERMINATED[0] = False
+        signal.signal(signal.SIGTERM, before)
+    assert "stopped (SIGTERM)" in capsys.readouterr().err
+    assert sorted(p.name for p in tmp_path.iterdir()) == []
+
+
 def test_plot_into_a_missing_folder_or_with_an_unknown_suffix(tmp_path, capsys):
     assert main(["envelope", SCENE, "--vary", "speed=10..60 km/h", "--points", "3", "--plot",
                  str(tmp_path / "no" / "plot.png")]) == 4
