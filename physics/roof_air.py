@@ -146,6 +146,4 @@ def without_roof_air(scene):
     """The same scene with the air over the roof off: the free stream at every height, the bound the
     profile's soft coefficients relax."""
     import dataclasses
-    air = dataclasses.replace(scene.air, roof_flow=None)
-    cast = tuple(dataclasses.replace(part, air=air) for part in scene.cast)
-    return dataclasses.replace(scene, air=air, cast=cast)
+    return scene.shared(air=dataclasses.replace(scene.air, roof_flow=None))

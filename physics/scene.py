@@ -276,6 +276,13 @@ class Scene:
         """Each performer's own scene: the cast, or the scene itself for one performer."""
         return self.cast if self.cast else (self,)
 
+    def shared(self, **changes) -> "Scene":
+        """The scene with `changes` to what every performer shares (units, air, consist, motion, ...) made
+        in each performer's own scene too: a pair runs and is shown from its cast's scenes."""
+        import dataclasses
+        cast = tuple(dataclasses.replace(part, **changes) for part in self.cast)
+        return dataclasses.replace(self, cast=cast, **changes)
+
     def car_at(self, x: float) -> int | None:
         """Index of the car whose roof spans car-frame x, or None (gap or off the ends)."""
         for i, car in enumerate(self.cars):

@@ -75,13 +75,8 @@ def pair_words(scene: Scene) -> str:
 def free_stream(scene: Scene) -> Scene:
     """The scene with the air over the roof off (roof_air.without_roof_air), for each performer of a
     pair too: the pair runs from its cast's own scenes."""
-    import dataclasses
-
     from physics.roof_air import without_roof_air
-    if not scene.pair:
-        return without_roof_air(scene)
-    cast = tuple(without_roof_air(part) for part in scene.cast)
-    return dataclasses.replace(without_roof_air(scene), cast=cast)
+    return without_roof_air(scene)
 
 
 def base_value(scene: Scene, name: str) -> float:

@@ -159,7 +159,7 @@ def switch_units(state: PlayerState) -> None:
     """Metric <-> imperial on every number shown; the physics is unchanged."""
     scene = state.playback.scene
     state.units = "imperial" if scene.units == "metric" else "metric"
-    state.playback = make_playback(replace(scene, units=state.units),
+    state.playback = make_playback(scene.shared(units=state.units),
                                    what_if_variant(scene, state.speed_delta, state.wind_delta)
                                    if (state.speed_delta or state.wind_delta) else None)
     if state.speed_delta or state.wind_delta:
@@ -218,7 +218,7 @@ class SceneWatcher:
         try:
             scene = load_scene(self.path, self.overrides)
             if state.units:
-                scene = replace(scene, units=state.units)
+                scene = scene.shared(units=state.units)
             changed = bool(state.speed_delta or state.wind_delta)
             playback = make_playback(scene, what_if_variant(scene, state.speed_delta, state.wind_delta)
                                      if changed else None)

@@ -175,6 +175,19 @@ def test_tab_cycles_the_followed_performer_and_the_readout_says_who(pair, one):
     assert "following" not in [n for n, _, _ in panels.readout_rows(one, 1.0, single.view)[0]]
 
 
+def test_the_units_key_reaches_both_performers(pair):
+    # The window's U key: every number in the display units, whoever the readout follows (the second
+    # performer's own scene once kept the units of the file).
+    from preview.window import PlayerState, switch_units
+    state = PlayerState(pair, ViewSettings(follow=1))
+    switch_units(state)
+    pb = state.playback
+    assert [run.scene.units for run in (pb.trajectory,) + pb.trajectory.partners] == ["imperial", "imperial"]
+    rows = dict((n, v) for n, v, _ in panels.readout_rows(pb, SHOVE, state.view)[0])
+    assert rows["following"].startswith("Eli")
+    assert "mph" in rows["vehicle speed"] and "km/h" not in " ".join(rows.values())
+
+
 def test_the_cameras_follow_the_followed_performer(pair):
     a = cameras(pair, SHOVE, ViewSettings(frame="car"), (1280, 720))[0]
     b = cameras(pair, SHOVE, ViewSettings(frame="car", follow=1), (1280, 720))[0]
