@@ -22,10 +22,13 @@ force the performers actually use.
   0.15 m for the partner's half depth at the chest (from memory).
 - A hold's stiffness 5 kN/m and damping ratio 0.5: roofbeat's own (an arm held straight gives a little).
 - A catch is taken on bent arms round the body, not in one grip: 1.5 kN/m, damping ratio 0.5 and a
-  breaking force of 1200 N, roofbeat's own. A flyer of reduced mass mu arriving at relative speed v
-  meets at first the damper's c v = 2 zeta sqrt(k mu) v (about 700 N for 37 kg at 3 m/s) and is
-  stopped over about v sqrt(mu / k), half a metre of arm travel: about what a rehearsed catch gives
-  (from memory).
+  breaking force of 1200 N, roofbeat's own. The arms draw the flyer in at CATCH_DRAW and take up the
+  slack of a flyer who comes nearer faster without pushing back, down to CATCH_CLOSE from the catcher's
+  shoulders to the flyer's centre of mass (the flyer held against the chest); a flyer who drops or
+  lags is pulled in by the spring-damper, and the catcher takes the reaction. Both roofbeat's own. A
+  flyer of reduced mass mu still moving at relative speed v when gathered meets at first the damper's
+  c v = 2 zeta sqrt(k mu) v (about 700 N for 37 kg at 3 m/s) and is stopped over about v sqrt(mu / k),
+  half a metre of give: about what a rehearsed catch gives (from memory).
 """
 
 from __future__ import annotations
@@ -50,6 +53,8 @@ HOLD_DAMPING = 0.5
 CATCH_STIFFNESS = 1500.0
 CATCH_DAMPING = 0.5
 CATCH_BREAKING = 1200.0
+CATCH_CLOSE = 0.4            # m, catcher's shoulders to a gathered flyer's centre of mass (roofbeat's own)
+CATCH_DRAW = 1.0             # m/s the arms draw a caught flyer in (roofbeat's own)
 STEADY_RAMP = 0.2            # s a steady push takes to build up and to ease off (roofbeat's own)
 DEFAULT_FORCE = {"shove": SHOVE_FORCE, "pull": PULL_FORCE, "throw": THROW_FORCE}
 DIRECTIONS = ("toward", "front", "rear", "left", "right")
@@ -84,6 +89,8 @@ def link_table(scene) -> np.ndarray:
         row["breaking"] = it.breaking
         row["stiffness"] = it.stiffness
         row["damping"] = it.damping
+        row["close"] = CATCH_CLOSE
+        row["draw"] = CATCH_DRAW
         row["facing"] = scene.cast[it.actor].performer.facing
     return table
 

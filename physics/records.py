@@ -230,18 +230,22 @@ LINK = np.dtype([
     ("breaking", "f8"),           # HOLD, CATCH: force at which the hold lets go, N
     ("stiffness", "f8"),          # HOLD, CATCH: N/m
     ("damping", "f8"),            # HOLD, CATCH: damping ratio with the two bodies' reduced mass
+    ("close", "f8"),              # CATCH: how near the arms gather the flyer, shoulders to centre of mass, m
+    ("draw", "f8"),               # CATCH: how fast the arms draw the flyer in until then, m/s
     ("facing", "i8"),             # the actor's facing (+1 front): a push's direction when they stand at one place
 ])
 
 # Per variant pair and link: what the interaction did.
 LINK_OUT = np.dtype([
     ("engaged", "f8"),            # first time the hands were on the partner, s (NaN: never within reach)
-    ("rest", "f8"),               # HOLD, CATCH: the hold's length when it closed, m
+    ("rest", "f8"),               # HOLD, CATCH: the hold's length (when it closed; a catch's shortens as it gathers), m
     ("released", "f8"),           # when it ended: out of reach, let go, or the window closed, s (NaN: never)
     ("lost", "f8"),               # when a hold passed its breaking force, s (NaN: it held)
     ("peak", "f8"),               # largest force between them, N
     ("impulse", "f8"),            # the impulse it gave the partner, magnitude of the integral of the force, N s
     ("ix", "f8"), ("iy", "f8"), ("iz", "f8"),   # its components, N s (car axes)
+    ("gx", "f8"), ("gy", "f8"), ("gz", "f8"),   # CATCH: the flyer's offset from the catcher when gathered, m (NaN before)
+    ("ox", "f8"), ("oy", "f8"), ("oz", "f8"),   # HOLD, CATCH: the partner's offset from the actor last step, m
 ])
 
 # -------------------------------------------------------------------- outputs
@@ -367,7 +371,7 @@ def empty_tether_out(batch: int, tethers: int) -> np.ndarray:
 
 def empty_link_out(batch: int, links: int) -> np.ndarray:
     out = np.zeros((batch, links), LINK_OUT)
-    for name in ("engaged", "rest", "released", "lost"):
+    for name in ("engaged", "rest", "released", "lost", "gx", "gy", "gz", "ox", "oy", "oz"):
         out[name] = np.nan
     return out
 

@@ -17,8 +17,17 @@ load; in the air at the centre of mass (a rigid posture has no turning dynamics 
   deliberate change of posture with both planted it follows unloaded; otherwise it keeps the length
   it had: slack closer in, a spring-damper beyond it (tension k x + c x', c = 2 zeta
   sqrt(k mu) with the two bodies' reduced mass mu), never pushing.
-- A catch closes on a partner in the air within reach and takes pushes as well as pulls (the arms
-  take the flyer's momentum).
+- A catch closes on a partner in the air within reach and gathers the flyer in: its length shortens at
+  the arms' `draw` speed, or with the distance when the flyer comes nearer faster (no spring pushes the
+  flyer back out; the damper takes the flyer's speed toward the catcher over the arms' travel), down to
+  `close` (the flyer's centre of mass at the catcher's chest); a flyer who drops or lags is pulled in
+  by the spring-damper. Once gathered the two are held together in every direction
+  about the offset they had then (a spring-damper on the offset and the relative velocity): the arms
+  and chest take the flyer's momentum, pushes as well as pulls.
+- Where the hands act jumps when a body lands or takes off (the centre of mass in the air, the shoulders
+  on the roof) or takes a recovery step (the pivot moves at once): the part of a step's change of offset
+  that the relative velocity does not explain moves a hold's or catch's anchors with it, so that
+  bookkeeping puts no force on either body.
 - A hold or a catch lets go for good when its force passes the breaking force (event HOLD_LOST on both
   performers); every link ends with its action.
 """
@@ -86,7 +95,7 @@ def push_profile(link, t):
 
 
 @kernel
-def link_force(link, lout, t, actor, partner, mass_a, mass_p):
+def link_force(link, lout, t, dt, actor, partner, mass_a, mass_p):
     """The force (N, car axes) link puts on the partner at t (its reaction is on the actor), and whether
     a hold let go now. lout: this link's records.LINK_OUT, written as it goes."""
     if t < link.start or t >= link.end or lout.lost == lout.lost or not actor.ok or not partner.ok:
@@ -114,6 +123,15 @@ def link_force(link, lout, t, actor, partner, mass_a, mass_p):
             return 0.0, 0.0, 0.0, False
         lout.engaged = t
         lout.rest = dist
+    follow_jump(lout, dt, actor, partner, dx, dy, dz, dist)
+    rest_rate = 0.0
+    if link.code == LinkCode.CATCH:
+        if lout.rest > link.close:
+            # The arms draw the flyer in, or take up the slack of one who comes nearer faster: never a push back.
+            rest_rate = -link.draw
+            lout.rest = max(link.close, min(lout.rest - link.draw * dt, dist))
+        if lout.rest <= link.close:
+            return gathered(link, lout, t, actor, partner, mass_a, mass_p, dx, dy, dz)
     if dist < 1e-9:
         return 0.0, 0.0, 0.0, False
     if actor.planted and partner.planted and (actor.settling or partner.settling):
@@ -124,8 +142,9 @@ def link_force(link, lout, t, actor, partner, mass_a, mass_p):
     ux, uy, uz = dx / dist, dy / dist, dz / dist
     rate = ux * (partner.vx - actor.vx) + uy * (partner.vy - actor.vy) + uz * (partner.vz - actor.vz)
     mu = mass_a * mass_p / (mass_a + mass_p)
-    tension = link.stiffness * (dist - lout.rest) + 2.0 * link.damping * math.sqrt(link.stiffness * mu) * rate
-    if link.code == LinkCode.HOLD:
+    stretch_rate = rate - rest_rate
+    tension = link.stiffness * (dist - lout.rest) + 2.0 * link.damping * math.sqrt(link.stiffness * mu) * stretch_rate
+    if link.code == LinkCode.HOLD:   # pulls only; a gathering catch's damper takes the flyer's approach too
         tension = max(tension, 0.0) if dist > lout.rest else 0.0
     if abs(tension) > link.breaking:
         lout.lost = t
@@ -133,6 +152,49 @@ def link_force(link, lout, t, actor, partner, mass_a, mass_p):
         lout.peak = max(lout.peak, abs(tension))
         return 0.0, 0.0, 0.0, True
     return -tension * ux, -tension * uy, -tension * uz, False
+
+
+JUMP = 0.02   # m: a change of offset in one step this far from what the velocities give is a jump of reference
+
+
+@small
+def follow_jump(lout, dt, actor, partner, dx, dy, dz, dist):
+    """Move a hold's or catch's anchors (its length; a gathered catch's offset) by the part of this step's
+    change of offset (dx, dy, dz) that the relative velocity does not explain: a landing, a take-off or a
+    recovery step moves where the hands act at once, not the bodies."""
+    if lout.ox == lout.ox:
+        ex = lout.ox + (partner.vx - actor.vx) * dt
+        ey = lout.oy + (partner.vy - actor.vy) * dt
+        ez = lout.oz + (partner.vz - actor.vz) * dt
+        jx, jy, jz = dx - ex, dy - ey, dz - ez
+        if jx * jx + jy * jy + jz * jz > JUMP * JUMP:
+            lout.rest = max(0.0, lout.rest + dist - math.sqrt(ex * ex + ey * ey + ez * ez))
+            if lout.gx == lout.gx:
+                lout.gx += jx
+                lout.gy += jy
+                lout.gz += jz
+    lout.ox, lout.oy, lout.oz = dx, dy, dz
+
+
+@kernel
+def gathered(link, lout, t, actor, partner, mass_a, mass_p, dx, dy, dz):
+    """A gathered catch: the flyer held about its offset (dx, dy, dz from the catcher) when gathered, in
+    every direction: (force on the flyer (N, car axes), whether the catch let go now)."""
+    if lout.gx != lout.gx:
+        lout.gx, lout.gy, lout.gz = dx, dy, dz
+    mu = mass_a * mass_p / (mass_a + mass_p)
+    k = link.stiffness
+    c = 2.0 * link.damping * math.sqrt(k * mu)
+    fx = -k * (dx - lout.gx) - c * (partner.vx - actor.vx)
+    fy = -k * (dy - lout.gy) - c * (partner.vy - actor.vy)
+    fz = -k * (dz - lout.gz) - c * (partner.vz - actor.vz)
+    size = math.sqrt(fx * fx + fy * fy + fz * fz)
+    if size > link.breaking:
+        lout.lost = t
+        lout.released = t
+        lout.peak = max(lout.peak, size)
+        return 0.0, 0.0, 0.0, True
+    return fx, fy, fz, False
 
 
 @kernel
@@ -145,10 +207,10 @@ def links_between(links, lout, t, dt, a, b, mass_a, mass_b):
         link = links[i]
         o = lout[i]
         if link.actor == 0:
-            px, py, pz, gone = link_force(link, o, t, a, b, mass_a, mass_b)
+            px, py, pz, gone = link_force(link, o, t, dt, a, b, mass_a, mass_b)
             sign = 1.0
         else:
-            px, py, pz, gone = link_force(link, o, t, b, a, mass_b, mass_a)
+            px, py, pz, gone = link_force(link, o, t, dt, b, a, mass_b, mass_a)
             sign = -1.0
         lost = lost or gone
         size = math.sqrt(px * px + py * py + pz * pz)
