@@ -58,8 +58,10 @@ class Layout:
         self.taken.append(box)
         return box
 
-    def place(self, w: float, h: float, candidates, area: Box) -> Box:
-        """The first free candidate top-left (x, y) for a w x h box inside `area`, else the least covered; reserved."""
+    def place(self, w: float, h: float, candidates, area: Box, optional: bool = False) -> Box | None:
+        """The first free candidate top-left (x, y) for a w x h box inside `area`, else the free place nearest
+        the first, else the least covered; reserved. `optional`: None instead of a covered place (a label
+        the picture can do without)."""
         best, best_cover = None, None
         candidates = list(candidates)
         for x, y in candidates:
@@ -74,6 +76,8 @@ class Layout:
         nearest = self.nearest_free(w, h, area, x0, y0)
         if nearest is not None:
             return self.reserve(nearest)
+        if optional:
+            return None
         return self.reserve(best if best is not None else Box(area.x, area.y, w, h))
 
     def nearest_free(self, w: float, h: float, area: Box, x0: float, y0: float, step: float = 12.0):

@@ -814,14 +814,20 @@ def draw_drift(canvas, tr, i: int, cam: Camera, layout, area: Box) -> None:
     over_ground = (com[i, 0] + dist[i]) - (com[k0, 0] + dist[k0])
     relative = com[i, 0] - com[k0, 0]
     units = tr.scene.units
-    words = (f"in the air {tr.times[i] - tr.times[k0]:.2f} s: {display(over_ground, 'length', units)} over the "
-             f"ground, {display(relative, 'length', units)} relative to the car")
+    air = f"in the air {tr.times[i] - tr.times[k0]:.2f} s"
     canvas.tag = "drift"
     ts = label_size(canvas)
-    words = fit(words, ts, area.w - 16)
-    w, h = _label_size(words, ts)
     px, py = cam.ground_to_screen(com[i, 0] + dist[i], com[i, 1])
-    box = layout.place(w, h, [(px - w / 2, py - 3 * cam.scale), (px - w / 2, py + cam.scale),
-                              (area.x + 8, area.bottom - h - 8)], area)
-    canvas.rect(box.x, box.y, box.w, box.h, PANEL)
-    canvas.text((box.x + 3, box.y + 2), words, TRAIL, ts)
+    # The long wording, then a short one; none where the picture has no free place for it (a crowded
+    # view): the readout says "in the air" and the drift is secondary to what is drawn.
+    for words in (f"{air}: {display(over_ground, 'length', units)} over the ground, "
+                  f"{display(relative, 'length', units)} relative to the car",
+                  f"{air}; {display(relative, 'length', units)} relative to the car"):
+        words = fit(words, ts, area.w - 16)
+        w, h = _label_size(words, ts)
+        box = layout.place(w, h, [(px - w / 2, py - 3 * cam.scale), (px - w / 2, py + cam.scale),
+                                  (area.x + 8, area.bottom - h - 8)], area, optional=True)
+        if box is not None:
+            canvas.rect(box.x, box.y, box.w, box.h, PANEL)
+            canvas.text((box.x + 3, box.y + 2), words, TRAIL, ts)
+            return
