@@ -18,6 +18,7 @@ from physics import G
 from physics.records import Event, Mode
 from physics.scene_load import SceneError, parse_scene
 from physics.simulation import simulate, variants
+from tests.conftest import REPO
 
 HEAD = """
 title = "two performers (test)"
@@ -140,6 +141,26 @@ def test_a_hold_is_not_loaded_by_where_the_hands_act_jumping():
     link = ivo.links[0]
     assert link["engaged"] == pytest.approx(0.5) and math.isnan(link["lost"])
     assert link["peak"] < 50.0
+
+
+def test_a_body_that_rolls_onto_its_side_while_sliding_is_down():
+    # The bundled grab with Sol beside Rae instead of in front (0.6 m across the track) and braced: his
+    # hold pulls her sideways as she slides and she rolls over onto her side. That is a topple (she was
+    # once drawn lying while her record said "stopped on the roof", on her feet).
+    from physics.aftermath import phases
+    text = (REPO / "scenes" / "grab_saves_slip.toml").read_text()
+    for old, new in (('speed = "116 km/h"', 'speed = "114 km/h"'), ('position = "4.6 m", from = "rear", offset = "0 m"',
+                                                                    'position = "3.9 m", from = "rear", offset = "-0.3 m"'),
+                     ('facing = "rear"', 'facing = "front"'), ('posture = "crouch"', 'posture = "brace"')):
+        assert old in text
+        text = text.replace(old, new)
+    rae = simulate(parse_scene(text, "grab_beside.toml"))
+    roll = np.abs(rae.record["roll"])
+    over = int(np.argmax(roll >= 1.4))
+    assert over > 0 and rae.record["mode"][over - 5] == Mode.SLIDING
+    assert rae.events[Event.TOPPLE]["time"] == pytest.approx(rae.times[over], abs=0.01)
+    assert (rae.record["mode"][over + 1:] == Mode.DOWN).all()
+    assert phases(rae)[-1]["state"] == "down on the roof"
 
 
 @pytest.mark.parametrize("speed", [0, 60])

@@ -233,6 +233,13 @@ def sideways(v, inputs, env, beat, bal, fr, side_load, ft, plan, slide, restart_
         note_side(out.events, v.b, Event.TOPPLE, env.t, toward)
         beat = with_mode(failed(beat), Mode.DOWN)
     if fr.falling and abs(fr.roll) >= LIE_ANGLE:
+        if beat.mode == Mode.SLIDING and not bal.lying:
+            # Rolled over onto its side while sliding (no step can be taken on sliding feet): a topple too,
+            # and the body slides on lying down.
+            note_event(out.events, v.b, Event.TOPPLE, env.t, slide.x, env.distance, inputs.cars, abs(step.xcom),
+                       posture.half_width)
+            note_side(out.events, v.b, Event.TOPPLE, env.t, 1 if fr.roll > 0 else -1)
+            beat = with_mode(failed(beat), Mode.DOWN)
         bal = laid(bal)
     margin = step.margin if beat.mode == Mode.PLANTED or step.happened == 2 else nan
     return beat, bal, fr, slide, Across(roll_k, rate_k, step.xcom, margin, step.required_tan, posture.half_width,
