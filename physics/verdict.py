@@ -151,6 +151,16 @@ def event_list(scene: Scene, events: np.ndarray) -> list[dict]:
     return sorted(out, key=lambda e: e["time_s"])
 
 
+def apart(a: float, b: float, digits: int = 3) -> tuple[str, str]:
+    """a and b with as many decimals (3 to 6) as it takes to tell them apart: a slip by 0.0004 reads
+    'needed 0.6004, roof gives 0.6000', not a tie."""
+    for n in range(digits, 7):
+        x, y = f"{a:.{n}f}", f"{b:.{n}f}"
+        if x != y:
+            break
+    return x, y
+
+
 def describe(scene: Scene, kind: Event, row) -> str:
     """The numbers behind an event in plain words, in the scene's display units."""
     demand, available = float(row["demand"]), float(row["available"])
@@ -158,7 +168,8 @@ def describe(scene: Scene, kind: Event, row) -> str:
     side = SIDE_WORDS.get(int(row["side"]))
     if kind == Event.SLIP:
         toward = f", sideways toward the {side} edge" if side else ""
-        return f"grip needed {demand:.3f}, roof gives {available:.3f}{toward}"
+        need, have = apart(demand, available)
+        return f"grip needed {need}, roof gives {have}{toward}"
     if kind == Event.OFF_SIDE:
         how = "lying" if demand < 0.01 else f"moving across the roof at {display(demand, 'wind', u)}"
         return f"went over the {side} side edge, {how}"

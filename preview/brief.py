@@ -720,10 +720,14 @@ def _page_ladder(page: Page, scene, content, ladder) -> None:
             f"rung {row['rung']} " + ", ".join(f"{n} {v.upper()}" for n, v in row["performers"].items())
             for row in ladder["rungs"]) + ".", BODY)
     first = ladder["first_rung_short"]
-    page.para("Every rung holds with the required factors." if first is None else
-              f"First rung short of the factors: rung {first} "
-              f"({ladder['rungs'][first - 1]['first_failure'] or 'marginal'}): do not go past the rung before it.",
-              BODY + 0.5, "bold")
+    if first is None:
+        words = "Every rung holds with the required factors."
+    else:
+        why = ladder['rungs'][first - 1]['first_failure'] or 'marginal'
+        words = (f"First rung short of the factors: rung {first} ({why}): " +
+                 ("do not go past the rung before it." if first > 1 else
+                  "the first rung already falls short: do not start this ladder; rework the beat first."))
+    page.para(words, BODY + 0.5, "bold")
     page.rule()
     machine = ladder["wind_machine"]
     page.para(f"Static rehearsal: a wind machine giving {show(machine['air_speed_ms'], 'wind', system, '.1f')} "

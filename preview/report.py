@@ -112,7 +112,7 @@ def action_lines(actions: list[dict], system: str) -> list[str]:
     lines = [header, "-" * len(header)]
     for row in actions:
         if not row["assessed"]:
-            lines.append(f"{row['name'][:15]:<16}{row['start_s']:5.1f}-{row['end_s']:<6.1f} {'fails':<9}"
+            lines.append(f"{_name(row['name']):<16}{row['start_s']:5.1f}-{row['end_s']:<6.1f} {'fails':<9}"
                          "not assessed: the beat failed before this action")
             continue
         wind, wind_unit = to_display(row["apparent_wind_max_ms"], "wind", system)
@@ -121,21 +121,20 @@ def action_lines(actions: list[dict], system: str) -> list[str]:
         bal_value, bal_unit = to_display(bal, "length", system) if bal is not None else (None, "")
         bal_text = "n/a" if bal is None else f"{floor_to(bal_value):.2f} {bal_unit}"
         lines.append(
-            f"{row['name'][:15]:<16}{row['start_s']:5.1f}-{row['end_s']:<6.1f} {row['verdict']:<9}"
+            f"{_name(row['name']):<16}{row['start_s']:5.1f}-{row['end_s']:<6.1f} {row['verdict']:<9}"
             f"{_fmt(row['grip_ratio_min'], '.2f'):>6}{bal_text:>10}{_fmt(row['lift_ratio_min'], '.2f'):>6}"
             f"{row['lean_max_deg']:6.1f}°{wind:8.1f} {wind_unit:<4}{row['beaufort_max']:>4}{drag:7.0f} {drag_unit}")
         extra = []
         if row["landing_margin_min_m"] is not None:
-            extra.append(f"landing margin {_fmt(to_display(row['landing_margin_min_m'], 'length', system)[0], '.2f')}")
+            extra.append(f"landing margin {_length(row['landing_margin_min_m'], system)}")
         if row["clearance_min_m"] is not None:
-            extra.append(f"overhead clearance {_fmt(to_display(row['clearance_min_m'], 'length', system)[0], '.2f')}")
+            extra.append(f"overhead clearance {_length(row['clearance_min_m'], system)}")
         if row.get("edge_margin_min_m") is not None:
-            extra.append(f"side edge {_fmt(to_display(row['edge_margin_min_m'], 'length', system)[0], '.2f')}")
+            extra.append(f"side edge {_length(row['edge_margin_min_m'], system)}")
         if row.get("frontal_balance_margin_min_m") is not None:
-            extra.append("balance across the track "
-                         f"{_fmt(to_display(row['frontal_balance_margin_min_m'], 'length', system)[0], '.2f')}")
+            extra.append(f"balance across the track {_length(row['frontal_balance_margin_min_m'], system)}")
         if extra:
-            lines.append(" " * 16 + "; ".join(extra) + f" {to_display(0, 'length', system)[1]}")
+            lines.append(" " * 16 + "; ".join(extra))
         if row["marginal_because"]:
             lines.append(" " * 16 + "marginal because " + marginal_words(row["marginal_because"], system))
         elif row["verdict"] == "fails" and row.get("below_required"):
@@ -145,6 +144,17 @@ def action_lines(actions: list[dict], system: str) -> list[str]:
             n = row["recovery_steps"]
             lines.append(" " * 16 + f"{n} recovery step{'s' if n > 1 else ''}: the performer had to step to stay up")
     return lines
+
+
+def _length(value: float, system: str) -> str:
+    """A margin with its unit: '0.89 m', '2.92 ft'."""
+    shown, unit = to_display(value, "length", system)
+    return f"{_fmt(shown, '.2f')} {unit}"
+
+
+def _name(name: str) -> str:
+    """An action's name in the table's 15 characters, cut with an ellipsis that shows it was cut."""
+    return name if len(name) <= 15 else name[:14] + "…"
 
 
 def failure_words(first: dict, scene, system: str) -> str:
@@ -178,7 +188,7 @@ def interaction_rows(interactions: list[dict], system: str) -> list[dict]:
             hold = (f"LET GO at {it['let_go_s']:.2f} s (breaking force "
                     f"{display(it['breaking_force_n'], 'force', system, '.0f')})")
         elif it["reached"]:
-            hold = f"held (breaking force {display(it['breaking_force_n'], 'force', system, '.0f')})"
+            hold = f"did not let go (breaking force {display(it['breaking_force_n'], 'force', system, '.0f')})"
         else:
             hold = "never took hold"
         rows.append({"who": it["actor"], "did": it["kind"], "to": it["partner"],
