@@ -585,6 +585,9 @@ def draw_timeline(canvas, playback, t: float, ts: int, boost: int = 0) -> None:
     for arrival in playback.summary.get("arrivals", []):
         px = at(arrival["time_s"])
         canvas.rect(px - 4, y - TICK_H, 8, TICK_H - 1, STRUCTURE)
+        if "lane" in arrival:   # two performers: also on the lane of the one who arrives then
+            top = y + arrival["lane"] * (LANE_H + 2)
+            canvas.line((px, top), (px, top + LANE_H), STRUCTURE, 2)
     for duck in playback.summary.get("ducks", []):
         if duck.get("latest_start_s") is not None:
             px = at(duck["latest_start_s"])

@@ -138,12 +138,18 @@ def whole_beat_wind(trajectory) -> float:
 
 
 def structure_arrivals(trajectory) -> list[dict]:
-    """When the performer's centre of mass first passes under each structure's near edge (ground frame)."""
+    """When the performer's centre of mass first passes under each structure's near edge (ground frame);
+    with two performers each one's own arrivals, named (`performer`), in order of time."""
     import numpy as np
-    ground_x = trajectory.com_path[:, 0] + trajectory.field("distance")
+    runs = (trajectory,) + tuple(trajectory.partners)
     out = []
-    for s in trajectory.scene.structures:
-        under = np.flatnonzero(np.nan_to_num(ground_x, nan=-np.inf) >= s.x_start)
-        if under.size:
-            out.append({"name": s.name, "time_s": float(trajectory.times[under[0]])})
-    return out
+    for k, run in enumerate(runs):
+        ground_x = run.com_path[:, 0] + run.field("distance")
+        for s in run.scene.structures:
+            under = np.flatnonzero(np.nan_to_num(ground_x, nan=-np.inf) >= s.x_start)
+            if under.size:
+                row = {"name": s.name, "time_s": float(run.times[under[0]])}
+                if len(runs) > 1:
+                    row["performer"], row["lane"] = run.scene.name, k
+                out.append(row)
+    return sorted(out, key=lambda row: row["time_s"])

@@ -17,12 +17,12 @@ import struct
 import numpy as np
 import pytest
 
-from physics.scene_load import load_scene
+from physics.scene_load import load_scene, parse_scene
 from physics.verdict import verdict_so_far
 from preview import panels, world
 from preview.canvas import RecordingCanvas
 from preview.frame import ViewSettings, cameras, draw_frame
-from preview.palette import INK, PARTNER, TOUCH
+from preview.palette import INK, PARTNER, STRUCTURE, TOUCH
 from preview.session import make_playback
 from tests.conftest import REPO
 
@@ -186,6 +186,28 @@ def test_the_units_key_reaches_both_performers(pair):
     rows = dict((n, v) for n, v, _ in panels.readout_rows(pb, SHOVE, state.view)[0])
     assert rows["following"].startswith("Eli")
     assert "mph" in rows["vehicle speed"] and "km/h" not in " ".join(rows.values())
+
+
+def test_each_performer_reaches_a_structure_at_its_own_time_on_its_own_lane():
+    # A high footbridge over the fight (the consist's front reaches it at 0.1 s): Dana stands 0.7 m nearer
+    # the front than Eli and reaches it first.
+    text = PAIR.read_text() + (
+        '\n[[structures]]\nkind = "footbridge"\nname = "high footbridge"\nreached_at = "0.1 s"\n'
+        'span = "3 m"\nsoffit = "9 m"\n')
+    pb = make_playback(parse_scene(text, "fight_under_bridge.toml"))
+    arrivals = pb.summary["arrivals"]
+    assert [(a["performer"], a["lane"]) for a in arrivals] == [("Dana", 0), ("Eli", 1)]
+    bridge = pb.scene.structures[0].x_start
+    for run, arrival in zip((pb.trajectory,) + pb.trajectory.partners, arrivals):
+        # Each at its own centre of mass's passing of the bridge's near edge (ground frame), to a step.
+        k = run.index_at(arrival["time_s"])
+        ground = run.com_path[:, 0] + run.field("distance")
+        assert ground[k - 1] < bridge <= ground[k]
+    assert arrivals[1]["time_s"] - arrivals[0]["time_s"] > 0.04
+    canvas = drawn(pb, 1.0, ViewSettings())
+    lines = [pts for kind, pts, color, tag in canvas.calls
+             if tag == "timeline" and kind == "line" and color == STRUCTURE]
+    assert len(lines) == 2 and lines[0][0][0] < lines[1][0][0] and lines[0][0][1] < lines[1][0][1]
 
 
 def test_the_cameras_follow_the_followed_performer(pair):
