@@ -172,7 +172,8 @@ def _limit_value(value: float, unit: str, system: str) -> str:
 
 def focus(playback) -> int:
     """Which performer (cast order) the key frames follow: the one whose failure comes first, else the one
-    with the worse verdict (the first on a tie); 0 for one performer."""
+    with the worse verdict, on a tie the one with the lower grip ratio (the first on a tie of both); 0 for
+    one performer."""
     per = playback.summary.get("performers")
     if not per:
         return 0
@@ -180,7 +181,11 @@ def focus(playback) -> int:
     if first:
         return [p["name"] for p in per].index(first["performer"])
     order = ("holds", "marginal", "fails")
-    return max(range(len(per)), key=lambda k: (order.index(per[k]["verdict"]), -k))
+
+    def lowest_grip(k):
+        ratios = [a["grip_ratio_min"] for a in per[k]["actions"] if a.get("grip_ratio_min") is not None]
+        return min(ratios, default=math.inf)
+    return max(range(len(per)), key=lambda k: (order.index(per[k]["verdict"]), -lowest_grip(k), -k))
 
 
 def focus_trajectory(playback):
@@ -190,7 +195,15 @@ def focus_trajectory(playback):
 def key_times(playback) -> list[tuple[str, float]]:
     """Two moments worth a picture: before and after the failure; in the air and landed; the
     tightest overhead clearance and the hardest moment; or the hardest moment and the end. With two
-    performers, of the one `focus` picks."""
+    performers, of the one `focus` picks, named in each caption."""
+    times = _key_times(playback)
+    if not playback.summary.get("performers"):
+        return times
+    name = focus_trajectory(playback).scene.name
+    return [(f"{name}: {label}", t) for label, t in times]
+
+
+def _key_times(playback) -> list[tuple[str, float]]:
     tr = focus_trajectory(playback)
     duration = playback.scene.duration
     first = playback.summary["first_failure"]

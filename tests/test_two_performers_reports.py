@@ -274,3 +274,15 @@ def test_grab_check_reads_a_slip_as_a_slip_and_gives_each_margin_its_unit(capsys
     assert "side edge 0.89 m; balance across the track 0.20 m" in out
     assert "rise into the …" in out and "rise into the w " not in out
     assert "did not let go (breaking force 900 N)" in out
+
+
+def test_key_frames_follow_the_performer_nearer_failing_and_name_them():
+    # Both MARGINAL in the fight: the key frames follow Eli, whose grip ratio is the lower (he takes the
+    # shove), and each caption says whose moment it is.
+    from preview.brief import focus, key_times
+    from preview.session import make_playback
+    pb = make_playback(load_scene(PAIR))
+    assert [p["verdict"] for p in pb.summary["performers"]] == ["marginal", "marginal"]
+    grips = [min(a["grip_ratio_min"] for a in p["actions"]) for p in pb.summary["performers"]]
+    assert grips[1] < grips[0] and focus(pb) == 1
+    assert all(label.startswith("Eli: ") for label, _ in key_times(pb))
