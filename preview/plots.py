@@ -64,6 +64,7 @@ MARGINS = (
     ("clearance_min", "clearance", "overhead clearance", "#8a6d57"),
 )
 CLIP = 3.0   # margins are drawn up to three times what is required; above, the curve runs along the top
+FLOOR = -0.5  # and down to half the required below zero; below, along the floor (its legend entry says so)
 
 
 def draw_envelope(ax, scene, sweep, summary) -> None:
@@ -94,12 +95,14 @@ def draw_envelope(ax, scene, sweep, summary) -> None:
             continue   # this beat has no such margin (no jump, no structure)
         required = float(getattr(scene.safety, factor))
         relative = values / max(required, 1e-9)
-        drawn = np.where(np.isfinite(relative) & ~fails, np.clip(relative, -0.5, CLIP), np.nan)
+        drawn = np.where(np.isfinite(relative) & ~fails, np.clip(relative, FLOOR, CLIP), np.nan)
         if np.isfinite(drawn).any():
             lowest = min(lowest, float(np.nanmin(drawn)))
         need = show(required, "length", scene.units) if factor in ("balance_margin", "landing_margin",
                                                                    "clearance") else f"{required:g}"
-        handles.append(ax.plot(x, drawn, color=colour, lw=1.6, label=f"{words} ÷ required ({need})")[0])
+        below = bool((np.isfinite(relative) & ~fails & (relative < FLOOR)).any())
+        clipped = f"; below {FLOOR:g} drawn at {FLOOR:g}" if below else ""
+        handles.append(ax.plot(x, drawn, color=colour, lw=1.6, label=f"{words} ÷ required ({need}{clipped})")[0])
     handles.append(ax.axhline(1.0, color=INK, ls=":", lw=1, label="1 = just the required factor"))
     ax.axhline(0.0, color=SOFT, lw=0.6)
     for limit, colour in zip(summary["limits"], (VERDICT_COLORS[1], VERDICT_COLORS[2])):
@@ -124,8 +127,9 @@ def draw_envelope(ax, scene, sweep, summary) -> None:
                transform=ax.get_xaxis_transform(), clip_on=False)
     ax.set_xlabel(label + "   (squares: the verdict at each swept value)", labelpad=24)
     worse = summary.get("margins_are")
-    ax.set_ylabel(f"margin ÷ required (drawn up to {CLIP:g})" + (f"\n{worse}" if worse else ""))
-    ax.set_ylim(min(0.0, lowest - 0.05), CLIP + 0.1)
+    ax.set_ylabel(f"margin ÷ required (drawn {FLOOR:g} to {CLIP:g})" + (f"\n{worse}" if worse else ""))
+    # Below zero, room under the lowest curve for the Beaufort labels along the bottom.
+    ax.set_ylim(min(0.0, lowest - 0.05) if lowest >= 0.0 else lowest - 0.3, CLIP + 0.1)
     ax.legend(handles=handles, loc="upper left", bbox_to_anchor=(1.02, 1.0), fontsize=6.5)
 
 

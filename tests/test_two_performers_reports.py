@@ -287,3 +287,24 @@ def test_key_frames_follow_the_performer_nearer_failing_and_name_them():
     grips = [min(a["grip_ratio_min"] for a in p["actions"]) for p in pb.summary["performers"]]
     assert grips[1] < grips[0] and focus(pb) == 1
     assert all(label.startswith("Eli: ") for label, _ in key_times(pb))
+
+
+def test_envelope_plot_says_where_a_margin_runs_below_its_floor():
+    # The fight's balance margin is far below zero at every speed (both take a recovery step): drawn
+    # along the floor, and its legend entry says so instead of showing a flat line at -0.5 as a value.
+    import matplotlib
+    matplotlib.use("Agg")
+    import matplotlib.pyplot as plt
+
+    from preview.analysis import envelope_summary
+    from preview.plots import FLOOR, draw_envelope
+    scene = load_scene(PAIR)
+    sweep = sweep_1d(scene, "speed", 20 / 3.6, 60 / 3.6, points=3)
+    fig, ax = plt.subplots()
+    draw_envelope(ax, scene, sweep, envelope_summary(scene, sweep))
+    labels = [t.get_text() for t in ax.get_legend().get_texts()]
+    balance = next(label for label in labels if label.startswith("balance margin"))
+    assert f"below {FLOOR:g} drawn at {FLOOR:g}" in balance
+    assert not any("below" in label for label in labels if label.startswith(("grip", "lift")))
+    assert ax.get_ylim()[0] < FLOOR - 0.2   # room under the floor line for the Beaufort labels
+    plt.close(fig)
