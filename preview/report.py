@@ -113,7 +113,7 @@ def action_lines(actions: list[dict], system: str) -> list[str]:
     for row in actions:
         if not row["assessed"]:
             lines.append(f"{_name(row['name']):<16}{row['start_s']:5.1f}-{row['end_s']:<6.1f} {'fails':<9}"
-                         "not assessed: the beat failed before this action")
+                         "not reached: the beat failed before this action")
             continue
         wind, wind_unit = to_display(row["apparent_wind_max_ms"], "wind", system)
         drag, drag_unit = to_display(row["drag_max_n"], "force", system)
