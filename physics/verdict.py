@@ -10,7 +10,8 @@ preview's running verdict:
   is below the factor the scene requires ([safety]), else it holds;
 - the beat's verdict is its worst action's;
 - the preview's running verdict (verdict_so_far) judges an action once it has
-  ended, a failure from the moment it happens.
+  ended, sooner from the step a margin recorded at every step falls short, and a
+  failure from the moment it happens.
 """
 
 from __future__ import annotations
@@ -320,14 +321,17 @@ def required_factors(safety) -> dict:
     return {words: {"value": float(getattr(safety, factor)), "unit": unit} for _, factor, words, unit in FACTORS}
 
 
-def verdict_so_far(scene: Scene, events: np.ndarray, outcomes: np.ndarray, t: float) -> tuple[str, list[dict]]:
+def verdict_so_far(scene: Scene, events: np.ndarray, outcomes: np.ndarray, t: float, record=None,
+                   times=None) -> tuple[str, list[dict]]:
     """The preview's running verdict at time t, and why it is marginal so far.
 
     The same rule as the beat's verdict, applied as the beat unfolds: a failure
     counts from the moment it happens; an action's margins count once it has
     ended (its minima are over the whole action, so judging it earlier would
-    show a shortfall before it happened). At the end of the beat this is the
-    beat's verdict. `because`: the shortfalls of the finished marginal actions.
+    show a shortfall before it happened). Given the run's `record` and `times`,
+    the action under way is marginal from the step one of the margins the record
+    carries at every step falls short (running_shortfalls). At the end of the beat
+    this is the beat's verdict. `because`: the shortfalls of the marginal actions.
     """
     codes = action_codes(scene, events[None], outcomes[None], until=t)[0]
     first = float(first_failure_time(events[None])[0])
@@ -339,4 +343,39 @@ def verdict_so_far(scene: Scene, events: np.ndarray, outcomes: np.ndarray, t: fl
         return NAMES[FAILS], []
     because = [dict(s, action=scene.actions[a].label) for a in np.flatnonzero(codes == MARGINAL)
                for s in shortfalls(scene.safety, outcomes[a]) + arrest_shortfall(scene, events, int(a))]
+    if record is not None:
+        under_way = [a for a in range(len(scene.actions)) if not finished[a] and scene.actions[a].start <= t]
+        for a in under_way:
+            short = running_shortfalls(scene, record, times, scene.actions[a].start, t)
+            if short:
+                codes[a] = max(codes[a], MARGINAL)
+                because += [dict(s, action=scene.actions[a].label) for s in short]
     return NAMES[int(codes.max()) if codes.size else HOLDS], because
+
+
+# The margins the record carries at every step on the roof, as the action's minima take them:
+# (words, required factor, unit).
+RUNNING = (("grip ratio", "grip_ratio", ""), ("balance margin", "balance_margin", "m"),
+           ("side-edge margin", "edge_margin", "m"))
+
+
+def running_shortfalls(scene: Scene, record: np.ndarray, times: np.ndarray, start: float, t: float) -> list[dict]:
+    """The margins of the action that began at `start` that have fallen short of their required factors by
+    time t, as `shortfalls` gives them: the grip ratio, the balance margin (the smaller of along and
+    across the track) and the side-edge margin, from the record's steps (the steps the action's own
+    minima are taken from, up to the first failure)."""
+    steps = record[(times >= start - 1e-9) & (times <= t + 1e-9)]
+    if steps.size == 0:
+        return []
+    demand = steps["grip_demand"]
+    with np.errstate(divide="ignore", invalid="ignore"):
+        grip = np.where(demand > 1e-12, steps["grip_available"] / demand, np.nan)
+    balance = np.fmin(steps["balance_margin"], steps["frontal_margin"])
+    out = []
+    for values, (words, factor, unit) in zip((grip, balance, steps["edge_margin"]), RUNNING):
+        if not np.isfinite(values).any():
+            continue
+        value, required = float(np.nanmin(values)), float(getattr(scene.safety, factor))
+        if value < required:
+            out.append({"margin": words, "value": value, "required": required, "unit": unit})
+    return out

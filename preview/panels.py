@@ -237,15 +237,16 @@ def readout_rows(playback, t: float, view) -> tuple[list, tuple, list]:
 
 
 def running_verdict(playback, t: float) -> tuple[str, list[dict]]:
-    """physics.verdict.verdict_so_far at time t; with two performers the worse of the two, each judged with
-    its own scene (Scene.cast) and its own run, the shortfalls' actions named with the performer's name."""
+    """physics.verdict.verdict_so_far at time t (the action under way judged on its record so far); with two
+    performers the worse of the two, each judged with its own scene (Scene.cast) and its own run, the
+    shortfalls' actions named with the performer's name."""
     tr = playback.trajectory
     scene = tr.scene
     if not scene.pair:
-        return verdict_so_far(scene, tr.events, tr.outcomes, t)
+        return verdict_so_far(scene, tr.events, tr.outcomes, t, tr.record, tr.times)
     worst, because = "holds", []
     for part, run in zip(scene.cast, (tr,) + tuple(tr.partners)):
-        name, why = verdict_so_far(part, run.events, run.outcomes, t)
+        name, why = verdict_so_far(part, run.events, run.outcomes, t, run.record, run.times)
         worst = max(worst, name, key=VERDICT_ORDER.index)
         because += [dict(b, action=f"{part.name}, {b['action']}") for b in why]
     return worst, because

@@ -218,6 +218,33 @@ def test_running_verdict_judges_an_action_when_it_ends_and_says_why():
     assert final == pb.summary["verdict"]
 
 
+@pytest.mark.parametrize("name", ["airfield_flatbed", "roof_fight_shove", "grab_saves_slip"])
+def test_running_margins_at_an_actions_end_are_its_own_minima(name):
+    # The running verdict judges the action under way on the record's steps; at the action's end those
+    # steps give the same minima the verdict takes from the engine's outcome of the action (before the
+    # first failure), so the running verdict never disagrees with the action's own once it ends.
+    from physics.verdict import first_failure_time, running_shortfalls
+    pb = make_playback(load_scene(REPO / "scenes" / f"{name}.toml"))
+    runs = (pb.trajectory,) + pb.trajectory.partners
+    checked = 0
+    for run in runs:
+        scene, out = run.scene, run.outcomes
+        first = float(first_failure_time(run.events[None])[0])
+        for a, action in enumerate(scene.actions):
+            if math.isfinite(first) and action.end > first:
+                break
+            strict = dataclasses.replace(scene.safety, grip_ratio=math.inf, balance_margin=math.inf,
+                                         edge_margin=math.inf)   # every value "short": all three reported
+            short = {s["margin"]: s["value"] for s in running_shortfalls(
+                dataclasses.replace(scene, safety=strict), run.record, run.times, action.start, action.end - 1e-6)}
+            for words, field in (("grip ratio", "grip_ratio_min"), ("balance margin", "balance_margin_min"),
+                                 ("side-edge margin", "edge_margin_min")):
+                if math.isfinite(out[a][field]):
+                    assert short[words] == pytest.approx(float(out[a][field]), rel=1e-6), (name, a, words)
+                    checked += 1
+    assert checked >= 6
+
+
 def test_readout_clearance_is_the_engines_clearance(playbacks):
     # The readout's overhead clearance, from the recorded pose, over the duck equals the engine's minimum.
     pb = playbacks["footbridge_duck"]

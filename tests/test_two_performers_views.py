@@ -227,12 +227,23 @@ def test_running_verdict_is_the_worse_of_each_performer_judged_on_its_own(pair, 
     for pb in (pair, fast_pair):
         scene, tr = pb.scene, pb.trajectory
         for t in (0.5, SHOVE, 3.0, scene.duration):
-            each = [verdict_so_far(part, run.events, run.outcomes, t)[0]
+            each = [verdict_so_far(part, run.events, run.outcomes, t, run.record, run.times)[0]
                     for part, run in zip(scene.cast, (tr,) + tr.partners)]
             name, _ = panels.running_verdict(pb, t)
             assert name == max(each, key=panels.VERDICT_ORDER.index)
         assert panels.running_verdict(pb, scene.duration)[0] == pb.summary["verdict"]
     assert fast_pair.summary["verdict"] == "fails"
+
+
+def test_running_verdict_is_marginal_while_the_shove_takes_a_margin_below_its_factor(pair):
+    # During Dana's shove her balance margin is already below 0.03 m: the running verdict says so then,
+    # not only when the action ends (it once showed a green HOLDS beside a negative balance margin).
+    dana = pair.trajectory
+    k = dana.index_at(SHOVE)
+    assert np.nanmin(np.fmin(dana.record["balance_margin"], dana.record["frontal_margin"])[:k + 1]) < 0.03
+    name, because = panels.running_verdict(pair, SHOVE)
+    assert name == "marginal" and any(b["margin"] == "balance margin" for b in because)
+    assert panels.running_verdict(pair, QUIET)[0] == "holds"
 
 
 def test_each_performer_failure_marker_is_labelled_with_its_name(fast_pair):
