@@ -188,7 +188,7 @@ def interaction_rows(interactions: list[dict], system: str) -> list[dict]:
             hold = (f"LET GO at {it['let_go_s']:.2f} s (breaking force "
                     f"{display(it['breaking_force_n'], 'force', system, '.0f')})")
         elif it["reached"]:
-            hold = f"kept hold (breaks at {display(it['breaking_force_n'], 'force', system, '.0f')})"
+            hold = f"unbroken (breaks at {display(it['breaking_force_n'], 'force', system, '.0f')})"
         else:
             hold = "never took hold"
         rows.append({"who": it["actor"], "did": it["kind"], "to": it["partner"],

@@ -263,8 +263,8 @@ def test_a_pair_duck_is_searched_in_its_own_performers_actions():
 
 def test_grab_check_reads_a_slip_as_a_slip_and_gives_each_margin_its_unit(capsys):
     # Rae's slip: the grip she needed passes the roof's by less than 0.0005, which three decimals showed
-    # as a tie ("needed 0.600, roof gives 0.600"); the hold did not break and says so
-    # without 'held', which read as if the partner were held safe.
+    # as a tie ("needed 0.600, roof gives 0.600"); the hold did not break and says only that: 'held' and
+    # 'kept hold' read as if the partner were safe (a catch "kept hold" of a flyer who fell into the gap).
     from physics.verdict import apart
     assert apart(0.6004, 0.6) == ("0.6004", "0.6000") and apart(0.61, 0.6) == ("0.610", "0.600")
     assert main(["check", str(REPO / "scenes" / "grab_saves_slip.toml")]) == 0   # exit 0: it ran
@@ -274,7 +274,7 @@ def test_grab_check_reads_a_slip_as_a_slip_and_gives_each_margin_its_unit(capsys
     assert float(need) > float(have)
     assert "side edge 0.89 m; balance across the track 0.20 m" in out
     assert "rise into the …" in out and "rise into the w " not in out
-    assert "kept hold (breaks at 900 N)" in out
+    assert "unbroken (breaks at 900 N)" in out
 
 
 def test_key_frames_follow_the_performer_nearer_failing_and_name_them():
