@@ -35,12 +35,9 @@ def _in_pair(scene: Scene, who: int, index: int, start: float) -> Scene:
     """The pair beat with performer `who`'s duck `index` starting at `start`, the rest of its actions
     kept (the two timelines must stay as long as each other); the first performer's scene carries the cast."""
     part = scene.cast[who]
-    actions = list(part.actions)
-    before, duck = actions[index - 1], actions[index]
-    actions[index - 1] = dataclasses.replace(before, duration=start - before.start)
-    actions[index] = dataclasses.replace(duck, start=start, duration=duck.end - start)
+    shifted = _shifted(part, index, start).actions + part.actions[index + 1:]
     cast = list(scene.cast)
-    cast[who] = dataclasses.replace(part, actions=tuple(actions))
+    cast[who] = dataclasses.replace(part, actions=shifted)
     return dataclasses.replace(cast[0], cast=tuple(cast), interactions=scene.interactions)
 
 

@@ -23,8 +23,9 @@ import numpy as np
 from physics.air import wind_vector
 from physics.scene import Scene
 from physics.scene_load import LIMITS
-from physics.sweep import (SweepError, _run, base_value, first_failures, free_stream, limits, pair_words,
-                           performer_verdicts, sweep_1d)
+from physics.roof_air import without_roof_air
+from physics.sweep import (SweepError, _run, base_value, first_failures, limits, pair_words, performer_verdicts,
+                           sweep_1d)
 from physics.verdict import FACTORS, NAMES, shortfalls, verdict_codes
 
 # The first rung: walking pace, 5 km/h (common practice, no source: build up from a walk).
@@ -71,7 +72,7 @@ def build_ladder(scene: Scene, rungs: int = 5) -> dict:
             rows[-1]["performers"] = {name: NAMES[codes_of[i]] for name, codes_of in each.items()}
     if scene.air.roof_flow is not None:
         # Each rung's verdict with the free stream at every height beside the profile's (the bound).
-        uniform = free_stream(scene)
+        uniform = without_roof_air(scene)
         bound = _run(uniform, "speed", speeds)
         for row, code in zip(rows, verdict_codes(uniform, bound.events, bound.outcomes)):
             row["uniform_air_verdict"] = NAMES[code]
@@ -121,7 +122,7 @@ def abort_limits(scene: Scene) -> dict:
     if scene.air.roof_flow is not None:
         # The air over the roof's coefficients are soft: the same limits with the free stream at every
         # height (the bound) stand beside them.
-        bound = abort_limits(free_stream(scene))
+        bound = abort_limits(without_roof_air(scene))
         out["uniform_air"] = {name: bound[name]["holds_with_factors"] for name in ("speed", "wind_speed")}
     return out
 

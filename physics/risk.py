@@ -75,11 +75,6 @@ def sample_variants(scene: Scene, samples: int, seed: int) -> tuple[Variants, di
     """
     rng = np.random.default_rng(seed)
     v = variants(scene, samples)
-    if scene.pair:
-        own = sorted(k for k, spread in scene.uncertain.items() if spread > 0 and k in PER_PERFORMER)
-        if own:
-            raise ValueError(f"a spread on {', '.join(own)} is one performer's; with two performers roofbeat "
-                             "draws only the beat's values (speed, wind, roof friction)")
     inputs = {}
     for key, spread in sorted(scene.uncertain.items()):
         if spread <= 0:
@@ -102,8 +97,6 @@ def sample_variants(scene: Scene, samples: int, seed: int) -> tuple[Variants, di
         v.params["turbulence_seed"] = scene.air.turbulence.seed + np.arange(samples) * 7919
     return v, inputs
 
-
-PER_PERFORMER = ("mass", "drag_area", "reaction_time", "effort")
 
 # Per-sample minima kept from each batch (the rest of a batch's events and outcomes is let go).
 SUMMARY_MARGINS = {"grip_ratio_min": "grip_ratio_min", "balance_margin_min_m": "balance_margin_min",

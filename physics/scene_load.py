@@ -710,7 +710,7 @@ def _actions(raw: dict, r: _Reader, cars: list[Car], performer: Performer | None
              pair: bool = False) -> list[Action]:
     """The actions of one performer (`where`: "" for [[actions]], else the performer's key path); with two
     performers (`pair`) an action may be an interaction with the other (INTERACTION_KINDS), whose own
-    keys are kept in Action.raw_interaction for _interactions."""
+    keys _interactions reads from the same items."""
     actions, t = [], 0.0
     kinds = ACTION_KINDS + (INTERACTION_KINDS if pair else ())
     for path, item in r.items(raw, "actions", where):
@@ -719,7 +719,7 @@ def _actions(raw: dict, r: _Reader, cars: list[Car], performer: Performer | None
                                "takeoff_car", "takeoff_position", "takeoff_from", "takeoff_speed",
                                "takeoff_angle", "air_posture", "landing_car", "run_up_speed", "angle")
                   + (INTERACTION_KEYS if interacting else ()))
-        if not pair and item.get("do") in INTERACTION_KINDS:
+        if interacting and not pair:
             r.fail(f"{path}.do", f"{item['do']!r} needs a partner: give two performers under [[performers]], "
                                  "each with a name")
             continue

@@ -404,12 +404,15 @@ def _call(entry, count: int, args, chunks: int) -> None:
 @dataclass(frozen=True)
 class PairRun:
     """What a run of two performers gives: per performer (cast order) its events (B, kinds) and
-    outcomes (B, its actions) and, recorded, its record; and what each interaction did (B, links)."""
+    outcomes (B, its actions) and, recorded, its record; what each interaction did (B, links); the
+    kernel's rows (pair_params) and each performer's timeline."""
 
     events: tuple
     outcomes: tuple
     records: tuple
     links: np.ndarray
+    rows: "Variants" = None
+    timelines: tuple = ()
 
 
 def pair_params(scene: Scene, v: Variants) -> Variants:
@@ -429,7 +432,7 @@ PERFORMER_FIELDS = ("mass", "drag_scale", "reaction_time", "max_lean", "recovery
 def run_pair(scene: Scene, v: Variants, recorded: bool, chunks: int = 1) -> PairRun:
     """Run the two performers of `scene` for every variant of v, together (driver.run_pairs)."""
     ta, ia = prepare(scene.cast[0])
-    ib = prepare(scene.cast[1])[1]
+    tb, ib = prepare(scene.cast[1])
     rows = pair_params(scene, v)
     params, roof_scale = rows.params, rows.roof_scale
     count = len(v)
@@ -448,7 +451,7 @@ def run_pair(scene: Scene, v: Variants, recorded: bool, chunks: int = 1) -> Pair
     _call(driver.run_pairs, count, args, chunks)
     counts = [len(c.actions) for c in scene.cast]
     return PairRun((events[0::2], events[1::2]), (outcomes[0::2, :counts[0]], outcomes[1::2, :counts[1]]),
-                   (record_a, record_b), link_out)
+                   (record_a, record_b), link_out, rows, (ta, tb))
 
 
 def simulate(scene: Scene, variant: Variants | None = None) -> Trajectory:
@@ -458,9 +461,8 @@ def simulate(scene: Scene, variant: Variants | None = None) -> Trajectory:
     v = variants(scene) if variant is None else variant.row(0)
     if scene.pair:
         run = run_pair(scene, v, recorded=True)
-        second = scene.cast[1]
-        other = Trajectory(second, prepare(second)[0], run.records[1], run.events[1][0], run.outcomes[1][0],
-                           Variants(pair_params(scene, v).params[1:2], v.roof_scale), tethers=empty_tether_out(1, 0)[0],
+        other = Trajectory(scene.cast[1], run.timelines[1], run.records[1], run.events[1][0], run.outcomes[1][0],
+                           Variants(run.rows.params[1:2], v.roof_scale), tethers=empty_tether_out(1, 0)[0],
                            links=run.links[0])
         return Trajectory(scene, timeline, run.records[0], run.events[0][0], run.outcomes[0][0], v,
                           tethers=empty_tether_out(1, 0)[0], partners=(other,), links=run.links[0])
@@ -486,10 +488,10 @@ def simulate_batch(scene: Scene, v: Variants, once: bool = False) -> BatchResult
 def pair_batch(scene: Scene, v: Variants) -> BatchResult:
     """A batch of a two-performer beat, read as one beat (physics.verdict.beat_actions): each event the
     earlier of the two performers' and the actions of both, the first performer's then the second's,
-    so a verdict is the worse of the two and a margin the smaller. `pairs` keeps each one's own."""
+    so a verdict is the worse of the two and a margin the smaller. `pair` keeps each one's own."""
     run = run_pair(scene, v, recorded=False, chunks=4 * _threads())
     events = run.events[0].copy()
     later = np.isnan(events["time"]) | (run.events[1]["time"] < events["time"])
     events[later] = run.events[1][later]
     outcomes = np.concatenate(run.outcomes, axis=1)
-    return BatchResult(events, outcomes, v, prepare(scene.cast[0])[0].size, empty_tether_out(len(v), 0), pair=run)
+    return BatchResult(events, outcomes, v, run.timelines[0].size, empty_tether_out(len(v), 0), pair=run)

@@ -72,13 +72,6 @@ def pair_words(scene: Scene) -> str:
     return f"worse of {scene.cast[0].name} and {scene.cast[1].name}" if scene.pair else ""
 
 
-def free_stream(scene: Scene) -> Scene:
-    """The scene with the air over the roof off (roof_air.without_roof_air), for each performer of a
-    pair too: the pair runs from its cast's own scenes."""
-    from physics.roof_air import without_roof_air
-    return without_roof_air(scene)
-
-
 def base_value(scene: Scene, name: str) -> float:
     """The scene's own value of a sweep parameter (SI)."""
     if scene.pair and name in PER_PERFORMER:

@@ -354,9 +354,9 @@ def verdict_so_far(scene: Scene, events: np.ndarray, outcomes: np.ndarray, t: fl
 
 
 # The margins the record carries at every step on the roof, as the action's minima take them:
-# (words, required factor, unit).
-RUNNING = (("grip ratio", "grip_ratio", ""), ("balance margin", "balance_margin", "m"),
-           ("side-edge margin", "edge_margin", "m"))
+# (words, required factor, unit), in FACTORS' order.
+RUNNING = tuple((words, factor, unit) for _, factor, words, unit in FACTORS
+                if factor in ("grip_ratio", "balance_margin", "edge_margin"))
 
 
 def running_shortfalls(scene: Scene, record: np.ndarray, times: np.ndarray, start: float, t: float) -> list[dict]:

@@ -176,8 +176,9 @@ def cmd_envelope(args) -> int:
     summary = envelope_summary(scene, sweep)
     if scene.air.roof_flow is not None:
         # The air over the roof's coefficients are soft: the limit with the free stream at every height beside it.
-        from physics.sweep import free_stream, limits
-        bound = limits(sweep_1d(free_stream(scene), *varies[0], points=args.points))[0]
+        from physics.roof_air import without_roof_air
+        from physics.sweep import limits
+        bound = limits(sweep_1d(without_roof_air(scene), *varies[0], points=args.points))[0]
         summary["uniform_air"] = {summary["parameter"]: bound.value}
     print(json.dumps(summary, indent=2) if args.json else envelope_text(scene, summary))
     if args.plot:

@@ -391,7 +391,6 @@ def _header(page: Page, scene, content, subtitle: str) -> None:
 
 def _page_one(page: Page, scene, content, sweep, sweep_summary):
     """The decision page; returns the sweep when its plot did not fit here (it then gets a page)."""
-    system = scene.units
     _header(page, scene, content, "safety meeting brief")
     for name, value in key_numbers(scene):
         page.text(MARGIN_IN, name, BODY, "bold")
@@ -409,6 +408,31 @@ def _page_one(page: Page, scene, content, sweep, sweep_summary):
         page.rule()
     _actions_table(page, scene, content)
     page.rule()
+    _what_happens(page, scene, content)
+    page.rule()
+    if sweep is not None:
+        room = page.y - MARGIN_IN - 0.4 - CLOSING_IN
+        if room >= MIN_PLOT_IN:
+            _envelope(page, scene, sweep, sweep_summary, min(room, 2.8))
+            sweep = None
+            page.rule()
+    if page.y - CLOSING_DRAWN_IN < FOOTER_CLEAR_IN:
+        # No room left for the checklist and the sign-off (two performers fill the page): the caution stays
+        # here, they go on a page of their own right after this one.
+        page.heading("caution")
+        page.para(CAUTION)
+        page.para("The crew checklist and the sign-off lines are on the next page.", BODY, "bold")
+        content["closing_page"] = 2
+        return sweep
+    _closing(page, content)
+    return sweep
+
+
+
+def _what_happens(page: Page, scene, content) -> None:
+    """Page one's account of the beat: the first failure and what followed, the wind, the top speeds,
+    ducks, other failures, rigging over its limits, the facts of the beat and what is not modelled."""
+    system = scene.units
     page.heading("what happens")
     first = content["first_failure"]
     if first:
@@ -483,24 +507,6 @@ def _page_one(page: Page, scene, content, sweep, sweep_summary):
     if scene_has_spreads(scene):
         page.para("This scene states uncertainties (+/-): the verdict above is the central run; "
                   "`roofbeat risk` gives the share of runs that fail.", color=SOFT)
-    page.rule()
-    if sweep is not None:
-        room = page.y - MARGIN_IN - 0.4 - CLOSING_IN
-        if room >= MIN_PLOT_IN:
-            _envelope(page, scene, sweep, sweep_summary, min(room, 2.8))
-            sweep = None
-            page.rule()
-    if page.y - CLOSING_DRAWN_IN < FOOTER_CLEAR_IN:
-        # No room left for the checklist and the sign-off (two performers fill the page): the caution stays
-        # here, they go on a page of their own right after this one.
-        page.heading("caution")
-        page.para(CAUTION)
-        page.para("The crew checklist and the sign-off lines are on the next page.", BODY, "bold")
-        content["closing_page"] = 2
-        return sweep
-    _closing(page, content)
-    return sweep
-
 
 def _who(row: dict) -> str:
     """'Eli: ' before an event of one of two performers; '' for one performer."""

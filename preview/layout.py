@@ -62,23 +62,25 @@ class Layout:
         """The first free candidate top-left (x, y) for a w x h box inside `area`, else the free place nearest
         the first, else the least covered; reserved. `optional`: None instead of a covered place (a label
         the picture can do without)."""
-        best, best_cover = None, None
+        candidates = list(candidates)
+        box = self.free_place(w, h, candidates, area)
+        if box is None:
+            if optional:
+                return None
+            boxes = [Box(x, y, w, h).clamped(area) for x, y in candidates] or [Box(area.x, area.y, w, h)]
+            box = min(boxes, key=lambda b: sum(b.overlap(t) for t in self.taken))   # the least covered
+        return self.reserve(box)
+
+    def free_place(self, w: float, h: float, candidates, area: Box) -> Box | None:
+        """Where `place` puts a w x h box when it finds a free place: the first free candidate, else the free
+        place nearest the first one; None when there is none. Nothing is reserved."""
         candidates = list(candidates)
         for x, y in candidates:
             box = Box(x, y, w, h).clamped(area)
-            cover = sum(box.overlap(t) for t in self.taken)
-            if cover == 0:
-                return self.reserve(box)
-            if best is None or cover < best_cover:
-                best, best_cover = box, cover
-        # None of the wished-for places is free: the free place nearest the first one, if any.
+            if self.free(box):
+                return box
         x0, y0 = candidates[0] if candidates else (area.x, area.y)
-        nearest = self.nearest_free(w, h, area, x0, y0)
-        if nearest is not None:
-            return self.reserve(nearest)
-        if optional:
-            return None
-        return self.reserve(best if best is not None else Box(area.x, area.y, w, h))
+        return self.nearest_free(w, h, area, x0, y0)
 
     def nearest_free(self, w: float, h: float, area: Box, x0: float, y0: float, step: float = 12.0):
         """The free w x h box nearest (x0, y0) on a grid of `step` px over `area`, or None: every grid

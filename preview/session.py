@@ -117,11 +117,11 @@ def uniform_air_verdict(scene, variant=None) -> dict | None:
     """With the air over the roof on: the same beat with the free stream at every height, the bound the
     profile's coefficients (from memory, or fitted to one published band) relax; None when it is off."""
     from physics.simulation import simulate
-    from physics.sweep import free_stream
+    from physics.roof_air import without_roof_air
     from physics.verdict import beat_summary
     if scene.air.roof_flow is None:
         return None
-    uniform = free_stream(scene)
+    uniform = without_roof_air(scene)
     s = beat_summary(simulate(uniform, variant))
     first = s["first_failure"]
     return {"verdict": s["verdict"], "first_failure": first["kind"] if first else None,

@@ -749,7 +749,7 @@ def draw_failure_callout(canvas, failure: dict, px: float, py: float, layout, ar
         return spots
 
     width, h = min(area.w - 12, max(lw, dw) + 16), lh + dh + 12
-    if not compact and free_spot(layout, width, h, spots_for(width, h), area) is None:
+    if not compact and layout.free_place(width, h, spots_for(width, h), area) is None:
         compact = True   # no free place for the numbers too: the kind and time (the readout says the numbers)
     if compact:
         width, h = min(area.w - 12, lw + 16), lh + 8
@@ -768,16 +768,6 @@ def draw_failure_callout(canvas, failure: dict, px: float, py: float, layout, ar
     canvas.text((box.x + 8, box.y + 4), fit(label, ts + 3, box.w - 16, bold=True), FAILURE, ts + 3, bold=True)
     if not compact:
         canvas.text((box.x + 8, box.y + 6 + lh), detail, INK, ts)
-
-
-def free_spot(layout, w: float, h: float, spots, area: Box) -> Box | None:
-    """Where Layout.place would put a w x h box among `spots` when that place is free, else None (nothing
-    reserved)."""
-    for x, y in spots:
-        box = Box(x, y, w, h).clamped(area)
-        if layout.free(box):
-            return box
-    return layout.nearest_free(w, h, area, *spots[0])
 
 
 def draw_failure_pointer(canvas, label: str, px: float, py: float, cam: Camera, layout, area: Box,

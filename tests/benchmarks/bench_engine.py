@@ -147,39 +147,22 @@ def bench_batch_roof_air(n=20_000):
           f"off {rates['off'] / 1e6:.2f}: on/off = {rates['on'] / rates['off']:.2f}")
 
 
+def _bench_performer(name, stature, mass, facing, position, action):
+    """One [[performers]] block of the pair bench, doing `action` through the whole 20 s."""
+    return (f'[[performers]]\nname = "{name}"\nstature = "{stature}"\nmass = "{mass}"\nfacing = "{facing}"\n'
+            f'recovery_step = "0.5 m"\nstart = {{ car = 1, position = "{position}" }}\n'
+            f'[[performers.actions]]\n{action}\nduration = "20 s"\ntransition = "0 s"\n')
+
+
 def bench_batch_pair(n=10_000):
     """A two-performer beat (a steady push between them through the whole beat) beside the same beat with
     one performer, this run: performer-steps per second per core of each."""
     s1 = scene()
     text = scene_text(speed="60 km/h", body="segmented", actions=TWENTY_SECONDS, wind="4 m/s")
     head = text[:text.index("[performer]")]
-    pair = head + """
-[[performers]]
-name = "A"
-stature = "1.8 m"
-mass = "80 kg"
-recovery_step = "0.5 m"
-start = { car = 1, position = "10 m" }
-[[performers.actions]]
-do = "brace"
-duration = "20 s"
-transition = "0 s"
-[[performers]]
-name = "B"
-stature = "1.7 m"
-mass = "70 kg"
-facing = "rear"
-recovery_step = "0.5 m"
-start = { car = 1, position = "10.6 m" }
-[[performers.actions]]
-do = "shove"
-partner = "A"
-shape = "steady"
-force = "40 N"
-posture = "brace"
-duration = "20 s"
-transition = "0 s"
-"""
+    pair = head + _bench_performer("A", "1.8 m", "80 kg", "front", "10 m", 'do = "brace"') + _bench_performer(
+        "B", "1.7 m", "70 kg", "rear", "10.6 m",
+        'do = "shove"\npartner = "A"\nshape = "steady"\nforce = "40 N"\nposture = "brace"')
     s2 = parse_scene(pair, "<bench pair>")
     rates = {}
     for name, sc, per in (("one", s1, 1), ("two", s2, 2)):
