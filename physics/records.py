@@ -238,13 +238,13 @@ LINK = np.dtype([
 # Per variant pair and link: what the interaction did.
 LINK_OUT = np.dtype([
     ("engaged", "f8"),            # first time the hands were on the partner, s (NaN: never within reach)
-    ("rest", "f8"),               # HOLD, CATCH: the hold's length (when it closed; a catch's shortens as it gathers), m
+    ("rest", "f8"),               # HOLD, CATCH: the hold's length, m (a catch's shortens as it gathers)
     ("released", "f8"),           # when it ended: out of reach, let go, or the window closed, s (NaN: never)
     ("lost", "f8"),               # when a hold passed its breaking force, s (NaN: it held)
     ("peak", "f8"),               # largest force between them, N
     ("impulse", "f8"),            # the impulse it gave the partner, magnitude of the integral of the force, N s
     ("ix", "f8"), ("iy", "f8"), ("iz", "f8"),   # its components, N s (car axes)
-    ("gx", "f8"), ("gy", "f8"), ("gz", "f8"),   # CATCH: the flyer's offset from the catcher when gathered, m (NaN before)
+    ("gx", "f8"), ("gy", "f8"), ("gz", "f8"),   # CATCH: the flyer's offset when gathered, m (NaN before)
     ("ox", "f8"), ("oy", "f8"), ("oz", "f8"),   # HOLD, CATCH: the partner's offset from the actor last step, m
 ])
 

@@ -458,8 +458,8 @@ def _interaction(item: dict, path: str, r: _Reader, action: Action, index: int, 
                                       "contact = true for a contact punch")
     if None in (force, shape, direction, up, reach, breaking, stiffness, damping):
         return None
-    return Interaction(kind, actor, partner, index, start, end, force, shape == "steady", direction, up, reach, breaking,
-                       stiffness, damping, impulse, contact)
+    return Interaction(kind, actor, partner, index, start, end, force, shape == "steady", direction, up, reach,
+                       breaking, stiffness, damping, impulse, contact)
 
 
 MAX_ACTIONS = 200

@@ -35,8 +35,8 @@ speed = "{speed} km/h"
 
 def performer(name, position, actions, mass=80, facing="front", lumped=False):
     body = 'body = "lumped"\ndrag_area = "0.7 m^2"\n' if lumped else 'drag_area = "0.7 m^2"\n'
-    text = (f'[[performers]]\nname = "{name}"\nstature = "1.8 m"\nmass = "{mass} kg"\n{body}facing = "{facing}"\nrecovery_step = "0.5 m"\n'
-            f'start = {{ car = 1, position = "{position} m", from = "front" }}\n')
+    text = (f'[[performers]]\nname = "{name}"\nstature = "1.8 m"\nmass = "{mass} kg"\n{body}facing = "{facing}"\n'
+            f'recovery_step = "0.5 m"\nstart = {{ car = 1, position = "{position} m", from = "front" }}\n')
     for a in actions:
         text += "[[performers.actions]]\n" + "".join(
             f"{k} = {str(v).lower() if isinstance(v, bool) else repr(v)}\n".replace("'", '"') for k, v in a.items())
@@ -149,8 +149,9 @@ def test_a_body_that_rolls_onto_its_side_while_sliding_is_down():
     # once drawn lying while her record said "stopped on the roof", on her feet).
     from physics.aftermath import phases
     text = (REPO / "scenes" / "grab_saves_slip.toml").read_text()
-    for old, new in (('speed = "116 km/h"', 'speed = "114 km/h"'), ('position = "4.6 m", from = "rear", offset = "0 m"',
-                                                                    'position = "3.9 m", from = "rear", offset = "-0.3 m"'),
+    for old, new in (('speed = "116 km/h"', 'speed = "114 km/h"'),
+                     ('position = "4.6 m", from = "rear", offset = "0 m"',
+                      'position = "3.9 m", from = "rear", offset = "-0.3 m"'),
                      ('facing = "rear"', 'facing = "front"'), ('posture = "crouch"', 'posture = "brace"')):
         assert old in text
         text = text.replace(old, new)
@@ -239,8 +240,8 @@ def test_bad_interactions_name_the_key(edit, path, words):
 
 
 def test_an_interaction_needs_two_performers_and_names_are_unique():
-    one = HEAD.format(speed=0) + '[performer]\nstature = "1.8 m"\nmass = "80 kg"\n[start]\ncar = 1\nposition = "5 m"\n' \
-        '[[actions]]\ndo = "shove"\npartner = "X"\nduration = "1 s"\n'
+    one = (HEAD.format(speed=0) + '[performer]\nstature = "1.8 m"\nmass = "80 kg"\n[start]\ncar = 1\n'
+           'position = "5 m"\n[[actions]]\ndo = "shove"\npartner = "X"\nduration = "1 s"\n')
     with pytest.raises(SceneError) as err:
         parse_scene(one, "one.toml")
     assert "actions[1].do" in err.value.render() and "partner" in err.value.render()

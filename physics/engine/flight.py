@@ -119,8 +119,8 @@ def rk4_tethered(fl, posture, speed0, speed1, accel, accel_y, wind_x, wind_y, dr
                                 wind_x, wind_y, drag, mass, tethers, tout, flow, push)
     k2x, k2y, k2z = stage_accel(posture, fl.lean, fl.x + 0.5 * dt * fl.vx, fl.y + 0.5 * dt * fl.vy,
                                 fl.z + 0.5 * dt * fl.vz, fl.vx + 0.5 * dt * k1x, fl.vy + 0.5 * dt * k1y,
-                                fl.vz + 0.5 * dt * k1z, mid, accel, accel_y, wind_x, wind_y, drag, mass, tethers, tout, flow,
-                                push)
+                                fl.vz + 0.5 * dt * k1z, mid, accel, accel_y, wind_x, wind_y, drag, mass, tethers, tout,
+                                flow, push)
     k3x, k3y, k3z = stage_accel(posture, fl.lean, fl.x + 0.5 * dt * (fl.vx + 0.5 * dt * k1x),
                                 fl.y + 0.5 * dt * (fl.vy + 0.5 * dt * k1y), fl.z + 0.5 * dt * (fl.vz + 0.5 * dt * k1z),
                                 fl.vx + 0.5 * dt * k2x, fl.vy + 0.5 * dt * k2y, fl.vz + 0.5 * dt * k2z, mid, accel,
